@@ -80,7 +80,7 @@ func NormalUpperQuantile(q float64) float64 {
 // tTailArg returns x = ν/(ν+t²), formed without cancellation.
 func tTailArg(t, df float64) float64 {
 	if math.Abs(t) > 1e150 {
-		return df / (t * t) // t² overflows otherwise; ν is negligible
+		return df / t / t // t² overflows otherwise; ν is negligible
 	}
 	return df / (df + t*t)
 }
@@ -151,9 +151,9 @@ func LogTUpper(t, df float64) float64 {
 	if p > 1e-280 {
 		return math.Log(p)
 	}
-	// log I_x(ν/2, 1/2) with x = ν/(ν+t²) in log space.
-	logx := math.Log(df) - 2*math.Log(t) - math.Log1p(df/(t*t))
-	return logIncBetaSmall(0.5*df, 0.5, logx) - math.Ln2
+	// log I_x(ν/2, 1/2) with x = ν/(ν+t²), 1-x = t²/(ν+t²), in log space.
+	ls := logSumSq(df, t)
+	return logIncBetaCF(0.5*df, 0.5, math.Log(df)-ls, 2*math.Log(t)-ls) - math.Ln2
 }
 
 // TQuantile returns t such that P(T <= t) = p for Student's t with df
@@ -197,15 +197,78 @@ func TUpperQuantile(q, df float64) float64 {
 	case q > 0.5:
 		return -TUpperQuantile(1-q, df)
 	}
-	// P(T > t) = I_x(ν/2, 1/2)/2 with x = ν/(ν+t²)  =>  t = sqrt(ν(1-x)/x).
-	x := mathext.InvRegIncBeta(0.5*df, 0.5, 2*q)
+	t := tQuantileStart(q, df)
+	return tNewton(t, q, df)
+}
+
+// tQuantileStart returns a starting value for TUpperQuantile: the
+// Cornish-Fisher expansion about the normal quantile for large ν
+// (Abramowitz & Stegun 1964, 26.7.5), otherwise the inverse incomplete beta
+// function, and for tails so small that x = ν/(ν+t²) underflows the leading
+// term of the series I_x(a,1/2) ≈ x^a/(a B(a,1/2)).
+func tQuantileStart(q, df float64) float64 {
+	if df >= 200 {
+		z := NormalUpperQuantile(q)
+		z2 := z * z
+		g1 := (z2 + 1) * z / 4
+		g2 := ((5*z2+16)*z2 + 3) * z / 96
+		g3 := (((3*z2+19)*z2+17)*z2 - 15) * z / 384
+		g4 := ((((79*z2+776)*z2+1482)*z2-1920)*z2 - 945) * z / 92160
+		return z + (g1+(g2+(g3+g4/df)/df)/df)/df
+	}
+	a := 0.5 * df
+	logx := (math.Log(2*q) + math.Log(a) + logBeta(a, 0.5)) / a
+	if logx < -600 || math.IsInf(logx, -1) {
+		return math.Exp(0.5 * (math.Log(df) - logx))
+	}
+	x := mathext.InvRegIncBeta(a, 0.5, 2*q)
+	if x <= 0 {
+		return math.Exp(0.5 * (math.Log(df) - logx))
+	}
 	if x >= 0.99 {
-		// 1-x loses digits near 1; solve for 1-x from the complement:
+		// 1-x loses digits near 1; solve for 1-x from the complement
 		// I_{1-x}(1/2, ν/2) = 1 - 2q.
-		y := mathext.InvRegIncBeta(0.5, 0.5*df, 1-2*q)
+		y := mathext.InvRegIncBeta(0.5, a, 1-2*q)
 		return math.Sqrt(df * y / (1 - y))
 	}
 	return math.Sqrt(df * (1 - x) / x)
+}
+
+// logTDensity returns the log density of Student's t at t.
+func logTDensity(t, df float64) float64 {
+	l1, _ := math.Lgamma(0.5 * (df + 1))
+	l2, _ := math.Lgamma(0.5 * df)
+	return l1 - l2 - 0.5*math.Log(df*math.Pi) - 0.5*(df+1)*(logSumSq(df, t)-math.Log(df))
+}
+
+// tNewton refines t > 0 with P(T > t) = q by Newton steps on log P(T > t)
+// against log t, which behaves almost linearly in both the normal-like and
+// the power-law tails.
+func tNewton(t, q, df float64) float64 {
+	if !(t > 0) || math.IsInf(t, 0) {
+		return t
+	}
+	lq := math.Log(q)
+	for i := 0; i < 50; i++ {
+		g := LogTUpper(t, df) - lq
+		// d log S / d log t = -t f(t) / S(t).
+		slope := -math.Exp(math.Log(t) + logTDensity(t, df) - LogTUpper(t, df))
+		step := g / slope
+		if step > 2 {
+			step = 2
+		} else if step < -2 {
+			step = -2
+		}
+		tn := t * math.Exp(-step)
+		if math.IsInf(tn, 0) || math.IsNaN(tn) {
+			return t
+		}
+		if math.Abs(tn-t) <= 1e-15*t {
+			return tn
+		}
+		t = tn
+	}
+	return t
 }
 
 // FUpper returns P(F > f) for the F distribution with df1 and df2 degrees of
@@ -249,9 +312,15 @@ func LogFUpper(f, df1, df2 float64) float64 {
 	if math.IsInf(f, 1) {
 		return math.Inf(-1)
 	}
-	// x = ν2/(ν2+ν1 f) in log space.
-	logx := math.Log(df2) - math.Log(df1) - math.Log(f) - math.Log1p(df2/(df1*f))
-	return logIncBetaSmall(0.5*df2, 0.5*df1, logx)
+	// x = ν2/(ν2+ν1 f) and 1-x = ν1 f/(ν2+ν1 f) in log space.
+	lf := math.Log(df1) + math.Log(f)
+	var ls float64
+	if lf > math.Log(df2) {
+		ls = lf + math.Log1p(math.Exp(math.Log(df2)-lf))
+	} else {
+		ls = math.Log(df2) + math.Log1p(math.Exp(lf-math.Log(df2)))
+	}
+	return logIncBetaCF(0.5*df2, 0.5*df1, math.Log(df2)-ls, lf-ls)
 }
 
 // FQuantile returns f such that P(F <= f) = p.
@@ -339,28 +408,69 @@ func ChiSqQuantile(p, df float64) float64 {
 	return 2 * mathext.GammaIncRegInv(0.5*df, p)
 }
 
-// logIncBetaSmall returns log I_x(a, b) for small x (given as log x) from
+// logIncBetaCF returns log I_x(a, b), given log x and log(1-x), from the
+// continued fraction
 //
-//	I_x(a,b) = x^a (1-x)^b / (a B(a,b)) · Σ_n [(a+b)_n / (a+1)_n] x^n
+//	I_x(a,b) = x^a (1-x)^b / (a B(a,b)) · 1/(1+ d1/(1+ d2/(1+ ...)))
+//	d_{2m+1} = -(a+m)(a+b+m) x / ((a+2m)(a+2m+1))
+//	d_{2m}   = m(b-m) x / ((a+2m-1)(a+2m))
 //
-// (Abramowitz & Stegun 1964, 26.5.4 via the hypergeometric form 15.3.3).
-// It is used only where I underflows, so x is far below 1e-10 and the
-// series converges in a few terms.
-func logIncBetaSmall(a, b, logx float64) float64 {
+// (Abramowitz & Stegun 1964, 26.5.8), evaluated by the modified Lentz
+// method (Lentz 1976, Appl Opt 15:668); only the prefactor is taken in log
+// space. It is used where I underflows, which puts x well below the mean
+// a/(a+b), where the fraction converges.
+func logIncBetaCF(a, b, logx, log1mx float64) float64 {
 	x := math.Exp(logx)
-	sum, term := 1.0, 1.0
-	for n := 0; n < 200; n++ {
-		term *= (a + b + float64(n)) / (a + 1 + float64(n)) * x
-		sum += term
-		if term < 1e-17*sum {
+	const tiny = 1e-300
+	c, d := 1.0, 1.0
+	h := 1.0
+	// Evaluate 1/(1+ d1/(1+ d2/(...))) as a fraction with b_0 = 0, a_1 = 1.
+	// Lentz on f = 1 + d1/(1 + d2/(1 + ...)); the result is 1/f.
+	f := 1.0
+	c = f
+	d = 0
+	for m := 1; m < 100000; m++ {
+		var dm float64
+		k := float64(m / 2)
+		if m%2 == 1 {
+			dm = -(a + k) * (a + b + k) * x / ((a + 2*k) * (a + 2*k + 1))
+		} else {
+			dm = k * (b - k) * x / ((a + 2*k - 1) * (a + 2*k))
+		}
+		d = 1 + dm*d
+		if math.Abs(d) < tiny {
+			d = tiny
+		}
+		c = 1 + dm/c
+		if math.Abs(c) < tiny {
+			c = tiny
+		}
+		d = 1 / d
+		del := c * d
+		f *= del
+		if math.Abs(del-1) < 1e-16 {
 			break
 		}
 	}
-	lba, _ := math.Lgamma(a)
-	lbb, _ := math.Lgamma(b)
-	lbab, _ := math.Lgamma(a + b)
-	logB := lba + lbb - lbab
-	return a*logx + b*math.Log1p(-x) - math.Log(a) - logB + math.Log(sum)
+	h = 1 / f
+	return a*logx + b*log1mx - math.Log(a) - logBeta(a, b) + math.Log(h)
+}
+
+// logBeta returns log B(a, b).
+func logBeta(a, b float64) float64 {
+	la, _ := math.Lgamma(a)
+	lb, _ := math.Lgamma(b)
+	lab, _ := math.Lgamma(a + b)
+	return la + lb - lab
+}
+
+// logSumSq returns log(ν + t²) without overflow.
+func logSumSq(df, t float64) float64 {
+	at := math.Abs(t)
+	if at > 1 {
+		return 2*math.Log(at) + math.Log1p(df/(at*at))
+	}
+	return math.Log(df + t*t)
 }
 
 // logGammaUpperCF returns log Q(a, x) for large x by Legendre's continued
