@@ -1,0 +1,132 @@
+package main
+
+import (
+	"fmt"
+	"path/filepath"
+	"strings"
+
+	"furrow/plan"
+)
+
+const checkUsage = `usage: furrow check [--json] [--summary] PLAN [DATA]
+
+Checks the data against the plan: first the plan itself (as "furrow lint"
+does), then the data file the plan names (data.file, relative to the plan's
+folder) or DATA when given. When DATA's extension (.csv, .xlsx) names
+another format than the plan's, DATA is read in the format its extension
+names; delimiter, decimal mark and missing-value codes still come from the
+plan.
+
+Reports, with the row a user sees in the file or spreadsheet and the
+column: missing columns, values that are not numbers, values outside the
+declared plausible range, factor levels the plan does not declare, declared
+levels never seen, duplicate unit and time records, units whose treatment
+or site changes between times, cells whose replication differs from the
+plan's, and missing values per column.
+
+When there are errors, the findings are followed by a summary of the
+design as seen in the data (units per cell, missing values per column).
+When there is no error, check prints a single line (after any warnings).
+
+Flags:
+  --json      print the result as one JSON object instead of text
+  --summary   print the design summary even when there is no error
+
+Examples:
+  furrow check examples/soil-nematodes/plan.yaml
+  furrow check examples/soil-nematodes/plan.yaml examples/soil-nematodes/plots.xlsx
+
+` + exitCodesHelp
+
+var checkCommand = &command{
+	name:    "check",
+	summary: "check the data against a plan",
+	usage:   checkUsage,
+	run:     runCheck,
+}
+
+func runCheck(e *env, c *command, args []string) int {
+	fs := newFlags(c)
+	asJSON := fs.Bool(flagJSON, false, "")
+	withSummary := fs.Bool(flagSummary, false, "")
+	pos, ok, code := parse(e, c, fs, args, 1, 2)
+	if !ok {
+		return code
+	}
+	planPath, dataPath := pos[0], ""
+	if len(pos) == 2 {
+		dataPath = pos[1]
+	}
+	p, ds, err := loadPlan(planPath)
+	if err != nil {
+		return fail(e, c, err)
+	}
+	shown := dataPath
+	if shown == "" && p != nil && p.Data.File != "" {
+		shown = filepath.Join(filepath.Dir(planPath), filepath.FromSlash(p.Data.File))
+	}
+	var sum designSummary
+	if !ds.HasErrors() {
+		q := withFormatOf(p, dataPath)
+		t, dds, err := readTable(q, dataPath)
+		if err != nil {
+			return fail(e, c, err)
+		}
+		ds = append(ds, dds...)
+		if t != nil {
+			cds, s := checkData(q, t)
+			ds = append(ds, cds...)
+			sum = s
+		}
+	}
+	ds = ds.Sort()
+	if *asJSON {
+		if err := writeJSON(e.stdout, e.newReport(c.name, planPath, shown, ds)); err != nil {
+			return fail(e, c, err)
+		}
+		return exitCode(ds)
+	}
+	e.writeFindings(e.stdout, ds)
+	errs, warns := counts(ds)
+	if errs > 0 || *withSummary {
+		if sum != nil {
+			if errs > 0 {
+				fmt.Fprintln(e.stdout)
+			}
+			if err := sum.WriteText(e.stdout); err != nil {
+				return fail(e, c, err)
+			}
+			fmt.Fprintln(e.stdout)
+		}
+	}
+	if errs > 0 {
+		fmt.Fprintf(e.stdout, "%s: %s\n", e.rel(shown), totals(errs, warns))
+		return exitFindings
+	}
+	fmt.Fprintf(e.stdout, "%s: data match plan %s: %s\n", e.rel(shown), planName(p), plural(warns, "warning"))
+	return exitOK
+}
+
+// withFormatOf returns p itself, or a copy whose data format is the one
+// the extension of dataPath names when that differs from the plan's. The
+// plan is never modified.
+func withFormatOf(p *plan.Plan, dataPath string) *plan.Plan {
+	if p == nil || dataPath == "" {
+		return p
+	}
+	var format string
+	switch strings.ToLower(filepath.Ext(dataPath)) {
+	case ".csv", ".txt":
+		format = "csv"
+	case ".xlsx", ".xlsm":
+		format = "xlsx"
+	default:
+		return p
+	}
+	if strings.EqualFold(p.Data.Format, format) {
+		return p
+	}
+	q := *p
+	q.Data.Format = format
+	return &q
+}
