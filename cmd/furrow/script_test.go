@@ -5,8 +5,8 @@ import (
 	"flag"
 	"os"
 	"os/exec"
-	"strconv"
 	"path/filepath"
+	"strconv"
 	"strings"
 	"testing"
 
