@@ -1,0 +1,576 @@
+package checker
+
+import (
+	"fmt"
+	"math"
+	"slices"
+	"strconv"
+	"strings"
+
+	"furrow/plan"
+)
+
+// findingsPerColumn is how many findings of one code are listed for one
+// column before the rest are summarised in a single "and N more" line.
+const findingsPerColumn = 20
+
+// CheckData checks a table against the plan's data contract: the declared
+// columns are present, numeric columns hold numbers in their plausible
+// range, factor columns hold declared levels, each unit appears once per
+// time point (and sub-sample) and keeps its treatment, block, site and
+// factors, and each treatment cell holds the declared number of units.
+// Every finding is positioned in the data file and carries, in Related,
+// the plan line that declared the expectation. The summary describes what
+// was found. A nil plan or table gives no findings and a nil summary.
+func CheckData(p *plan.Plan, t *Table) (plan.Diagnostics, *DesignSummary) {
+	if p == nil || t == nil {
+		return nil, nil
+	}
+	c := &contractCheck{p: p, t: t, lim: newLimiter(), decl: map[string]*plan.Column{}}
+	for i := range p.Columns {
+		col := &p.Columns[i]
+		if _, dup := c.decl[col.Name]; !dup {
+			c.decl[col.Name] = col
+		}
+	}
+	c.columns()
+	c.values()
+	c.units()
+	c.replication()
+	c.diags = append(c.diags, c.lim.summaries()...)
+	return c.diags.Sort(), c.summary()
+}
+
+// contractCheck carries the state of one CheckData call.
+type contractCheck struct {
+	p     *plan.Plan
+	t     *Table
+	lim   *limiter
+	diags plan.Diagnostics
+	decl  map[string]*plan.Column
+
+	// filled by units and replication, used by summary
+	unitCol    *Column
+	unitFirst  map[string]int // unit -> first table row
+	unitOrder  []string
+	cellCols   []*plan.Column
+	cells      []CellCount
+	replicated bool
+}
+
+func (c *contractCheck) add(col string, d plan.Diagnostic) {
+	c.lim.add(&c.diags, d.Code, col, d)
+}
+
+// at says where a cell is in words: "" for CSV (the position says it), or
+// "cell D17: " for XLSX, where users think in cell references.
+func (c *contractCheck) at(row, col int) string {
+	if c.t.Format == FormatXLSX && col > 0 {
+		return "cell " + CellRef(c.t.rows[row], col) + ": "
+	}
+	return ""
+}
+
+// present returns the declared columns found in the table, in plan order.
+func (c *contractCheck) present(roles ...string) []*plan.Column {
+	var out []*plan.Column
+	for i := range c.p.Columns {
+		pc := &c.p.Columns[i]
+		if c.decl[pc.Name] != pc || c.t.Column(pc.Name) == nil {
+			continue
+		}
+		if len(roles) == 0 || slices.Contains(roles, pc.Role) {
+			out = append(out, pc)
+		}
+	}
+	return out
+}
+
+// columns reports declared columns missing from the file and file columns
+// the plan does not declare.
+func (c *contractCheck) columns() {
+	var undeclared, missing []string
+	for _, tc := range c.t.cols {
+		if c.decl[tc.Name] == nil {
+			undeclared = append(undeclared, tc.Name)
+		}
+	}
+	for i := range c.p.Columns {
+		pc := &c.p.Columns[i]
+		if c.decl[pc.Name] == pc && c.t.Column(pc.Name) == nil {
+			missing = append(missing, pc.Name)
+		}
+	}
+	for _, name := range missing {
+		pc := c.decl[name]
+		s := fmt.Sprintf("column %q (%s) declared in the plan is not in the data", name, pc.Role)
+		if g := suggest(name, undeclared); g != "" {
+			s += fmt.Sprintf("; did you mean %q?", g)
+		}
+		c.diags = append(c.diags, plan.Diagnostic{
+			Severity: plan.Error, Code: "data-column-missing",
+			Pos: c.t.HeaderPos(0), Summary: s, Related: relatedPos(pc.Pos),
+		})
+	}
+	for _, name := range undeclared {
+		tc := c.t.Column(name)
+		s := fmt.Sprintf("column %q is not declared in the plan; it is carried along unchecked", name)
+		if g := suggest(name, missing); g != "" {
+			s += fmt.Sprintf(" (is it the declared %q?)", g)
+		}
+		c.diags = append(c.diags, plan.Diagnostic{
+			Severity: plan.Warning, Code: "data-column-undeclared",
+			Pos: c.t.HeaderPos(tc.Index), Summary: s,
+		})
+	}
+}
+
+// values checks every cell of the declared columns and counts missing
+// values.
+func (c *contractCheck) values() {
+	for _, pc := range c.present() {
+		tc := c.t.Column(pc.Name)
+		switch {
+		case pc.IsNumeric():
+			c.numbers(pc, tc)
+		case pc.IsFactor() && len(pc.Levels) > 0:
+			c.levels(pc, tc)
+		}
+		c.missingValues(pc, tc)
+	}
+}
+
+func (c *contractCheck) numbers(pc *plan.Column, tc *Column) {
+	dec := c.p.Data.Decimal
+	if dec == "" {
+		dec = "."
+	}
+	var outRule *plan.Exclusion
+	for i := range c.p.Exclusions {
+		e := &c.p.Exclusions[i]
+		if e.When == plan.WhenOutOfRange && e.Column == pc.Name {
+			outRule = e
+			break
+		}
+	}
+	for i, v := range tc.Num {
+		if tc.Missing[i] {
+			continue
+		}
+		if math.IsNaN(v) {
+			s := fmt.Sprintf("%scolumn %q: %q is not a number", c.at(i, tc.Index), pc.Name, tc.Text[i])
+			rel := relatedPos(pc.Pos)
+			if _, ok := parseNumber(tc.Text[i], ','); ok && dec == "." {
+				s += `; it has a decimal comma: declare decimal: "," in the data section`
+				rel = append(rel, relatedPos(c.p.Data.Pos)...)
+			} else if _, ok := parseNumber(tc.Text[i], '.'); ok && dec == "," {
+				s += `; it has a decimal point, but the plan declares decimal: ","`
+				rel = append(rel, relatedPos(c.p.Data.Pos)...)
+			}
+			c.add(pc.Name, plan.Diagnostic{Severity: plan.Error, Code: "data-not-number",
+				Pos: c.t.Pos(i, tc.Index), Summary: s, Related: rel})
+			continue
+		}
+		if (pc.Min != nil && v < *pc.Min) || (pc.Max != nil && v > *pc.Max) {
+			d := plan.Diagnostic{Severity: plan.Error, Code: "data-out-of-range",
+				Pos: c.t.Pos(i, tc.Index), Related: relatedPos(pc.Pos),
+				Summary: fmt.Sprintf("%scolumn %q: %s is outside the plausible range %s", c.at(i, tc.Index), pc.Name, tc.Text[i], rangeWords(pc.Min, pc.Max)),
+			}
+			if outRule != nil {
+				d.Severity = plan.Warning
+				d.Summary += fmt.Sprintf("; exclusion %q drops it", outRule.ID)
+				d.Related = append(d.Related, relatedPos(outRule.Pos)...)
+			}
+			c.add(pc.Name, d)
+		}
+	}
+}
+
+// rangeWords writes a plausible range: "[0, 20000]", "at least 0", "at most 5".
+func rangeWords(lo, hi *float64) string {
+	f := func(x float64) string { return strconv.FormatFloat(x, 'g', -1, 64) }
+	switch {
+	case lo != nil && hi != nil:
+		return "[" + f(*lo) + ", " + f(*hi) + "]"
+	case lo != nil:
+		return "at least " + f(*lo)
+	case hi != nil:
+		return "at most " + f(*hi)
+	}
+	return "(none)"
+}
+
+func (c *contractCheck) levels(pc *plan.Column, tc *Column) {
+	declared := map[string]bool{}
+	for _, l := range pc.Levels {
+		declared[l] = true
+	}
+	seen := map[string]bool{}
+	for i, s := range tc.Text {
+		if tc.Missing[i] {
+			continue
+		}
+		seen[s] = true
+		if declared[s] {
+			continue
+		}
+		msg := fmt.Sprintf("%scolumn %q: level %q is not declared (declared: %s)", c.at(i, tc.Index), pc.Name, s, strings.Join(pc.Levels, ", "))
+		if g := suggest(s, pc.Levels); g != "" {
+			msg += fmt.Sprintf("; did you mean %q?", g)
+		}
+		c.add(pc.Name, plan.Diagnostic{Severity: plan.Error, Code: "data-level-undeclared",
+			Pos: c.t.Pos(i, tc.Index), Summary: msg, Related: relatedPos(pc.Pos)})
+	}
+	for _, l := range pc.Levels {
+		if !seen[l] {
+			c.diags = append(c.diags, plan.Diagnostic{Severity: plan.Warning, Code: "data-level-unseen",
+				Pos:     c.t.HeaderPos(tc.Index),
+				Summary: fmt.Sprintf("column %q: declared level %q does not occur in the data", pc.Name, l),
+				Related: relatedPos(pc.Pos)})
+		}
+	}
+}
+
+func (c *contractCheck) missingValues(pc *plan.Column, tc *Column) {
+	var rows []int
+	for i, m := range tc.Missing {
+		if m {
+			rows = append(rows, c.t.rows[i])
+		}
+	}
+	if len(rows) == 0 {
+		return
+	}
+	c.diags = append(c.diags, plan.Diagnostic{Severity: plan.Warning, Code: "data-missing-values",
+		Pos:     c.t.HeaderPos(tc.Index),
+		Summary: fmt.Sprintf("column %q: %d of %d values are missing (%s)", pc.Name, len(rows), c.t.NumRows(), rowList(rows, 5)),
+		Related: relatedPos(c.p.Data.Pos)})
+}
+
+// rowList writes "row 4" or "rows 4, 9, 12 and 3 more".
+func rowList(rows []int, max int) string {
+	var b strings.Builder
+	b.WriteString(plural(len(rows), "row ", "rows "))
+	for i, r := range rows {
+		if i == max {
+			fmt.Fprintf(&b, " and %d more", len(rows)-max)
+			break
+		}
+		if i > 0 {
+			b.WriteString(", ")
+		}
+		b.WriteString(strconv.Itoa(r))
+	}
+	return b.String()
+}
+
+// units checks duplicate unit x time records, units whose design columns
+// change between rows, and units with no record at a declared time.
+func (c *contractCheck) units() {
+	units := c.present(plan.RoleUnit)
+	if len(units) == 0 {
+		return
+	}
+	upc := units[0]
+	uc := c.t.Column(upc.Name)
+	c.unitCol = uc
+	c.unitFirst = map[string]int{}
+	fixed := c.present(plan.RoleTreatment, plan.RoleFactor, plan.RoleBlock, plan.RoleSite)
+	var rpc *plan.Column
+	var rc *Column
+	if rs := c.present(plan.RoleRepeat); len(rs) > 0 {
+		rpc, rc = rs[0], c.t.Column(rs[0].Name)
+	}
+	perKey := max(1, c.p.Design.Subsamples)
+
+	type keyState struct {
+		first, n int
+	}
+	records := map[string]*keyState{}
+	firstVal := make([]map[string]int, len(fixed)) // unit -> first non-missing row
+	reported := make([]map[string]bool, len(fixed))
+	for k := range fixed {
+		firstVal[k] = map[string]int{}
+		reported[k] = map[string]bool{}
+	}
+	timesSeen := map[string]map[string]bool{}
+
+	for i, u := range uc.Text {
+		if uc.Missing[i] {
+			continue
+		}
+		if _, ok := c.unitFirst[u]; !ok {
+			c.unitFirst[u] = i
+			c.unitOrder = append(c.unitOrder, u)
+		}
+		// duplicate records
+		key, what := u, fmt.Sprintf("unit %q", u)
+		if rc != nil {
+			tv := rc.Text[i]
+			if rc.Missing[i] {
+				tv = "\x00missing"
+			} else {
+				if timesSeen[u] == nil {
+					timesSeen[u] = map[string]bool{}
+				}
+				timesSeen[u][tv] = true
+			}
+			key += "\x00" + tv
+			what = fmt.Sprintf("unit %q at %s %q", u, rpc.Name, rc.Text[i])
+		}
+		ks := records[key]
+		if ks == nil {
+			records[key] = &keyState{first: i, n: 1}
+		} else {
+			ks.n++
+			if ks.n > perKey {
+				d := plan.Diagnostic{Severity: plan.Error, Code: "data-duplicate-record",
+					Pos: c.t.Pos(i, 0), Related: relatedPos(upc.Pos)}
+				if perKey == 1 {
+					d.Summary = fmt.Sprintf("%s appears again (first at row %d)", what, c.t.rows[ks.first])
+				} else {
+					d.Summary = fmt.Sprintf("%s has more than %d records, the declared sub-samples (first at row %d)", what, perKey, c.t.rows[ks.first])
+					d.Related = append(d.Related, relatedPos(c.p.Design.Pos)...)
+				}
+				c.add(upc.Name, d)
+			}
+		}
+		// design columns constant within a unit
+		for k, fpc := range fixed {
+			fc := c.t.Column(fpc.Name)
+			if fc.Missing[i] {
+				continue
+			}
+			j, ok := firstVal[k][u]
+			if !ok {
+				firstVal[k][u] = i
+				continue
+			}
+			if fc.Text[j] != fc.Text[i] && !reported[k][u] {
+				reported[k][u] = true
+				c.add(fpc.Name, plan.Diagnostic{Severity: plan.Error, Code: "data-unit-inconsistent",
+					Pos: c.t.Pos(i, fc.Index),
+					Summary: fmt.Sprintf("%sunit %q has %s %q here but %q at row %d; a unit keeps its %s in every row",
+						c.at(i, fc.Index), u, fpc.Name, fc.Text[i], fc.Text[j], c.t.rows[j], fpc.Role),
+					Related: relatedPos(fpc.Pos)})
+			}
+		}
+	}
+	// units with no record at a declared time
+	if rpc != nil && len(rpc.Levels) > 0 {
+		for _, u := range c.unitOrder {
+			for _, l := range rpc.Levels {
+				if !timesSeen[u][l] {
+					c.add(rpc.Name, plan.Diagnostic{Severity: plan.Warning, Code: "data-record-missing",
+						Pos:     c.t.Pos(c.unitFirst[u], 0),
+						Summary: fmt.Sprintf("unit %q has no record at %s %q", u, rpc.Name, l),
+						Related: relatedPos(rpc.Pos)})
+				}
+			}
+		}
+	}
+}
+
+// replication counts units per treatment cell (treatment and other fixed
+// factors, per site) and compares the count with design.replicates.
+func (c *contractCheck) replication() {
+	c.cellCols = c.present(plan.RoleSite)
+	if len(c.cellCols) > 1 {
+		c.cellCols = c.cellCols[:1]
+	}
+	c.cellCols = append(c.cellCols, c.present(plan.RoleTreatment, plan.RoleFactor)...)
+	if len(c.cellCols) == 0 {
+		return
+	}
+	// one representative row per unit (each row when there is no unit column)
+	var reps []int
+	if c.unitCol != nil {
+		for _, u := range c.unitOrder {
+			reps = append(reps, c.unitFirst[u])
+		}
+	} else {
+		for i := range c.t.rows {
+			reps = append(reps, i)
+		}
+	}
+	// levels of each cell column: declared, else as seen
+	levels := make([][]string, len(c.cellCols))
+	tcs := make([]*Column, len(c.cellCols))
+	for k, pc := range c.cellCols {
+		tcs[k] = c.t.Column(pc.Name)
+		if len(pc.Levels) > 0 {
+			levels[k] = pc.Levels
+		} else {
+			levels[k] = seenLevels(tcs[k], reps)
+		}
+	}
+	count := map[string]int{}
+	firstRow := map[string]int{}
+	for _, i := range reps {
+		parts := make([]string, len(tcs))
+		ok := true
+		for k, tc := range tcs {
+			if tc.Missing[i] {
+				ok = false
+				break
+			}
+			parts[k] = tc.Text[i]
+		}
+		if !ok {
+			continue
+		}
+		key := strings.Join(parts, "\x00")
+		if _, seen := firstRow[key]; !seen {
+			firstRow[key] = i
+		}
+		count[key]++
+	}
+	want := c.p.Design.Replicates
+	c.replicated = want > 0
+	forEachCombination(levels, func(parts []string) {
+		key := strings.Join(parts, "\x00")
+		n := count[key]
+		c.cells = append(c.cells, CellCount{Levels: slices.Clone(parts), Units: n})
+		if want <= 0 || n == want {
+			return
+		}
+		pos := plan.Pos{File: c.t.PosFile()}
+		if i, ok := firstRow[key]; ok {
+			pos = c.t.Pos(i, 0)
+		}
+		var names []string
+		for k, pc := range c.cellCols {
+			names = append(names, fmt.Sprintf("%s %q", pc.Name, parts[k]))
+		}
+		c.diags = append(c.diags, plan.Diagnostic{Severity: plan.Error, Code: "data-replication",
+			Pos:     pos,
+			Summary: fmt.Sprintf("%s: %d %s, the plan declares %d per cell", strings.Join(names, ", "), n, plural(n, "unit", "units"), want),
+			Related: relatedPos(c.p.Design.Pos)})
+	})
+}
+
+// seenLevels lists the non-missing values of a column in the given rows,
+// in order of first appearance.
+func seenLevels(tc *Column, rows []int) []string {
+	seen := map[string]bool{}
+	var out []string
+	for _, i := range rows {
+		if s := tc.Text[i]; !tc.Missing[i] && !seen[s] {
+			seen[s] = true
+			out = append(out, s)
+		}
+	}
+	return out
+}
+
+// forEachCombination calls fn with every combination of levels, the last
+// column varying fastest.
+func forEachCombination(levels [][]string, fn func([]string)) {
+	parts := make([]string, len(levels))
+	var rec func(k int)
+	rec = func(k int) {
+		if k == len(levels) {
+			fn(parts)
+			return
+		}
+		for _, l := range levels[k] {
+			parts[k] = l
+			rec(k + 1)
+		}
+	}
+	rec(0)
+}
+
+// limiter keeps at most findingsPerColumn findings per code and column and
+// summarises the rest.
+type limiter struct {
+	n     map[string]int
+	first map[string]plan.Diagnostic
+	col   map[string]string
+	order []string
+}
+
+func newLimiter() *limiter {
+	return &limiter{n: map[string]int{}, first: map[string]plan.Diagnostic{}, col: map[string]string{}}
+}
+
+// add appends d to ds unless findingsPerColumn findings with the same code
+// and column were already added.
+func (l *limiter) add(ds *plan.Diagnostics, code, column string, d plan.Diagnostic) {
+	key := code + "\x00" + column
+	l.n[key]++
+	switch n := l.n[key]; {
+	case n <= findingsPerColumn:
+		*ds = append(*ds, d)
+	case n == findingsPerColumn+1:
+		l.first[key] = d
+		l.col[key] = column
+		l.order = append(l.order, key)
+	}
+}
+
+// summaries returns one "and N more" diagnostic per code and column that
+// went over the limit, positioned at the first finding left out.
+func (l *limiter) summaries() plan.Diagnostics {
+	var out plan.Diagnostics
+	for _, key := range l.order {
+		d := l.first[key]
+		more := l.n[key] - findingsPerColumn
+		where := ""
+		if col := l.col[key]; col != "" {
+			where = fmt.Sprintf(" in column %q", col)
+		}
+		out = append(out, plan.Diagnostic{Severity: d.Severity, Code: d.Code, Pos: d.Pos, Related: d.Related,
+			Summary: fmt.Sprintf("and %d more %s findings%s from here on", more, d.Code, where)})
+	}
+	return out
+}
+
+// suggest returns the candidate closest to s: equal ignoring case, else
+// within a small edit distance (1 for short names, 2 from 5 characters on).
+// It returns "" when nothing is close.
+func suggest(s string, candidates []string) string {
+	ls := strings.ToLower(s)
+	for _, c := range candidates {
+		if strings.ToLower(c) == ls && c != s {
+			return c
+		}
+	}
+	limit := 1
+	if len(s) >= 5 {
+		limit = 2
+	}
+	best, bestD := "", limit+1
+	for _, c := range candidates {
+		if c == s {
+			continue
+		}
+		if d := editDistance(ls, strings.ToLower(c)); d < bestD {
+			best, bestD = c, d
+		}
+	}
+	return best
+}
+
+// editDistance is the Levenshtein distance between two strings, by rune
+// (Levenshtein 1966, Soviet Physics Doklady 10:707), computed with two rows.
+func editDistance(a, b string) int {
+	ra, rb := []rune(a), []rune(b)
+	prev := make([]int, len(rb)+1)
+	cur := make([]int, len(rb)+1)
+	for j := range prev {
+		prev[j] = j
+	}
+	for i := 1; i <= len(ra); i++ {
+		cur[0] = i
+		for j := 1; j <= len(rb); j++ {
+			cost := 1
+			if ra[i-1] == rb[j-1] {
+				cost = 0
+			}
+			cur[j] = min(prev[j]+1, cur[j-1]+1, prev[j-1]+cost)
+		}
+		prev, cur = cur, prev
+	}
+	return prev[len(rb)]
+}

@@ -1,0 +1,214 @@
+package checker
+
+import (
+	"fmt"
+	"io"
+	"slices"
+	"strconv"
+	"strings"
+	"text/tabwriter"
+
+	"furrow/plan"
+)
+
+// DesignSummary describes the data as CheckData found them: sizes, units
+// per treatment cell, missing values and the levels seen.
+type DesignSummary struct {
+	// Data is the data file (with the sheet for XLSX), as in positions.
+	Data string
+	// Rows is the number of data rows.
+	Rows int
+	// UnitColumn is the unit column's name ("" when the plan has none).
+	UnitColumn string
+	// Units is the number of distinct units (0 without a unit column).
+	Units int
+	// CellColumns name the columns that make a treatment cell: the site
+	// column first when there is one, then treatment and factor columns.
+	CellColumns []string
+	// Replicates is design.replicates (0 when not declared).
+	Replicates int
+	// Cells lists every combination of the cell columns' levels (declared
+	// levels, else those seen), the last column varying fastest.
+	Cells []CellCount
+	// Missing lists the declared columns with missing values, in plan order.
+	Missing []ColumnMissing
+	// Levels lists, for each declared categorical column other than the
+	// unit, the levels seen and their row counts: declared levels first in
+	// declared order, then undeclared ones in order of appearance.
+	Levels []ColumnLevels
+}
+
+// CellCount is the number of units in one treatment cell.
+type CellCount struct {
+	Levels []string // one level per DesignSummary.CellColumns entry
+	Units  int
+}
+
+// ColumnMissing is the number of missing values in a column.
+type ColumnMissing struct {
+	Column  string
+	Missing int
+}
+
+// ColumnLevels are the levels seen in a categorical column.
+type ColumnLevels struct {
+	Column string
+	Levels []string
+	Rows   []int // rows per level
+}
+
+func (c *contractCheck) summary() *DesignSummary {
+	s := &DesignSummary{Data: c.t.PosFile(), Rows: c.t.NumRows(), Replicates: c.p.Design.Replicates, Cells: c.cells}
+	if c.unitCol != nil {
+		s.UnitColumn = c.unitCol.Name
+		s.Units = len(c.unitOrder)
+	}
+	for _, pc := range c.cellCols {
+		s.CellColumns = append(s.CellColumns, pc.Name)
+	}
+	for _, pc := range c.present() {
+		tc := c.t.Column(pc.Name)
+		n := 0
+		for _, m := range tc.Missing {
+			if m {
+				n++
+			}
+		}
+		if n > 0 {
+			s.Missing = append(s.Missing, ColumnMissing{Column: pc.Name, Missing: n})
+		}
+		if !pc.IsFactor() || pc.Role == plan.RoleUnit {
+			continue
+		}
+		count := map[string]int{}
+		var extra []string
+		for i, v := range tc.Text {
+			if tc.Missing[i] {
+				continue
+			}
+			if count[v] == 0 && !slices.Contains(pc.Levels, v) {
+				extra = append(extra, v)
+			}
+			count[v]++
+		}
+		cl := ColumnLevels{Column: pc.Name}
+		for _, l := range append(slices.Clone(pc.Levels), extra...) {
+			if count[l] > 0 {
+				cl.Levels = append(cl.Levels, l)
+				cl.Rows = append(cl.Rows, count[l])
+			}
+		}
+		s.Levels = append(s.Levels, cl)
+	}
+	return s
+}
+
+// WriteText writes the summary as a few aligned lines of plain text:
+//
+//	data plots.csv: 144 rows, 72 units (plot)
+//	units per cell (replicates declared: 4)
+//	  site  untreated  reference  candidate
+//	  S1    4          4          4
+//	levels seen (rows)
+//	  treatment  untreated 48, reference 48, candidate 48
+//	missing values
+//	  juveniles  3
+//
+// With two or more cell columns, the first (the site, when there is one)
+// makes the rows of the cell table and the combinations of the others'
+// levels (joined by ":") its columns; with one, a single row "all".
+func (s *DesignSummary) WriteText(w io.Writer) error {
+	ew := &errWriter{w: w}
+	fmt.Fprintf(ew, "data %s: %d %s", s.Data, s.Rows, plural(s.Rows, "row", "rows"))
+	if s.UnitColumn != "" {
+		fmt.Fprintf(ew, ", %d %s (%s)", s.Units, plural(s.Units, "unit", "units"), s.UnitColumn)
+	}
+	fmt.Fprintln(ew)
+	if len(s.CellColumns) > 0 && len(s.Cells) > 0 {
+		what := "units"
+		if s.UnitColumn == "" {
+			what = "rows"
+		}
+		if s.Replicates > 0 {
+			fmt.Fprintf(ew, "%s per cell (replicates declared: %d)\n", what, s.Replicates)
+		} else {
+			fmt.Fprintf(ew, "%s per cell (replicates not declared)\n", what)
+		}
+		s.writeCells(ew)
+	}
+	if len(s.Levels) > 0 {
+		fmt.Fprintln(ew, "levels seen (rows)")
+		tw := tabwriter.NewWriter(ew, 0, 0, 2, ' ', 0)
+		for _, cl := range s.Levels {
+			parts := make([]string, len(cl.Levels))
+			for i, l := range cl.Levels {
+				parts[i] = l + " " + strconv.Itoa(cl.Rows[i])
+			}
+			fmt.Fprintf(tw, "  %s\t%s\n", cl.Column, strings.Join(parts, ", "))
+		}
+		tw.Flush()
+	}
+	if len(s.Missing) > 0 {
+		fmt.Fprintln(ew, "missing values")
+		tw := tabwriter.NewWriter(ew, 0, 0, 2, ' ', 0)
+		for _, m := range s.Missing {
+			fmt.Fprintf(tw, "  %s\t%d\n", m.Column, m.Missing)
+		}
+		tw.Flush()
+	}
+	return ew.err
+}
+
+// writeCells writes the units-per-cell table.
+func (s *DesignSummary) writeCells(w io.Writer) {
+	// The first cell column makes the rows when it is not the only one.
+	siteFirst := len(s.CellColumns) > 1
+	var rowKeys, colKeys []string
+	grid := map[[2]string]int{}
+	for _, cc := range s.Cells {
+		r, c := "all", strings.Join(cc.Levels, ":")
+		if siteFirst {
+			r, c = cc.Levels[0], strings.Join(cc.Levels[1:], ":")
+		}
+		if !slices.Contains(rowKeys, r) {
+			rowKeys = append(rowKeys, r)
+		}
+		if !slices.Contains(colKeys, c) {
+			colKeys = append(colKeys, c)
+		}
+		grid[[2]string{r, c}] = cc.Units
+	}
+	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
+	head := ""
+	if siteFirst {
+		head = s.CellColumns[0]
+	}
+	fmt.Fprintf(tw, "  %s", head)
+	for _, c := range colKeys {
+		fmt.Fprintf(tw, "\t%s", c)
+	}
+	fmt.Fprintln(tw)
+	for _, r := range rowKeys {
+		fmt.Fprintf(tw, "  %s", r)
+		for _, c := range colKeys {
+			fmt.Fprintf(tw, "\t%d", grid[[2]string{r, c}])
+		}
+		fmt.Fprintln(tw)
+	}
+	tw.Flush()
+}
+
+// errWriter keeps the first write error.
+type errWriter struct {
+	w   io.Writer
+	err error
+}
+
+func (e *errWriter) Write(p []byte) (int, error) {
+	if e.err != nil {
+		return len(p), nil
+	}
+	n, err := e.w.Write(p)
+	e.err = err
+	return n, err
+}

@@ -1,0 +1,638 @@
+package checker
+
+import (
+	"crypto/sha256"
+	"encoding/hex"
+	"errors"
+	"fmt"
+	"math"
+	"os"
+	"path/filepath"
+	"strconv"
+	"strings"
+	"unicode/utf8"
+
+	"furrow/plan"
+)
+
+// Data file formats a Table can be read from.
+const (
+	FormatCSV  = "csv"
+	FormatXLSX = "xlsx"
+)
+
+// Column is one column of a Table. Its slices are indexed by table row and
+// belong to the table: callers must treat them as read-only and use
+// Table.Subset or Table.Filter to get a smaller table.
+type Column struct {
+	// Name is the header text, trimmed.
+	Name string
+	// Index is the 1-based position of the column in the file or sheet
+	// (the column number a user sees; D is 4).
+	Index int
+	// Numeric is true when the plan declares the column as numeric
+	// (a response or a covariate). It decides how ContentHash writes cells.
+	Numeric bool
+	// Text is the cell text as read, trimmed of surrounding white space.
+	// For XLSX, numbers are written in shortest round-trip form and dates
+	// as YYYY-MM-DD.
+	Text []string
+	// Num is the cell parsed as a number with the plan's decimal mark, or
+	// NaN when the cell is missing or not a number.
+	Num []float64
+	// Missing marks cells that are blank or equal to a declared missing code.
+	Missing []bool
+}
+
+// Table is one data table read from a CSV file or an XLSX sheet. Both
+// formats give the same Table for the same cells. A Table is never modified
+// after ReadTable returns it; Subset and Filter return new tables.
+type Table struct {
+	// Path is the data file as a slash path, as resolved by ReadTable.
+	Path string
+	// Format is FormatCSV or FormatXLSX.
+	Format string
+	// Sheet is the sheet read (XLSX only).
+	Sheet string
+	// FileHash is "sha256:<hex>" of the file's bytes.
+	FileHash string
+	// HeaderRow is the row number of the header (1 unless the file starts
+	// with blank lines).
+	HeaderRow int
+
+	cols  []*Column
+	index map[string]int
+	rows  []int // file row number of each table row
+}
+
+// NumRows returns the number of data rows.
+func (t *Table) NumRows() int { return len(t.rows) }
+
+// NumColumns returns the number of columns.
+func (t *Table) NumColumns() int { return len(t.cols) }
+
+// ColumnNames returns the column names in file order.
+func (t *Table) ColumnNames() []string {
+	out := make([]string, len(t.cols))
+	for i, c := range t.cols {
+		out[i] = c.Name
+	}
+	return out
+}
+
+// Columns returns the columns in file order. The columns are shared with
+// the table and must not be modified.
+func (t *Table) Columns() []*Column {
+	return append([]*Column(nil), t.cols...)
+}
+
+// Column returns the column with the given name, or nil when the table has
+// no such column.
+func (t *Table) Column(name string) *Column {
+	if i, ok := t.index[name]; ok {
+		return t.cols[i]
+	}
+	return nil
+}
+
+// RowNumber returns the row number a user sees in the file for table row i
+// (0-based): the line where a CSV record starts, or the spreadsheet row.
+func (t *Table) RowNumber(i int) int { return t.rows[i] }
+
+// RowNumbers returns a copy of the file row number of every table row.
+func (t *Table) RowNumbers() []int { return append([]int(nil), t.rows...) }
+
+// Text returns the text of the named column at row i, and whether the
+// column exists.
+func (t *Table) Text(name string, i int) (string, bool) {
+	c := t.Column(name)
+	if c == nil {
+		return "", false
+	}
+	return c.Text[i], true
+}
+
+// Float returns the named column at row i as a number (NaN when missing or
+// not a number), and whether the column exists.
+func (t *Table) Float(name string, i int) (float64, bool) {
+	c := t.Column(name)
+	if c == nil {
+		return math.NaN(), false
+	}
+	return c.Num[i], true
+}
+
+// Floats returns a copy of the named column's numbers (NaN for missing or
+// non-numeric cells), or nil when there is no such column.
+func (t *Table) Floats(name string) []float64 {
+	c := t.Column(name)
+	if c == nil {
+		return nil
+	}
+	return append([]float64(nil), c.Num...)
+}
+
+// Texts returns a copy of the named column's texts, or nil when there is no
+// such column.
+func (t *Table) Texts(name string) []string {
+	c := t.Column(name)
+	if c == nil {
+		return nil
+	}
+	return append([]string(nil), c.Text...)
+}
+
+// PosFile is the file part of positions in this table: the path, and for
+// XLSX the sheet in brackets ("plots.xlsx[plots]").
+func (t *Table) PosFile() string {
+	if t.Format == FormatXLSX {
+		return t.Path + "[" + t.Sheet + "]"
+	}
+	return t.Path
+}
+
+// Pos returns the position of table row i (0-based) in column col
+// (1-based file column index; 0 for the whole row).
+func (t *Table) Pos(i, col int) plan.Pos {
+	return plan.Pos{File: t.PosFile(), Line: t.rows[i], Column: col}
+}
+
+// HeaderPos returns the position of a header cell (col is 1-based; 0 for the
+// whole header).
+func (t *Table) HeaderPos(col int) plan.Pos {
+	return plan.Pos{File: t.PosFile(), Line: t.HeaderRow, Column: col}
+}
+
+// CellRef returns the spreadsheet reference ("D17") of a row number and a
+// 1-based column index. It is used in messages about XLSX cells.
+func CellRef(row, col int) string {
+	return ColumnLetters(col) + strconv.Itoa(row)
+}
+
+// ColumnLetters returns the spreadsheet letters of a 1-based column index
+// (1 is A, 27 is AA), or "?" for an index below 1.
+func ColumnLetters(col int) string {
+	if col < 1 {
+		return "?"
+	}
+	var b []byte
+	for col > 0 {
+		col--
+		b = append(b, byte('A'+col%26))
+		col /= 26
+	}
+	for i, j := 0, len(b)-1; i < j; i, j = i+1, j-1 {
+		b[i], b[j] = b[j], b[i]
+	}
+	return string(b)
+}
+
+// Subset returns a new table with the given rows (0-based table row
+// indices), in the given order. It returns an error when an index is out of
+// range. The receiver is not modified.
+func (t *Table) Subset(rows []int) (*Table, error) {
+	for _, r := range rows {
+		if r < 0 || r >= len(t.rows) {
+			return nil, fmt.Errorf("subset of %s: row index %d out of range [0, %d)", t.Path, r, len(t.rows))
+		}
+	}
+	out := t.emptyLike(len(rows))
+	for _, r := range rows {
+		out.rows = append(out.rows, t.rows[r])
+	}
+	for k, c := range t.cols {
+		nc := out.cols[k]
+		for _, r := range rows {
+			nc.Text = append(nc.Text, c.Text[r])
+			nc.Num = append(nc.Num, c.Num[r])
+			nc.Missing = append(nc.Missing, c.Missing[r])
+		}
+	}
+	return out, nil
+}
+
+// Filter returns a new table with the rows for which keep returns true;
+// keep receives the 0-based table row index. The receiver is not modified.
+func (t *Table) Filter(keep func(i int) bool) *Table {
+	var idx []int
+	for i := range t.rows {
+		if keep(i) {
+			idx = append(idx, i)
+		}
+	}
+	out, _ := t.Subset(idx) // indices are in range by construction
+	return out
+}
+
+func (t *Table) emptyLike(n int) *Table {
+	out := &Table{
+		Path: t.Path, Format: t.Format, Sheet: t.Sheet, FileHash: t.FileHash, HeaderRow: t.HeaderRow,
+		index: make(map[string]int, len(t.index)),
+		rows:  make([]int, 0, n),
+	}
+	for k, v := range t.index {
+		out.index[k] = v
+	}
+	for _, c := range t.cols {
+		out.cols = append(out.cols, &Column{
+			Name: c.Name, Index: c.Index, Numeric: c.Numeric,
+			Text: make([]string, 0, n), Num: make([]float64, 0, n), Missing: make([]bool, 0, n),
+		})
+	}
+	return out
+}
+
+// contentHashTag opens the canonical serialisation; it changes when the
+// serialisation does.
+const contentHashTag = "furrow table v1\n"
+
+// ContentHash returns "sha256:<hex>" of the table's canonical serialisation
+// (specified in the package documentation, "Content hash"). It depends on
+// the column names and order and the cell values, not on the file format,
+// the delimiter, quoting, line endings or row numbers, so the same cells
+// read from CSV and from XLSX give the same hash.
+func (t *Table) ContentHash() string {
+	h := sha256.New()
+	var buf []byte
+	str := func(tag byte, s string) {
+		buf = append(buf, tag)
+		buf = strconv.AppendInt(buf, int64(len(s)), 10)
+		buf = append(buf, ':')
+		buf = append(buf, s...)
+	}
+	buf = append(buf, contentHashTag...)
+	buf = append(buf, "columns "...)
+	buf = strconv.AppendInt(buf, int64(len(t.cols)), 10)
+	buf = append(buf, " rows "...)
+	buf = strconv.AppendInt(buf, int64(len(t.rows)), 10)
+	buf = append(buf, '\n')
+	for _, c := range t.cols {
+		str('c', c.Name)
+		buf = append(buf, '\n')
+	}
+	for i := range t.rows {
+		for _, c := range t.cols {
+			switch {
+			case c.Missing[i]:
+				buf = append(buf, 'm')
+			case c.Numeric && !math.IsNaN(c.Num[i]):
+				str('n', strconv.FormatFloat(c.Num[i], 'g', -1, 64))
+			default:
+				str('t', c.Text[i])
+			}
+		}
+		buf = append(buf, '\n')
+		if len(buf) > 1<<16 {
+			h.Write(buf)
+			buf = buf[:0]
+		}
+	}
+	h.Write(buf)
+	return "sha256:" + hex.EncodeToString(h.Sum(nil))
+}
+
+// trimCell trims the white space a cell may carry around its value.
+func trimCell(s string) string {
+	return strings.TrimSpace(s)
+}
+
+// ReadTable reads the data file a plan names. dataPath "" means p.Data.File
+// relative to the directory of the plan file (p.Path); any other value is
+// used as given. The format, sheet, delimiter, decimal mark and missing
+// codes come from p.Data; an empty format is taken from the file extension.
+//
+// The error is for unreadable input: a missing, empty or binary file, or a
+// file that is not CSV or XLSX. Problems with the content (ragged rows, an
+// unterminated quote, a missing sheet, empty or repeated header names) are
+// diagnostics positioned in the data file. The table is nil when the
+// diagnostics leave nothing to check (no header, a missing sheet, a quote
+// that swallows the rest of the file); otherwise it holds every row read.
+func ReadTable(p *plan.Plan, dataPath string) (*Table, plan.Diagnostics, error) {
+	if p == nil {
+		return nil, nil, fmt.Errorf("reading data: no plan")
+	}
+	path := dataPath
+	if path == "" {
+		if p.Data.File == "" {
+			return nil, nil, fmt.Errorf("reading data: the plan names no data file and none was given")
+		}
+		path = p.Data.File
+		if !filepath.IsAbs(path) {
+			path = filepath.Join(filepath.Dir(p.Path), filepath.FromSlash(path))
+		}
+	}
+	path = filepath.Clean(path)
+	name := filepath.ToSlash(path)
+	data, err := os.ReadFile(path)
+	if err != nil {
+		return nil, nil, fmt.Errorf("reading data: %w", err)
+	}
+	if len(data) == 0 {
+		return nil, nil, fmt.Errorf("reading data %s: the file is empty", name)
+	}
+	format := strings.ToLower(p.Data.Format)
+	if format == "" {
+		switch strings.ToLower(filepath.Ext(path)) {
+		case ".xlsx", ".xlsm":
+			format = FormatXLSX
+		default:
+			format = FormatCSV
+		}
+	}
+	opts, err := newReadOptions(p)
+	if err != nil {
+		return nil, nil, fmt.Errorf("reading data %s: %w", name, err)
+	}
+	sum := sha256.Sum256(data)
+	fileHash := "sha256:" + hex.EncodeToString(sum[:])
+	var (
+		t     *Table
+		diags plan.Diagnostics
+	)
+	switch format {
+	case FormatCSV:
+		t, diags, err = readCSV(name, data, opts)
+	case FormatXLSX:
+		t, diags, err = readXLSX(name, data, opts)
+	default:
+		return nil, nil, fmt.Errorf("reading data %s: unknown format %q (want csv or xlsx)", name, p.Data.Format)
+	}
+	if err != nil {
+		return nil, nil, err
+	}
+	if t != nil {
+		t.FileHash = fileHash
+	}
+	return t, diags.Sort(), nil
+}
+
+// readOptions are the parts of the plan that decide how cells are read.
+type readOptions struct {
+	delim    rune
+	decimal  byte
+	missing  []string // trimmed missing codes; a blank cell is always missing
+	numeric  map[string]bool
+	sheet    string
+	dataPos  plan.Pos
+	colByKey map[string]*plan.Column
+}
+
+func newReadOptions(p *plan.Plan) (*readOptions, error) {
+	o := &readOptions{delim: ',', decimal: '.', sheet: p.Data.Sheet, dataPos: p.Data.Pos,
+		numeric: map[string]bool{}, colByKey: map[string]*plan.Column{}}
+	if d := p.Data.Delimiter; d != "" {
+		r, n := utf8.DecodeRuneInString(d)
+		if d == `\t` || d == "tab" {
+			r, n = '\t', len(d)
+		}
+		if n != len(d) || r == '"' || r == '\r' || r == '\n' || r == utf8.RuneError {
+			return nil, fmt.Errorf("delimiter %q is not one usable character", d)
+		}
+		o.delim = r
+	}
+	switch p.Data.Decimal {
+	case "", ".":
+	case ",":
+		o.decimal = ','
+	default:
+		return nil, fmt.Errorf("decimal mark %q is not \".\" or \",\"", p.Data.Decimal)
+	}
+	if o.decimal == ',' && o.delim == ',' {
+		return nil, fmt.Errorf("decimal mark and delimiter are both \",\"; declare another delimiter (for example \";\")")
+	}
+	for _, m := range p.Data.Missing {
+		if m = trimCell(m); m != "" {
+			o.missing = append(o.missing, m)
+		}
+	}
+	for i := range p.Columns {
+		c := &p.Columns[i]
+		if c.IsNumeric() {
+			o.numeric[c.Name] = true
+		}
+		o.colByKey[c.Name] = c
+	}
+	return o, nil
+}
+
+// isMissing reports whether a trimmed cell is blank or a missing code.
+func (o *readOptions) isMissing(s string) bool {
+	if s == "" {
+		return true
+	}
+	for _, m := range o.missing {
+		if s == m {
+			return true
+		}
+	}
+	return false
+}
+
+// tableBuilder collects rows for either reader.
+type tableBuilder struct {
+	t    *Table
+	opts *readOptions
+	// width is the number of header cells, including any dropped blank ones.
+	width int
+	// keep maps header cell index to table column (-1 when dropped).
+	keep []int
+}
+
+// newTableBuilder makes the columns from the header cells. Blank header
+// cells are kept until the end (they are dropped when their column is blank
+// throughout, else reported).
+func newTableBuilder(name, format, sheet string, headerRow int, header []string, o *readOptions) (*tableBuilder, plan.Diagnostics) {
+	t := &Table{Path: name, Format: format, Sheet: sheet, HeaderRow: headerRow, index: map[string]int{}}
+	b := &tableBuilder{t: t, opts: o, width: len(header)}
+	var diags plan.Diagnostics
+	for i, h := range header {
+		h = trimCell(strings.TrimPrefix(h, "\uFEFF"))
+		col := &Column{Name: h, Index: i + 1, Numeric: o.numeric[h]}
+		if h != "" {
+			if j, dup := t.index[h]; dup {
+				diags = append(diags, plan.Diagnostic{
+					Severity: plan.Error, Code: "data-header-repeated",
+					Pos:     t.HeaderPos(i + 1),
+					Summary: fmt.Sprintf("column name %q appears again (first as column %d); only the first is used", h, t.cols[j].Index),
+				})
+				b.keep = append(b.keep, -1)
+				continue
+			}
+			t.index[h] = len(t.cols)
+		}
+		b.keep = append(b.keep, len(t.cols))
+		t.cols = append(t.cols, col)
+	}
+	return b, diags
+}
+
+// add appends one data row. native marks cells that are numbers in the
+// file itself (XLSX number cells), parsed with "." whatever the plan's
+// decimal mark; it may be nil. Extra cells beyond the header are ignored
+// here (the readers report them).
+func (b *tableBuilder) add(row int, cells []string, native []bool) {
+	b.t.rows = append(b.t.rows, row)
+	for i, k := range b.keep {
+		if k < 0 {
+			continue
+		}
+		c := b.t.cols[k]
+		var s string
+		if i < len(cells) {
+			s = trimCell(cells[i])
+		}
+		miss := b.opts.isMissing(s)
+		v := math.NaN()
+		if !miss {
+			dec := b.opts.decimal
+			if native != nil && i < len(native) && native[i] {
+				dec = '.'
+			}
+			if x, ok := parseNumber(s, dec); ok {
+				v = x
+			}
+		}
+		c.Text = append(c.Text, s)
+		c.Num = append(c.Num, v)
+		c.Missing = append(c.Missing, miss)
+	}
+}
+
+// blank reports whether every cell of a row is blank.
+func blankRow(cells []string) bool {
+	for _, s := range cells {
+		if trimCell(s) != "" {
+			return false
+		}
+	}
+	return true
+}
+
+// finish drops blank-named columns that hold no value and reports those
+// that do.
+func (b *tableBuilder) finish() (*Table, plan.Diagnostics) {
+	t := b.t
+	var diags plan.Diagnostics
+	kept := t.cols[:0:0]
+	for _, c := range t.cols {
+		if c.Name != "" {
+			kept = append(kept, c)
+			continue
+		}
+		for i, s := range c.Text {
+			if s != "" {
+				diags = append(diags, plan.Diagnostic{
+					Severity: plan.Error, Code: "data-header-blank",
+					Pos:     t.HeaderPos(c.Index),
+					Summary: fmt.Sprintf("column %d has no name in the header but holds values (first %q at row %d)", c.Index, s, t.rows[i]),
+				})
+				break
+			}
+		}
+	}
+	t.cols = kept
+	t.index = make(map[string]int, len(kept))
+	for i, c := range kept {
+		if _, dup := t.index[c.Name]; !dup {
+			t.index[c.Name] = i
+		}
+	}
+	return t, diags
+}
+
+// parseNumber parses a trimmed cell as a decimal number with the given
+// decimal mark: an optional sign, digits with at most one decimal mark, and
+// an optional exponent. Thousands separators, hexadecimal, "inf" and "nan"
+// are not numbers here.
+func parseNumber(s string, dec byte) (float64, bool) {
+	n := len(s)
+	if n == 0 || n > 64 {
+		if n > 64 {
+			return parseLongNumber(s, dec)
+		}
+		return 0, false
+	}
+	var buf [64]byte
+	i := 0
+	if s[0] == '+' || s[0] == '-' {
+		buf[0] = s[0]
+		i = 1
+	}
+	digits, marks := 0, 0
+	for ; i < n; i++ {
+		ch := s[i]
+		switch {
+		case ch >= '0' && ch <= '9':
+			digits++
+			buf[i] = ch
+			continue
+		case ch == dec:
+			marks++
+			buf[i] = '.'
+			continue
+		}
+		break
+	}
+	if digits == 0 || marks > 1 {
+		return 0, false
+	}
+	if i < n {
+		if s[i] != 'e' && s[i] != 'E' {
+			return 0, false
+		}
+		buf[i] = 'e'
+		i++
+		if i < n && (s[i] == '+' || s[i] == '-') {
+			buf[i] = s[i]
+			i++
+		}
+		ed := 0
+		for ; i < n && s[i] >= '0' && s[i] <= '9'; i++ {
+			buf[i] = s[i]
+			ed++
+		}
+		if ed == 0 || i < n {
+			return 0, false
+		}
+	}
+	return finiteFloat(string(buf[:n]))
+}
+
+// finiteFloat parses a validated number; overflow is not a number,
+// underflow gives the nearest representable value.
+func finiteFloat(s string) (float64, bool) {
+	v, err := strconv.ParseFloat(s, 64)
+	if math.IsInf(v, 0) || (err != nil && !errors.Is(err, strconv.ErrRange)) {
+		return 0, false
+	}
+	return v, true
+}
+
+// parseLongNumber handles cells longer than parseNumber's buffer.
+func parseLongNumber(s string, dec byte) (float64, bool) {
+	if dec == ',' {
+		if strings.ContainsRune(s, '.') {
+			return 0, false
+		}
+		s = strings.Replace(s, ",", ".", 1)
+	}
+	// Re-check the grammar on a short form: the digits themselves do not
+	// matter for validity, only their arrangement.
+	var short strings.Builder
+	prevDigit := false
+	for i := 0; i < len(s); i++ {
+		d := s[i] >= '0' && s[i] <= '9'
+		if d && prevDigit {
+			continue
+		}
+		prevDigit = d
+		short.WriteByte(s[i])
+	}
+	if short.Len() > 64 {
+		return 0, false
+	}
+	if _, ok := parseNumber(short.String(), '.'); !ok {
+		return 0, false
+	}
+	return finiteFloat(s)
+}
