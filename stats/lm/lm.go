@@ -1,0 +1,724 @@
+package lm
+
+import (
+	"errors"
+	"fmt"
+	"math"
+
+	"gonum.org/v1/gonum/mat"
+	"gonum.org/v1/gonum/mathext"
+	"gonum.org/v1/gonum/stat/distuv"
+
+	"furrow/stats/design"
+)
+
+// DefaultTol is the default relative tolerance of the rank test: a column
+// is aliased when the part of it not explained by the columns before it has
+// a norm of at most DefaultTol times its own (centred, scaled) norm.
+const DefaultTol = 1e-10
+
+// refineSteps is the number of refinement steps on the augmented system.
+const refineSteps = 3
+
+// Options are the optional settings of a fit. The zero value (or nil)
+// means unweighted, DefaultTol and 95% intervals.
+type Options struct {
+	// Weights are observation weights (inverse variances), one per row, all
+	// finite and >= 0. Rows with weight 0 do not count as observations. Nil
+	// means all 1.
+	Weights []float64
+	// Tol is the rank tolerance; 0 means DefaultTol.
+	Tol float64
+	// Level is the confidence level of the coefficient intervals; 0 means 0.95.
+	Level float64
+}
+
+// Result is a least-squares fit. Slices indexed by coefficient follow the
+// columns of X. Aliased coefficients have NaN in Estimate, StdErr, TValue,
+// PValue, Lower and Upper.
+type Result struct {
+	// N is the number of observations (rows with a positive weight).
+	N int
+	// P is the number of columns of X, Rank the number found independent.
+	P, Rank int
+	// DFResid is the residual degrees of freedom, N - Rank.
+	DFResid int
+	// Names are the column names (from the design matrix; "x1".. otherwise).
+	Names []string
+	// Intercept reports whether the model has an intercept (a constant
+	// column): R2 is then centred, otherwise uncentred.
+	Intercept bool
+	// Aliased lists the columns found linearly dependent on earlier ones.
+	Aliased []int
+
+	Estimate, StdErr, TValue, PValue []float64
+	// Lower and Upper are the confidence limits at Level.
+	Lower, Upper []float64
+	Level        float64
+
+	// Sigma is the residual standard error, RSS the (weighted) residual sum of squares.
+	Sigma, RSS float64
+	// R2 and AdjR2 are the coefficient of determination and its adjusted
+	// version; NaN when the response has no variation.
+	R2, AdjR2 float64
+	// ModelSS, ModelDF, ModelF and ModelP test all coefficients other than
+	// the intercept (all coefficients without an intercept).
+	ModelSS       float64
+	ModelDF       int
+	ModelF        float64
+	ModelP        float64
+	LogLik        float64
+	AIC, BIC      float64
+	Fitted, Resid []float64
+
+	x      *mat.Dense
+	w      []float64
+	dm     *design.Matrix
+	q      *pqr
+	z      []float64 // Q'y (centred, weighted) for the first Rank positions
+	ic     int       // intercept column or -1
+	kappa  float64   // value of the intercept column
+	center []float64
+	scale  []float64
+	coef   []float64 // estimates with 0 for aliased
+	cov    *mat.SymDense
+	tol    float64
+	infl   *Influence
+}
+
+// Fit fits y = X b + e by least squares (weighted when opt.Weights is set).
+//
+// The columns are centred (when X has a constant column) and scaled to unit
+// norm, factorised by Householder QR with column pivoting (see pqr), the
+// solution is refined once with residuals computed in twice the working
+// precision (Golub 1965, Numer Math 7:206, sec. 4), and mapped back to the
+// original columns with its covariance matrix.
+//
+// Errors are returned for data problems: non-finite values, negative
+// weights, no independent column, and no residual degrees of freedom
+// (N <= Rank). A constant response is fine (zero residuals, Sigma 0). Fit
+// panics if len(y) or len(opt.Weights) differ from the rows of x
+// (programmer misuse). x and y are not modified; the Result keeps a
+// reference to x for the influence measures, so x must not change while
+// the Result is in use.
+func Fit(x mat.Matrix, y []float64, opt *Options) (*Result, error) {
+	return fit(x, y, opt, nil)
+}
+
+// FitModel is Fit on a design matrix; the Result then knows the column names
+// and terms, and can produce ANOVA tables.
+func FitModel(m *design.Matrix, y []float64, opt *Options) (*Result, error) {
+	if m == nil || m.X == nil {
+		panic("lm: nil design matrix")
+	}
+	return fit(m.X, y, opt, m)
+}
+
+func fit(x mat.Matrix, y []float64, opt *Options, dm *design.Matrix) (*Result, error) {
+	if opt == nil {
+		opt = &Options{}
+	}
+	n, p := x.Dims()
+	if len(y) != n {
+		panic(fmt.Sprintf("lm: response has %d values, X has %d rows", len(y), n))
+	}
+	w := opt.Weights
+	if w != nil && len(w) != n {
+		panic(fmt.Sprintf("lm: %d weights for %d rows", len(w), n))
+	}
+	tol := opt.Tol
+	if tol == 0 {
+		tol = DefaultTol
+	}
+	if !(tol > 0 && tol < 1) {
+		return nil, fmt.Errorf("fitting linear model: rank tolerance %g not in (0, 1)", tol)
+	}
+	level := opt.Level
+	if level == 0 {
+		level = 0.95
+	}
+	if !(level > 0 && level < 1) {
+		return nil, fmt.Errorf("fitting linear model: confidence level %g not in (0, 1)", level)
+	}
+	xd, ok := x.(*mat.Dense)
+	if !ok {
+		xd = mat.DenseCopyOf(x)
+	}
+	if p == 0 {
+		return nil, errors.New("fitting linear model: X has no columns")
+	}
+	nan, firstNaN := 0, -1
+	for i, v := range y {
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			if nan == 0 {
+				firstNaN = i
+			}
+			nan++
+		}
+	}
+	if nan == n {
+		return nil, errors.New("fitting linear model: the response has no finite value")
+	}
+	if nan > 0 {
+		return nil, fmt.Errorf("fitting linear model: response is not finite at row %d (%d such rows; drop them first)", firstNaN, nan)
+	}
+	npos := n
+	if w != nil {
+		npos = 0
+		for i, v := range w {
+			if math.IsNaN(v) || math.IsInf(v, 0) || v < 0 {
+				return nil, fmt.Errorf("fitting linear model: weight at row %d is %g, must be finite and >= 0", i, v)
+			}
+			if v > 0 {
+				npos++
+			}
+		}
+	}
+	for i := 0; i < n; i++ {
+		for j, v := range xd.RawRowView(i) {
+			if math.IsNaN(v) || math.IsInf(v, 0) {
+				return nil, fmt.Errorf("fitting linear model: X is not finite at row %d, column %d", i, j)
+			}
+		}
+	}
+	if npos <= 0 {
+		return nil, errors.New("fitting linear model: no observation has a positive weight")
+	}
+	sw := make([]float64, n) // square roots of the weights
+	for i := range sw {
+		if w == nil {
+			sw[i] = 1
+		} else {
+			sw[i] = math.Sqrt(w[i])
+		}
+	}
+
+	res := &Result{N: npos, P: p, x: xd, w: w, dm: dm, tol: tol, ic: -1, Level: level}
+	if dm != nil {
+		res.Names = append([]string(nil), dm.Names...)
+		if dm.Intercept {
+			res.ic = 0
+		}
+	} else {
+		res.Names = make([]string, p)
+		for j := range res.Names {
+			res.Names[j] = fmt.Sprintf("x%d", j+1)
+		}
+		res.ic = constantColumn(xd, w)
+	}
+	res.Intercept = res.ic >= 0
+	if res.ic >= 0 {
+		res.kappa = xd.At(firstPositive(w), res.ic)
+		if res.kappa == 0 {
+			res.ic = -1
+			res.Intercept = false
+		}
+	}
+
+	// Centre and scale the columns (column-major copy).
+	res.center = make([]float64, p)
+	res.scale = make([]float64, p)
+	cols := make([][]float64, p)
+	buf := make([]float64, n*p)
+	for j := 0; j < p; j++ {
+		cols[j] = buf[j*n : (j+1)*n : (j+1)*n]
+	}
+	for i := 0; i < n; i++ {
+		row := xd.RawRowView(i)
+		for j, v := range row {
+			cols[j][i] = v
+		}
+	}
+	var ybar float64
+	if res.ic >= 0 {
+		ybar = wmean(y, w)
+		for j := 0; j < p; j++ {
+			if j != res.ic {
+				res.center[j] = wmean(cols[j], w)
+			}
+		}
+	}
+	for j := 0; j < p; j++ {
+		c := cols[j]
+		cj := res.center[j]
+		for i := range c {
+			c[i] = sw[i] * (c[i] - cj)
+		}
+		s := math.Sqrt(sumSq2(c, nil))
+		if s == 0 {
+			s = 1
+		}
+		res.scale[j] = s
+		for i := range c {
+			c[i] /= s
+		}
+	}
+	yc := make([]float64, n)
+	for i, v := range y {
+		yc[i] = sw[i] * (v - ybar)
+	}
+
+	q := factorize(cols, n, tol, res.ic)
+	res.q = q
+	res.Rank = q.rank
+	if q.rank == 0 {
+		return nil, errors.New("fitting linear model: X has no nonzero column")
+	}
+	res.DFResid = npos - q.rank
+	if res.DFResid <= 0 {
+		return nil, fmt.Errorf("fitting linear model: no residual degrees of freedom (%d observations, rank %d)", npos, q.rank)
+	}
+	for k := q.rank; k < p; k++ {
+		res.Aliased = append(res.Aliased, q.piv[k])
+	}
+
+	qty := append([]float64(nil), yc...)
+	q.qtApply(qty)
+	res.z = append([]float64(nil), qty[:q.rank]...)
+	g := append([]float64(nil), res.z...)
+	q.solveR(g)
+	b := res.toOriginal(g)
+	if res.ic >= 0 {
+		b[res.ic] += ybar / res.kappa
+	}
+
+	// Iterative refinement of solution and residual together on the
+	// augmented system [I Z; Z' 0][r; g] = [y; 0] (Björck 1967, "Iterative
+	// refinement of linear least squares solutions I", BIT 7:257-278), with
+	// the residuals f = y - r - Xb and g = -Z'r in twice the working
+	// precision. Unlike refining the solution alone (Golub 1965), this also
+	// converges for large-residual problems.
+	res.coef = b
+	rr := make([]float64, n) // weighted residual estimate
+	for i := 0; i < n; i++ {
+		rr[i] = sw[i] * dot2(y[i], xd.RawRowView(i), b, 0)
+	}
+	fv := make([]float64, n)
+	for it := 0; it < refineSteps; it++ {
+		for i := 0; i < n; i++ {
+			if sw[i] == 0 {
+				fv[i] = 0
+				continue
+			}
+			fv[i] = sw[i] * dot2(y[i], xd.RawRowView(i), b, rr[i]/sw[i])
+		}
+		gv := res.ztr(rr, sw)
+		for k := range gv {
+			gv[k] = -gv[k]
+		}
+		// h = R^-T g
+		h := gv
+		for k := 0; k < q.rank; k++ {
+			s := h[k]
+			for m := 0; m < k; m++ {
+				s -= q.r(m, k) * h[m]
+			}
+			h[k] = s / q.rdiag[k]
+		}
+		q.qtApply(fv)
+		dg := make([]float64, q.rank)
+		for k := range dg {
+			dg[k] = fv[k] - h[k]
+			fv[k] = h[k]
+		}
+		q.qApply(fv) // dr = Q [h; d2]
+		q.solveR(dg)
+		db := res.toOriginal(dg)
+		for j := range b {
+			b[j] += db[j]
+		}
+		for i := range rr {
+			rr[i] += fv[i]
+		}
+	}
+	res.coef = b
+
+	// Residuals, fitted values, sums of squares.
+	res.Resid = make([]float64, n)
+	res.Fitted = make([]float64, n)
+	for i := 0; i < n; i++ {
+		e := dot2(y[i], xd.RawRowView(i), b, 0)
+		res.Resid[i] = e
+		res.Fitted[i] = y[i] - e
+	}
+	res.RSS = sumSq2(res.Resid, w)
+	df := float64(res.DFResid)
+	res.Sigma = math.Sqrt(res.RSS / df)
+
+	// Model sum of squares: sum of w (f - fbar)^2, or sum w f^2 without intercept.
+	f := res.Fitted
+	if res.ic >= 0 {
+		fbar := wmean(f, w)
+		f = make([]float64, n)
+		for i, v := range res.Fitted {
+			f[i] = v - fbar
+		}
+	}
+	res.ModelSS = sumSq2(f, w)
+	res.ModelDF = q.rank
+	if res.ic >= 0 {
+		res.ModelDF--
+	}
+	res.R2 = math.NaN()
+	res.AdjR2 = math.NaN()
+	if tot := res.ModelSS + res.RSS; tot > 0 {
+		res.R2 = res.ModelSS / tot
+		dfint := 0.0
+		if res.ic >= 0 {
+			dfint = 1
+		}
+		res.AdjR2 = 1 - (1-res.R2)*(float64(npos)-dfint)/df
+	}
+	res.ModelF, res.ModelP = math.NaN(), math.NaN()
+	if res.ModelDF > 0 {
+		res.ModelF = (res.ModelSS / float64(res.ModelDF)) / (res.RSS / df)
+		res.ModelP = fUpper(res.ModelF, float64(res.ModelDF), df)
+	}
+
+	// Log-likelihood of the normal model with variance sigma^2/w at the ML
+	// estimate of sigma^2.
+	var sumlogw float64
+	if w != nil {
+		for _, v := range w {
+			if v > 0 {
+				sumlogw += math.Log(v)
+			}
+		}
+	}
+	nf := float64(npos)
+	res.LogLik = 0.5 * (sumlogw - nf*(math.Log(2*math.Pi)+1-math.Log(nf)+math.Log(res.RSS)))
+	k := float64(q.rank + 1)
+	res.AIC = -2*res.LogLik + 2*k
+	res.BIC = -2*res.LogLik + math.Log(nf)*k
+
+	res.cov = res.covariance()
+	res.coefTable()
+	return res, nil
+}
+
+// ztr returns Z'r for the centred, scaled, weighted columns Z = sqrt(W) X T
+// (T the map of toOriginal), by pivot position, from X'(sqrt(w) r) summed
+// with compensation.
+func (r *Result) ztr(rr, sw []float64) []float64 {
+	n, p := r.x.Dims()
+	s := make([]float64, p)
+	c := make([]float64, p)
+	for i := 0; i < n; i++ {
+		if sw[i] == 0 {
+			continue
+		}
+		ri := rr[i] * sw[i]
+		for j, v := range r.x.RawRowView(i) {
+			hi, lo := twoProd(v, ri)
+			var e float64
+			s[j], e = twoSum(s[j], hi)
+			c[j] += e + lo
+		}
+	}
+	for j := range s {
+		s[j] += c[j]
+	}
+	out := make([]float64, r.q.rank)
+	for k := range out {
+		j := r.q.piv[k]
+		v := s[j]
+		if r.ic >= 0 && j != r.ic {
+			v -= s[r.ic] * r.center[j] / r.kappa
+		}
+		out[k] = v / r.scale[j]
+	}
+	return out
+}
+
+// toOriginal maps coefficients of the centred, scaled columns (by pivot
+// position, length Rank) to the original columns (length P, zero where
+// aliased).
+func (r *Result) toOriginal(g []float64) []float64 {
+	b := make([]float64, r.P)
+	for k := 0; k < r.q.rank; k++ {
+		j := r.q.piv[k]
+		b[j] = g[k] / r.scale[j]
+	}
+	if r.ic >= 0 {
+		var s float64
+		for j := range b {
+			if j != r.ic {
+				s += r.center[j] / r.kappa * b[j]
+			}
+		}
+		b[r.ic] -= s
+	}
+	return b
+}
+
+// covariance returns sigma^2 B B' with B = A R11^{-1}, A the map toOriginal.
+func (r *Result) covariance() *mat.SymDense {
+	q := r.q
+	rk := q.rank
+	ri := q.rinv()
+	B := mat.NewDense(r.P, rk, nil)
+	col := make([]float64, rk)
+	for c := 0; c < rk; c++ {
+		for k := 0; k < rk; k++ {
+			col[k] = ri[k*rk+c]
+		}
+		bc := r.toOriginal(col)
+		for j := 0; j < r.P; j++ {
+			B.Set(j, c, bc[j])
+		}
+	}
+	cov := mat.NewSymDense(r.P, nil)
+	cov.SymOuterK(r.Sigma*r.Sigma, B)
+	return cov
+}
+
+func (r *Result) coefTable() {
+	p := r.P
+	r.Estimate = make([]float64, p)
+	r.StdErr = make([]float64, p)
+	r.TValue = make([]float64, p)
+	r.PValue = make([]float64, p)
+	r.Lower = make([]float64, p)
+	r.Upper = make([]float64, p)
+	df := float64(r.DFResid)
+	tq := distuv.StudentsT{Mu: 0, Sigma: 1, Nu: df}.Quantile(1 - (1-r.Level)/2)
+	for j := 0; j < p; j++ {
+		b := r.coef[j]
+		se := math.Sqrt(r.cov.At(j, j))
+		t := b / se
+		r.Estimate[j], r.StdErr[j], r.TValue[j] = b, se, t
+		r.PValue[j] = tTwoSided(t, df)
+		r.Lower[j], r.Upper[j] = b-tq*se, b+tq*se
+	}
+	for _, j := range r.Aliased {
+		nan := math.NaN()
+		r.Estimate[j], r.StdErr[j], r.TValue[j], r.PValue[j], r.Lower[j], r.Upper[j] = nan, nan, nan, nan, nan, nan
+	}
+}
+
+// Coefficients returns a copy of the estimates, with 0 for aliased
+// coefficients (the solution that drops the aliased columns).
+func (r *Result) Coefficients() []float64 { return append([]float64(nil), r.coef...) }
+
+// CoefCov returns a copy of the P x P covariance matrix of the estimates.
+// Rows and columns of aliased coefficients are zero; a contrast that gives
+// weight to them is only meaningful if Estimable says so.
+func (r *Result) CoefCov() *mat.SymDense {
+	c := mat.NewSymDense(r.P, nil)
+	c.CopySym(r.cov)
+	return c
+}
+
+// DF returns the degrees of freedom of the contrast l: the residual degrees
+// of freedom, the same for every contrast in a fixed-effects model.
+func (r *Result) DF(l []float64) float64 { return float64(r.DFResid) }
+
+// Estimable reports whether l'b is estimable, i.e. l is orthogonal to every
+// null-space direction of X implied by the aliased columns (relative
+// tolerance 1e-8). It panics if len(l) != P.
+func (r *Result) Estimable(l []float64) bool {
+	if len(l) != r.P {
+		panic("lm: contrast length does not match the coefficients")
+	}
+	for _, d := range r.nullSpace() {
+		var s, nl, nd float64
+		for j := range l {
+			s += l[j] * d[j]
+			nl += l[j] * l[j]
+			nd += d[j] * d[j]
+		}
+		if math.Abs(s) > 1e-8*math.Sqrt(nl*nd) {
+			return false
+		}
+	}
+	return true
+}
+
+// nullSpace returns one direction d (X d = 0) per aliased column.
+func (r *Result) nullSpace() [][]float64 {
+	q := r.q
+	rk := q.rank
+	var out [][]float64
+	for k := rk; k < r.P; k++ {
+		a := make([]float64, rk)
+		for i := 0; i < rk; i++ {
+			a[i] = q.r(i, k)
+		}
+		q.solveR(a)
+		// gamma: 1 at the aliased column, -a at the pivots.
+		d := make([]float64, r.P)
+		for i := 0; i < rk; i++ {
+			d[q.piv[i]] = -a[i] / r.scale[q.piv[i]]
+		}
+		j := q.piv[k]
+		d[j] = 1 / r.scale[j]
+		if r.ic >= 0 {
+			var s float64
+			for c := range d {
+				if c != r.ic {
+					s += r.center[c] / r.kappa * d[c]
+				}
+			}
+			d[r.ic] -= s
+		}
+		out = append(out, d)
+	}
+	return out
+}
+
+// AliasedNames returns the names of the aliased columns.
+func (r *Result) AliasedNames() []string {
+	out := make([]string, len(r.Aliased))
+	for i, j := range r.Aliased {
+		out[i] = r.Names[j]
+	}
+	return out
+}
+
+// Influence holds per-observation diagnostics. Rows with weight 0 have
+// leverage 0 and NaN for the scaled residuals and Cook's distance.
+type Influence struct {
+	// Leverage is the diagonal of the hat matrix.
+	Leverage []float64
+	// Standardized are e_i sqrt(w_i) / (sigma sqrt(1 - h_i)).
+	Standardized []float64
+	// Studentized are externally studentised residuals, using the residual
+	// standard error with observation i deleted.
+	Studentized []float64
+	// Cook is Cook's distance (Cook 1977, Technometrics 19:15).
+	Cook []float64
+}
+
+// Influence computes leverage, standardised and studentised residuals and
+// Cook's distance. The leverage of row i is ||R^-T z_i||^2 with z_i the
+// centred, scaled, weighted row (no n x n hat matrix is formed). An
+// observation with leverage 1 has NaN scaled residuals.
+func (r *Result) Influence() *Influence {
+	if r.infl != nil {
+		return r.infl
+	}
+	q := r.q
+	rk := q.rank
+	n, _ := r.x.Dims()
+	inf := &Influence{Leverage: make([]float64, n), Standardized: make([]float64, n), Studentized: make([]float64, n), Cook: make([]float64, n)}
+	u := make([]float64, rk)
+	df := float64(r.DFResid)
+	s2 := r.RSS / df
+	for i := 0; i < n; i++ {
+		wi := 1.0
+		if r.w != nil {
+			wi = r.w[i]
+		}
+		if wi == 0 {
+			inf.Leverage[i] = 0
+			nan := math.NaN()
+			inf.Standardized[i], inf.Studentized[i], inf.Cook[i] = nan, nan, nan
+			continue
+		}
+		row := r.x.RawRowView(i)
+		sw := math.Sqrt(wi)
+		// Forward substitution R' u = z.
+		var h float64
+		for k := 0; k < rk; k++ {
+			j := q.piv[k]
+			s := sw * (row[j] - r.center[j]) / r.scale[j]
+			for m := 0; m < k; m++ {
+				s -= q.r(m, k) * u[m]
+			}
+			u[k] = s / q.rdiag[k]
+			h += u[k] * u[k]
+		}
+		inf.Leverage[i] = h
+		e := sw * r.Resid[i]
+		om := 1 - h
+		inf.Standardized[i] = e / math.Sqrt(s2*om)
+		s2i := (r.RSS - e*e/om) / (df - 1)
+		inf.Studentized[i] = e / math.Sqrt(s2i*om)
+		inf.Cook[i] = e * e * h / (float64(rk) * s2 * om * om)
+	}
+	r.infl = inf
+	return inf
+}
+
+// tTwoSided returns P(|T| > |t|) for Student's t with df degrees of freedom,
+// computed directly as the regularised incomplete beta I_{df/(df+t^2)}(df/2, 1/2).
+func tTwoSided(t, df float64) float64 {
+	if math.IsNaN(t) {
+		return math.NaN()
+	}
+	if math.IsInf(t, 0) {
+		return 0
+	}
+	return mathext.RegIncBeta(df/2, 0.5, df/(df+t*t))
+}
+
+// fUpper returns P(F > f) for F on (d1, d2) degrees of freedom, directly as
+// I_{d2/(d2+d1 f)}(d2/2, d1/2).
+func fUpper(f, d1, d2 float64) float64 {
+	if math.IsNaN(f) {
+		return math.NaN()
+	}
+	if math.IsInf(f, 1) {
+		return 0
+	}
+	if f <= 0 {
+		return 1
+	}
+	return mathext.RegIncBeta(d2/2, d1/2, d2/(d2+d1*f))
+}
+
+// wmean is a weighted two-pass mean.
+func wmean(x, w []float64) float64 {
+	var s, sw float64
+	for i, v := range x {
+		wi := 1.0
+		if w != nil {
+			wi = w[i]
+		}
+		s += wi * v
+		sw += wi
+	}
+	mu := s / sw
+	var c float64
+	for i, v := range x {
+		wi := 1.0
+		if w != nil {
+			wi = w[i]
+		}
+		c += wi * (v - mu)
+	}
+	return mu + c/sw
+}
+
+// constantColumn returns the first column whose entries (on rows with a
+// positive weight) are all equal and nonzero, or -1.
+func constantColumn(x *mat.Dense, w []float64) int {
+	n, p := x.Dims()
+	i0 := firstPositive(w)
+	for j := 0; j < p; j++ {
+		v0 := x.At(i0, j)
+		if v0 == 0 {
+			continue
+		}
+		ok := true
+		for i := 0; i < n && ok; i++ {
+			if w != nil && w[i] == 0 {
+				continue
+			}
+			ok = x.At(i, j) == v0
+		}
+		if ok {
+			return j
+		}
+	}
+	return -1
+}
+
+func firstPositive(w []float64) int {
+	for i, v := range w {
+		if v > 0 {
+			return i
+		}
+	}
+	return 0
+}
