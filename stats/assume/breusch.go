@@ -27,10 +27,10 @@ func BreuschPaganFitted(resid, fitted []float64) (BreuschPaganResult, error) {
 	if len(resid) != len(fitted) {
 		return BreuschPaganResult{}, fmt.Errorf("breusch-pagan: %d residuals but %d fitted values", len(resid), len(fitted))
 	}
-	z := mat.NewDense(len(fitted), 1, append([]float64(nil), fitted...))
-	if len(fitted) == 0 {
-		return BreuschPaganResult{}, fmt.Errorf("breusch-pagan: %w: no residuals", ErrTooFew)
+	if len(fitted) < 3 {
+		return BreuschPaganResult{}, fmt.Errorf("breusch-pagan: %w: %d residuals, need at least 3", ErrTooFew, len(fitted))
 	}
+	z := mat.NewDense(len(fitted), 1, append([]float64(nil), fitted...))
 	return BreuschPagan(resid, z)
 }
 
@@ -46,6 +46,9 @@ func BreuschPaganFitted(resid, fitted []float64) (BreuschPaganResult, error) {
 // The inputs are not modified.
 func BreuschPagan(resid []float64, z mat.Matrix) (BreuschPaganResult, error) {
 	n := len(resid)
+	if n == 0 {
+		return BreuschPaganResult{}, fmt.Errorf("breusch-pagan: %w: no residuals", ErrTooFew)
+	}
 	r, p := z.Dims()
 	if r != n {
 		return BreuschPaganResult{}, fmt.Errorf("breusch-pagan: %d residuals but %d rows of regressors", n, r)

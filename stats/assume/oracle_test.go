@@ -32,8 +32,12 @@ func TestPlantGrowthOracle(t *testing.T) {
 	decodeJSON(t, readShared(t, "oracle/ref/case05_plantgrowth.json"), &ref)
 	// fRef uses keys F/df1/df2/p; the oracle writes p_value.
 	var raw struct {
-		LevMed  struct{ P float64 `json:"p_value"` } `json:"levene_median"`
-		LevMean struct{ P float64 `json:"p_value"` } `json:"levene_mean"`
+		LevMed struct {
+			P float64 `json:"p_value"`
+		} `json:"levene_median"`
+		LevMean struct {
+			P float64 `json:"p_value"`
+		} `json:"levene_mean"`
 	}
 	decodeJSON(t, readShared(t, "oracle/ref/case05_plantgrowth.json"), &raw)
 	ref.LevMed.P, ref.LevMean.P = raw.LevMed.P, raw.LevMean.P
