@@ -1,5 +1,7 @@
 package plan
 
+import "strings"
+
 // FormatVersion is the plan-format version this package reads. A plan
 // declares it in its top-level "furrow" field.
 const FormatVersion = 1
@@ -23,6 +25,32 @@ type Plan struct {
 
 	// Pos is the position of the document root.
 	Pos Pos
+
+	// Where maps the data path of every value read from YAML (the form
+	// of Diagnostic.Path: "endpoints[0].steps[1].on-fail") to the
+	// position of that value. Use PosOf, which falls back to the closest
+	// enclosing value for paths that were not written (defaults).
+	Where map[string]Pos
+}
+
+// PosOf returns the position of the value at the data path, or of the
+// closest enclosing value that was written in the plan, or the root
+// position.
+func (p *Plan) PosOf(path string) Pos {
+	for {
+		if pos, ok := p.Where[path]; ok {
+			return pos
+		}
+		if path == "" {
+			return p.Pos
+		}
+		i := max(strings.LastIndexByte(path, '.'), strings.LastIndexByte(path, '['))
+		if i < 0 {
+			path = ""
+		} else {
+			path = path[:i]
+		}
+	}
 }
 
 // Trial identifies the trial and the plan version.
@@ -183,7 +211,10 @@ type Transform struct {
 	Kind   string
 	Offset float64 // log-offset
 	Lambda float64 // box-cox
-	Pos    Pos
+	// HasOffset and HasLambda record whether offset and lambda were
+	// written (so that a stray one can be refused).
+	HasOffset, HasLambda bool
+	Pos                  Pos
 }
 
 // Term is a model term: one column name, or several for an interaction
@@ -264,7 +295,9 @@ type Margin struct {
 	Scale string  // "difference" or "ratio"
 	Lower float64 // equivalence: both; non-inferiority: Lower only (Upper for lower-is-better)
 	Upper float64
-	Pos   Pos
+	// HasLower and HasUpper record whether each bound was written.
+	HasLower, HasUpper bool
+	Pos                Pos
 }
 
 // Hypothesis is a pre-declared question answered on the accepted step.
@@ -280,7 +313,7 @@ type Hypothesis struct {
 	Margin  *Margin
 	Sides   string  // "two-sided" (default), "greater", "less"
 	Better  string  // non-inferiority: "higher" (default) or "lower"
-	Alpha   float64 // 0 = the endpoint's
+	Alpha   float64 // filled with the endpoint's alpha when not written
 	Adjust  string
 	Pos     Pos
 }

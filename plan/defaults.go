@@ -1,0 +1,113 @@
+package plan
+
+import (
+	"path"
+	"strings"
+)
+
+// Default values filled after decoding. They are part of the plan's
+// meaning and so of its canonical form and hash.
+const (
+	DefaultAlpha     = 0.05
+	DefaultAnova     = 3
+	DefaultDecimal   = "."
+	DefaultDelimiter = ","
+)
+
+// fillDefaults sets every value the plan left out to its documented
+// default. It is run on a freshly decoded plan only.
+func (p *Plan) fillDefaults() {
+	if p.Data.Format == "" {
+		switch strings.ToLower(path.Ext(p.Data.File)) {
+		case ".xlsx":
+			p.Data.Format = "xlsx"
+		case ".csv", ".txt", ".tsv":
+			p.Data.Format = "csv"
+		}
+	}
+	if p.Data.Format == "csv" && p.Data.Delimiter == "" {
+		p.Data.Delimiter = DefaultDelimiter
+	}
+	if p.Data.Decimal == "" {
+		p.Data.Decimal = DefaultDecimal
+	}
+	if p.Data.Missing == nil {
+		p.Data.Missing = []string{""}
+	}
+	treatment := ""
+	for _, c := range p.Columns {
+		if c.Role == RoleTreatment {
+			treatment = c.Name
+			break
+		}
+	}
+	for i := range p.Endpoints {
+		e := &p.Endpoints[i]
+		if e.Alpha == 0 {
+			e.Alpha = DefaultAlpha
+		}
+		for j := range e.Steps {
+			s := &e.Steps[j]
+			if s.Outcome.Derive == "" {
+				s.Outcome.Derive = DeriveRaw
+			}
+			if s.Transform.Kind == "" {
+				s.Transform.Kind = TransformNone
+			}
+			switch s.Model {
+			case ModelLinear:
+				if s.DF == "" {
+					s.DF = DFResidual
+				}
+				if s.Anova == 0 {
+					s.Anova = DefaultAnova
+				}
+			case ModelMixed:
+				if s.DF == "" {
+					s.DF = DFSatterthwaite
+				}
+				if s.Anova == 0 {
+					s.Anova = DefaultAnova
+				}
+				if s.Estimation == "" {
+					s.Estimation = "reml"
+				}
+			}
+			for k := range s.Checks {
+				c := &s.Checks[k]
+				if c.By == nil && isGroupVarianceTest(c.Test) && treatment != "" {
+					c.By = []string{treatment}
+				}
+			}
+		}
+		for j := range e.Hypotheses {
+			h := &e.Hypotheses[j]
+			if h.Factor == "" && h.Kind != HypTerm {
+				h.Factor = treatment
+			}
+			if h.Sides == "" {
+				h.Sides = "two-sided"
+			}
+			if h.Better == "" && h.Kind == HypNonInferiority {
+				h.Better = "higher"
+			}
+			if h.Alpha == 0 {
+				h.Alpha = e.Alpha
+			}
+			if h.Adjust == "" {
+				switch h.Kind {
+				case HypVersusControl:
+					h.Adjust = AdjustDunnett
+				case HypPairwise:
+					h.Adjust = AdjustTukey
+				default:
+					h.Adjust = AdjustNone
+				}
+			}
+		}
+	}
+}
+
+func isGroupVarianceTest(t string) bool {
+	return t == CheckLevene || t == CheckBrownForsythe || t == CheckBartlett
+}
