@@ -354,9 +354,12 @@ func (m *Matrix) fill(data []float64, n, p int) {
 // place when capacity allows (a is overwritten).
 func kron(a, b []float64) []float64 {
 	na := len(a)
-	out := a[:na*len(b)]
-	if cap(a) < na*len(b) {
+	var out []float64
+	if cap(a) >= na*len(b) {
+		out = a[:na*len(b)]
+	} else {
 		out = make([]float64, na*len(b))
+		copy(out, a)
 	}
 	// Fill from the back so a's values are read before they are overwritten.
 	for j := len(b) - 1; j >= 0; j-- {

@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"strings"
 
 	"furrow/stats/design"
 )
@@ -59,7 +60,9 @@ type ANOVATable struct {
 //
 // Type III needs sum-to-zero coding when the model has an interaction; with
 // treatment coding it returns an error rather than a table whose main
-// effects test differences at a reference level.
+// effects test differences at a reference level. Type III is also refused
+// when the model has aliased columns (an empty cell): the hypothesis of
+// equal-weight marginal means is then not testable as stated.
 func (r *Result) ANOVA(typ int) (*ANOVATable, error) {
 	m := r.dm
 	if m == nil {
@@ -74,6 +77,9 @@ func (r *Result) ANOVA(typ int) (*ANOVATable, error) {
 					return nil, errors.New("anova: type III needs sum-to-zero coding in a model with interactions")
 				}
 			}
+		}
+		if len(r.Aliased) > 0 {
+			return nil, fmt.Errorf("anova: type III tests are not defined with aliased columns (%s)", strings.Join(r.AliasedNames(), ", "))
 		}
 	default:
 		return nil, fmt.Errorf("anova: unknown table type %d", typ)
