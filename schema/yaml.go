@@ -70,7 +70,7 @@ func (c *converter) value(n *yaml.Node, ptr string, depth int) (any, bool) {
 		return nil, false
 	}
 	if n.Kind == yaml.AliasNode {
-		c.problem(n, ptr, "yaml-alias", "aliases (*name) are not allowed in a plan; write the value out")
+		c.problem(n, ptr, "yaml-alias", "aliases (*"+n.Value+") are not allowed in a plan; write the value out")
 		return nil, false
 	}
 	if n.Anchor != "" {
@@ -85,22 +85,18 @@ func (c *converter) value(n *yaml.Node, ptr string, depth int) (any, bool) {
 		}
 		m := make(map[string]any, len(n.Content)/2)
 		first := map[string]*yaml.Node{}
-		ok := true
 		for i := 0; i+1 < len(n.Content); i += 2 {
 			k, val := n.Content[i], n.Content[i+1]
 			if k.Kind != yaml.ScalarNode || (k.ShortTag() != "!!str" && k.ShortTag() != "!!merge") {
 				c.problem(k, ptr, "bad-key", "keys must be plain names")
-				ok = false
 				continue
 			}
 			if k.ShortTag() == "!!merge" {
 				c.problem(k, ptr, "yaml-alias", "merge keys (<<) are not allowed in a plan; write the keys out")
-				ok = false
 				continue
 			}
 			if f, dup := first[k.Value]; dup {
 				c.problem(k, ptr, "yaml-duplicate-key", "the key "+strconv.Quote(k.Value)+" appears twice; the first is at line "+strconv.Itoa(f.Line))
-				ok = false
 				continue
 			}
 			first[k.Value] = k
@@ -108,28 +104,25 @@ func (c *converter) value(n *yaml.Node, ptr string, depth int) (any, bool) {
 			cw := c.ix[cp]
 			cw.KeyLine, cw.KeyColumn = k.Line, k.Column
 			c.ix[cp] = cw
+			// A refused value is left out; its problem is already reported.
 			if v, vok := c.value(val, cp, depth+1); vok {
 				m[k.Value] = v
-			} else {
-				ok = false
 			}
 		}
-		return m, ok
+		return m, true
 	case yaml.SequenceNode:
 		if n.Tag != "" && n.ShortTag() != "!!seq" {
 			c.problem(n, ptr, "yaml-tag", "the tag "+n.Tag+" is not allowed in a plan")
 			return nil, false
 		}
 		a := make([]any, 0, len(n.Content))
-		ok := true
 		for i, e := range n.Content {
-			v, eok := c.value(e, ptr+"/"+strconv.Itoa(i), depth+1)
-			if !eok {
-				ok = false
-			}
+			// A refused element stays as null so that indexes keep their
+			// meaning; problems at its pointer are suppressed.
+			v, _ := c.value(e, ptr+"/"+strconv.Itoa(i), depth+1)
 			a = append(a, v)
 		}
-		return a, ok
+		return a, true
 	case yaml.ScalarNode:
 		return c.scalar(n, ptr)
 	}
