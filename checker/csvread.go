@@ -76,7 +76,7 @@ func readCSV(name string, data []byte, o *readOptions) (*Table, plan.Diagnostics
 		}
 		if b == nil {
 			var hd plan.Diagnostics
-			b, hd = newTableBuilder(name, FormatCSV, "", line, rec, o)
+			b, hd = newTableBuilder(name, FormatCSV, "", line, rec, o, bytes.Count(data, []byte{'\n'}))
 			diags = append(diags, hd...)
 			continue
 		}

@@ -441,13 +441,16 @@ type tableBuilder struct {
 // newTableBuilder makes the columns from the header cells. Blank header
 // cells are kept until the end (they are dropped when their column is blank
 // throughout, else reported).
-func newTableBuilder(name, format, sheet string, headerRow int, header []string, o *readOptions) (*tableBuilder, plan.Diagnostics) {
-	t := &Table{Path: name, Format: format, Sheet: sheet, HeaderRow: headerRow, index: map[string]int{}}
+// sizeHint is the expected number of rows (it only sets capacities).
+func newTableBuilder(name, format, sheet string, headerRow int, header []string, o *readOptions, sizeHint int) (*tableBuilder, plan.Diagnostics) {
+	t := &Table{Path: name, Format: format, Sheet: sheet, HeaderRow: headerRow, index: map[string]int{},
+		rows: make([]int, 0, sizeHint)}
 	b := &tableBuilder{t: t, opts: o, width: len(header)}
 	var diags plan.Diagnostics
 	for i, h := range header {
 		h = trimCell(strings.TrimPrefix(h, "\uFEFF"))
-		col := &Column{Name: h, Index: i + 1, Numeric: o.numeric[h]}
+		col := &Column{Name: h, Index: i + 1, Numeric: o.numeric[h],
+			Text: make([]string, 0, sizeHint), Num: make([]float64, 0, sizeHint), Missing: make([]bool, 0, sizeHint)}
 		if h != "" {
 			if j, dup := t.index[h]; dup {
 				diags = append(diags, plan.Diagnostic{

@@ -88,7 +88,7 @@ func readXLSX(name string, data []byte, o *readOptions) (*Table, plan.Diagnostic
 		}
 		if b == nil {
 			var hd plan.Diagnostics
-			b, hd = newTableBuilder(name, FormatXLSX, sheet, rowNum, cells, o)
+			b, hd = newTableBuilder(name, FormatXLSX, sheet, rowNum, cells, o, len(rows)-i)
 			diags = append(diags, hd...)
 			continue
 		}
@@ -215,7 +215,7 @@ func dateFormatKind(code string) int {
 	if sec, _, ok := strings.Cut(code, ";"); ok {
 		code = sec
 	}
-	var hasDate, hasTime bool
+	var hasDate, hasTime, hasM bool
 	for i := 0; i < len(code); i++ {
 		switch ch := code[i]; ch {
 		case '"':
@@ -238,15 +238,15 @@ func dateFormatKind(code string) int {
 		case 'h', 'H', 's', 'S':
 			hasTime = true
 		case 'm', 'M':
-			// m is a month unless it sits next to an hour or second token;
-			// either way the cell shows a date or time.
-			hasDate = true
+			hasM = true
 		case 'g', 'G':
 			if strings.HasPrefix(strings.ToLower(code[i:]), "general") {
 				i += len("general") - 1
 			}
 		}
 	}
+	// m is a month in a date format and minutes next to hours or seconds;
+	// alone (as in "mmm") it is a month.
 	switch {
 	case hasDate && hasTime:
 		return 2
@@ -254,6 +254,8 @@ func dateFormatKind(code string) int {
 		return 1
 	case hasTime:
 		return 3
+	case hasM:
+		return 1
 	}
 	return 0
 }
