@@ -40,6 +40,10 @@ var commands = []*command{
 	lintCommand,
 	checkCommand,
 	schemaCommand,
+	registerCommand,
+	runCommand,
+	verifyCommand,
+	keygenCommand,
 	versionCommand,
 }
 
