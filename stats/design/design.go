@@ -241,7 +241,7 @@ func Build(f *Frame, s Spec) (*Matrix, error) {
 		}
 		key := setKey(t.Vars, "")
 		for _, k := range keys {
-			if k == key && (k != "" || !s.Intercept) {
+			if k == key && k != "" {
 				return nil, fmt.Errorf("building model matrix: term %q appears twice", t.Label())
 			}
 		}
@@ -296,6 +296,12 @@ func Build(f *Frame, s Spec) (*Matrix, error) {
 		m.Terms = append(m.Terms, tc)
 		m.plans = append(m.plans, tp)
 		keys = append(keys, key)
+		// A factor main effect coded by indicators spans the constant: in a
+		// model without intercept, later terms treat the intercept as
+		// present (the first factor gets all levels, the others contrasts).
+		if len(tc.Vars) == 1 && tc.Indicator[0] && !contains(keys, "") {
+			keys = append(keys, "")
+		}
 	}
 	n := f.n
 	if n == 0 || p == 0 {

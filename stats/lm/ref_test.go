@@ -13,8 +13,8 @@ import (
 
 // Reference values in testdata/ref.json were produced by testdata/ref.R
 // with R 4.2.2 (stats::lm, anova, hatvalues, rstandard, rstudent,
-// cooks.distance, logLik), car 3.1-1 (Anova types 2 and 3) and jsonlite
-// 1.8.4; the script records the exact calls.
+// cooks.distance, logLik), car 3.1-1 (Anova types 2 and 3), emmeans
+// 1.8.4-1 and jsonlite 1.8.4; the script records the exact calls.
 
 type rFit struct {
 	CoefNames    []string   `json:"coef_names"`
@@ -67,6 +67,8 @@ type refFile struct {
 		Type2         rTab                 `json:"type2"`
 		Type3         rTab                 `json:"type3"`
 		WeightedType2 rTab                 `json:"weighted_type2"`
+		EmmA          map[string][]float64 `json:"emm_A"`
+		EmmAB         map[string][]float64 `json:"emm_AB"`
 	} `json:"unbal"`
 	Missing struct {
 		Data  map[string][]float64 `json:"data"`
@@ -409,9 +411,9 @@ func TestUnbalancedAgainstR(t *testing.T) {
 	}
 	compareFit(t, r0, m0, levels, ref.Unbal.NoInt, rTol)
 
-	// Nested: A + A:B, B coded by contrasts within each level of A... in R
-	// A:B after A gets indicator coding for B's levels within A minus
-	// aliased ones; compare the fit and the sequential table.
+	// Nested: A + A:B. B enters A:B without its main effect, so A is coded
+	// by indicators and B by contrasts within each level of A (R does the
+	// same); compare the fit and the sequential table.
 	mn, err := design.Build(fr, design.Spec{Intercept: true, Terms: terms("A", "A:B")})
 	if err != nil {
 		t.Fatal(err)

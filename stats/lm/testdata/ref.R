@@ -3,6 +3,7 @@
 ## Writes ref.json. Requires R (stats), car and jsonlite (Debian packages).
 ## Data: datasets::npk and invented, seeded layouts generated below.
 suppressMessages(library(car))
+suppressMessages(library(emmeans))
 library(jsonlite)
 
 fitinfo <- function(fit) {
@@ -38,7 +39,8 @@ tab <- function(a) {
 
 out <- list(meta = list(
   R = R.version.string, car = as.character(packageVersion("car")),
-  jsonlite = as.character(packageVersion("jsonlite"))))
+  jsonlite = as.character(packageVersion("jsonlite")),
+  emmeans = as.character(packageVersion("emmeans"))))
 
 ## 1. npk, treatment contrasts: yield ~ block + N*P*K (N:P:K confounded with blocks).
 options(contrasts = c("contr.treatment", "contr.poly"))
@@ -68,7 +70,9 @@ out$unbal <- list(
   call = "lm(y ~ A*B + x) with contr.sum and contr.treatment; car::Anova types 2 and 3 (contr.sum); weighted fit; lm(y ~ 0 + A + x)",
   sum = fitinfo(fs), treatment = fitinfo(ft), weighted = fitinfo(fw), noint = fitinfo(f0),
   type1 = tab(anova(fs)), type2 = tab(Anova(fs, type = 2)), type3 = tab(Anova(fs, type = 3)),
-  weighted_type2 = tab(Anova(fw, type = 2)))
+  weighted_type2 = tab(Anova(fw, type = 2)),
+  emm_A = as.list(as.data.frame(summary(emmeans(fs, ~ A)))[, c("emmean", "SE", "df")]),
+  emm_AB = as.list(as.data.frame(summary(emmeans(fs, ~ A:B)))[, c("emmean", "SE", "df")]))
 
 ## 3. Invented 3 x 3 layout with the cell (a3, b3) empty.
 set.seed(7)
