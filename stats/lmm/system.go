@@ -26,9 +26,9 @@ import (
 // complement and is factored by Cholesky.
 type system struct {
 	n, p int
-	nf   int     // number of grouping factors
-	ord  []int   // ord[k] = index into the caller's groupings of sorted factor k
-	q    []int   // levels per sorted factor
+	nf   int         // number of grouping factors
+	ord  []int       // ord[k] = index into the caller's groupings of sorted factor k
+	q    []int       // levels per sorted factor
 	d    [][]float64 // weighted count per level, per sorted factor
 	zxy  [][]float64 // per sorted factor: q_k x (p+1) row-major sums of w*[x y]
 	s    int         // chain length
@@ -40,11 +40,11 @@ type system struct {
 	val [][]float64 // unscaled weighted cross counts
 	up  [][]int     // entry index of the same column in the parent's row (chain factor j+1)
 
-	m      int       // number of rest random columns
-	facOf  []int     // sorted factor of each rest column
-	restC  []float64 // m x m unscaled Z'WZ among the rest factors
-	xtx    []float64 // (p+1)x(p+1) [X y]'W[X y], from a QR of sqrt(w)[X y]
-	rxy    []float64 // upper-triangular R of that QR, (p+1)x(p+1) row-major
+	m       int       // number of rest random columns
+	facOf   []int     // sorted factor of each rest column
+	restC   []float64 // m x m unscaled Z'WZ among the rest factors
+	xtx     []float64 // (p+1)x(p+1) [X y]'W[X y], from a QR of sqrt(w)[X y]
+	rxy     []float64 // upper-triangular R of that QR, (p+1)x(p+1) row-major
 	sumLogW float64
 
 	buckets []bucket // single factor with few distinct weighted counts
