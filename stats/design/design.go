@@ -209,7 +209,9 @@ type Matrix struct {
 // of every term the one its position in the hierarchy implies: nested
 // terms (block + block:plot) and interactions whose margins are missing
 // get full columns, as in Chambers & Hastie (1992) "Statistical Models
-// in S", ch. 2.
+// in S", ch. 2. Without an intercept, a factor main effect coded by
+// indicators counts as the intercept for later terms (so only the first
+// factor gets all its levels).
 func Build(f *Frame, s Spec) (*Matrix, error) {
 	if f == nil {
 		return nil, errors.New("building model matrix: no data frame")

@@ -17,7 +17,8 @@ import (
 // a norm of at most DefaultTol times its own (centred, scaled) norm.
 const DefaultTol = 1e-10
 
-// refineSteps is the number of refinement steps on the augmented system.
+// refineSteps is the largest number of refinement steps on the augmented
+// system; refinement stops earlier once the correction is negligible.
 const refineSteps = 3
 
 // Options are the optional settings of a fit. The zero value (or nil)
@@ -324,11 +325,17 @@ func fit(x mat.Matrix, y []float64, opt *Options, dm *design.Matrix) (*Result, e
 		q.qApply(fv) // dr = Q [h; d2]
 		q.solveR(dg)
 		db := res.toOriginal(dg)
+		var nb, ndb float64
 		for j := range b {
 			b[j] += db[j]
+			nb = math.Max(nb, math.Abs(b[j]))
+			ndb = math.Max(ndb, math.Abs(db[j]))
 		}
 		for i := range rr {
 			rr[i] += fv[i]
+		}
+		if ndb <= 1e-15*nb {
+			break // converged: the correction is below rounding of b
 		}
 	}
 	res.coef = b

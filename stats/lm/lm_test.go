@@ -83,11 +83,11 @@ func TestSingularNamed(t *testing.T) {
 		checkClose(t, "coefficient", res.Estimate[j], sub.Estimate[j], 1e-12)
 		checkClose(t, "SE", res.StdErr[j], sub.StdErr[j], 1e-12)
 	}
+	// x4 = a + 2b: the null direction is (0, 1, 2, -1), so b4 alone is not
+	// estimable but b2 + b4 (the total coefficient of a) is.
 	if res.Estimable([]float64{0, 0, 0, 1}) || !res.Estimable([]float64{0, 1, 0, 1}) {
 		t.Error("estimability of contrasts on the aliased column is wrong")
 	}
-	// x4 = a + 2b: the null direction is (0, 1, 2, -1), so b4 alone is not
-	// estimable but b2 + b4 (the total coefficient of a) is.
 	// Property: residuals are orthogonal to every column of X.
 	for j := 0; j < 4; j++ {
 		var s, norm float64
