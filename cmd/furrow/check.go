@@ -5,6 +5,7 @@ import (
 	"path/filepath"
 	"strings"
 
+	"furrow/checker"
 	"furrow/plan"
 )
 
@@ -57,7 +58,7 @@ func runCheck(e *env, c *command, args []string) int {
 	if len(pos) == 2 {
 		dataPath = pos[1]
 	}
-	p, ds, err := loadPlan(planPath)
+	p, ds, err := plan.Load(planPath)
 	if err != nil {
 		return fail(e, c, err)
 	}
@@ -65,23 +66,26 @@ func runCheck(e *env, c *command, args []string) int {
 	if shown == "" && p != nil && p.Data.File != "" {
 		shown = filepath.Join(filepath.Dir(planPath), filepath.FromSlash(p.Data.File))
 	}
-	var sum designSummary
-	if !ds.HasErrors() {
+	var sum *checker.DesignSummary
+	planErrs := ds.HasErrors()
+	if !planErrs {
 		q := withFormatOf(p, dataPath)
-		t, dds, err := readTable(q, dataPath)
+		t, dds, err := checker.ReadTable(q, dataPath)
 		if err != nil {
 			return fail(e, c, err)
 		}
 		ds = append(ds, dds...)
 		if t != nil {
-			cds, s := checkData(q, t)
+			cds, s := checker.CheckData(q, t)
 			ds = append(ds, cds...)
 			sum = s
 		}
 	}
 	ds = ds.Sort()
 	if *asJSON {
-		if err := writeJSON(e.stdout, e.newReport(c.name, planPath, shown, ds)); err != nil {
+		r := e.newReport(c.name, planPath, shown, ds)
+		r.Design = e.newDesign(sum)
+		if err := writeJSON(e.stdout, r); err != nil {
 			return fail(e, c, err)
 		}
 		return exitCode(ds)
@@ -100,10 +104,14 @@ func runCheck(e *env, c *command, args []string) int {
 		}
 	}
 	if errs > 0 {
-		fmt.Fprintf(e.stdout, "%s: %s\n", e.rel(shown), totals(errs, warns))
+		where := shown // the totals name the file the errors are in
+		if planErrs {
+			where = planPath
+		}
+		fmt.Fprintf(e.stdout, "%s: %s\n", e.rel(where), totals(errs, warns))
 		return exitFindings
 	}
-	fmt.Fprintf(e.stdout, "%s: data match plan %s: %s\n", e.rel(shown), planName(p), plural(warns, "warning"))
+	fmt.Fprintf(e.stdout, "%s: data match plan %s: %s\n", e.rel(shown), planName(p), dataShape(sum, warns))
 	return exitOK
 }
 
@@ -129,4 +137,16 @@ func withFormatOf(p *plan.Plan, dataPath string) *plan.Plan {
 	q := *p
 	q.Data.Format = format
 	return &q
+}
+
+// dataShape counts what the data hold: "144 rows, 72 units, 0 warnings".
+func dataShape(s *checker.DesignSummary, warns int) string {
+	if s == nil {
+		return plural(warns, "warning")
+	}
+	out := plural(s.Rows, "row")
+	if s.UnitColumn != "" {
+		out += ", " + plural(s.Units, "unit")
+	}
+	return out + ", " + plural(warns, "warning")
 }

@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"io"
 
+	"furrow/checker"
 	"furrow/plan"
 )
 
@@ -19,7 +20,8 @@ import (
 //	  "ok": true,                                     // no errors
 //	  "errors": 0,
 //	  "warnings": 0,
-//	  "findings": [ finding, ... ]                    // sorted by file, line, column
+//	  "findings": [ finding, ... ],                   // sorted by file, line, column
+//	  "design": design                                // check only, when the data were read
 //	}
 type report struct {
 	Format   string    `json:"format"`
@@ -30,6 +32,7 @@ type report struct {
 	Errors   int       `json:"errors"`
 	Warnings int       `json:"warnings"`
 	Findings []finding `json:"findings"`
+	Design   *design   `json:"design,omitempty"` // check only, when the data were read
 }
 
 // reportFormat names the shape of report.
@@ -147,4 +150,52 @@ func plural(n int, word string) string {
 		return "1 " + word
 	}
 	return fmt.Sprintf("%d %ss", n, word)
+}
+
+// design is the design as seen in the data, in the --json output of check.
+type design struct {
+	Data        string       `json:"data"`
+	Rows        int          `json:"rows"`
+	UnitColumn  string       `json:"unit_column,omitempty"`
+	Units       int          `json:"units"`
+	Replicates  int          `json:"replicates"` // declared; 0 = not declared
+	CellColumns []string     `json:"cell_columns"`
+	Cells       []designCell `json:"cells"`
+	Missing     []missing    `json:"missing"`
+}
+
+// designCell is the number of units in one combination of cell levels.
+type designCell struct {
+	Levels []string `json:"levels"`
+	Units  int      `json:"units"`
+}
+
+// missing is the number of missing values in one column.
+type missing struct {
+	Column  string `json:"column"`
+	Missing int    `json:"missing"`
+}
+
+// newDesign copies a design summary into the JSON shape; nil stays nil.
+func (e *env) newDesign(s *checker.DesignSummary) *design {
+	if s == nil {
+		return nil
+	}
+	d := &design{
+		Data:        e.rel(s.Data),
+		Rows:        s.Rows,
+		UnitColumn:  s.UnitColumn,
+		Units:       s.Units,
+		Replicates:  s.Replicates,
+		CellColumns: append([]string{}, s.CellColumns...),
+		Cells:       []designCell{},
+		Missing:     []missing{},
+	}
+	for _, c := range s.Cells {
+		d.Cells = append(d.Cells, designCell{Levels: append([]string{}, c.Levels...), Units: c.Units})
+	}
+	for _, m := range s.Missing {
+		d.Missing = append(d.Missing, missing{Column: m.Column, Missing: m.Missing})
+	}
+	return d
 }

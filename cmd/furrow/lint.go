@@ -43,7 +43,7 @@ func runLint(e *env, c *command, args []string) int {
 		return code
 	}
 	path := pos[0]
-	p, ds, err := loadPlan(path)
+	p, ds, err := plan.Load(path)
 	if err != nil {
 		return fail(e, c, err)
 	}
