@@ -245,33 +245,36 @@ func RankSum(x, y []float64, o Options) (RankSumResult, error) {
 // (Mann & Whitney 1947): the largest of the i+j values is either an x (it
 // exceeds all j y's) or a y.
 func rankSumDist(m, n int) []float64 {
-	// prev[j] holds c(·; i-1, j), cur[j] holds c(·; i, j).
-	prev := make([][]float64, n+1)
-	for j := 0; j <= n; j++ {
-		prev[j] = []float64{1} // i = 0: only u = 0
+	// c[j] holds c(·; i, j) for the current i; it is updated in place from
+	// c(·; i-1, j) (read at u-j, below u, so u runs downwards) and the
+	// already updated c(·; i, j-1).
+	c := make([][]float64, n+1)
+	for j := range c {
+		c[j] = make([]float64, m*j+1)
+		c[j][0] = 1 // i = 0: only u = 0
 	}
 	for i := 1; i <= m; i++ {
-		cur := make([][]float64, n+1)
-		cur[0] = []float64{1}
 		for j := 1; j <= n; j++ {
-			c := make([]float64, i*j+1)
-			for u, v := range cur[j-1] { // y largest
-				c[u] += v
+			cj, cl := c[j], c[j-1]
+			for u := i * j; u >= 0; u-- {
+				var v float64
+				if u >= j {
+					v = cj[u-j] // x largest: adds j
+				}
+				if u <= (i)*(j-1) {
+					v += cl[u] // y largest
+				}
+				cj[u] = v
 			}
-			for u, v := range prev[j] { // x largest: adds j
-				c[u+j] += v
-			}
-			cur[j] = c
 		}
-		prev = cur
 	}
-	c := prev[n]
+	out := c[n]
 	var tot float64
-	for _, v := range c {
+	for _, v := range out {
 		tot += v
 	}
-	for u := range c {
-		c[u] /= tot
+	for u := range out {
+		out[u] /= tot
 	}
-	return c
+	return out
 }
