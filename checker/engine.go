@@ -110,7 +110,7 @@ func Run(opt RunOptions) (*Result, error) {
 	}
 	r.DataWarnings = []Finding{}
 	for _, d := range all {
-		r.DataWarnings = append(r.DataWarnings, Finding{Severity: d.Severity.String(), Code: d.Code, Pos: d.Pos.String(), Summary: d.Summary})
+		r.DataWarnings = append(r.DataWarnings, Finding{Severity: d.Severity.String(), Code: d.Code, Pos: posText(d.Pos), Summary: d.Summary})
 	}
 	dataPath := opt.DataPath
 	if dataPath == "" {
@@ -243,4 +243,13 @@ func modelSpec(ep *plan.Endpoint, s *plan.Step) ModelSpec {
 	}
 	m.Text = b.String()
 	return m
+}
+
+// posText formats a plan or data position with the file's base name only,
+// so that records do not depend on where the inputs were when run.
+func posText(p plan.Pos) string {
+	if p.File != "" {
+		p.File = filepath.Base(p.File)
+	}
+	return p.String()
 }

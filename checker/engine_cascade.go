@@ -45,12 +45,12 @@ func (e *engine) runEndpoint(p *plan.Plan, kept *Table, ep *plan.Endpoint) Endpo
 	if alpha == 0 {
 		alpha = 0.05
 	}
-	er := EndpointResult{ID: ep.ID, Pos: ep.Pos.String(), Response: ep.Response, Primary: ep.Primary, Alpha: Num(alpha),
+	er := EndpointResult{ID: ep.ID, Pos: posText(ep.Pos), Response: ep.Response, Primary: ep.Primary, Alpha: Num(alpha),
 		Status: EndpointFailed, Hypotheses: []HypothesisResult{}}
 	index := map[string]int{}
 	for i, s := range ep.Steps {
 		index[s.ID] = i
-		er.Steps = append(er.Steps, StepResult{ID: s.ID, Pos: s.Pos.String(), Model: modelSpec(ep, &ep.Steps[i]),
+		er.Steps = append(er.Steps, StepResult{ID: s.ID, Pos: posText(s.Pos), Model: modelSpec(ep, &ep.Steps[i]),
 			Checks:   notRunChecks(&ep.Steps[i]),
 			Decision: Decision{Action: ActionSkip, Reason: ReasonNotReached, Detail: "the cascade did not reach this step"}})
 	}
@@ -68,10 +68,10 @@ func (e *engine) runEndpoint(p *plan.Plan, kept *Table, ep *plan.Endpoint) Endpo
 			sr.Error = err.Error()
 			if s.OnFail != "" {
 				next = index[s.OnFail]
-				sr.Decision = Decision{Action: ActionFallBack, Reason: ReasonFitFailed, Next: s.OnFail, Rule: s.Pos.String(),
+				sr.Decision = Decision{Action: ActionFallBack, Reason: ReasonFitFailed, Next: s.OnFail, Rule: posText(s.Pos),
 					Detail: fmt.Sprintf("the model could not be fitted; the step's on-fail names %s", s.OnFail)}
 			} else {
-				sr.Decision = Decision{Action: ActionStop, Reason: ReasonLastResortFitFailed, Rule: s.Pos.String(),
+				sr.Decision = Decision{Action: ActionStop, Reason: ReasonLastResortFitFailed, Rule: posText(s.Pos),
 					Detail: "the model could not be fitted and the plan declares no further step"}
 			}
 			for k := range sr.Checks {
@@ -99,7 +99,7 @@ func (e *engine) runEndpoint(p *plan.Plan, kept *Table, ep *plan.Endpoint) Endpo
 			if len(s.Checks) == 0 {
 				reason, detail = ReasonNoChecks, "the step declares no checks"
 			}
-			sr.Decision = Decision{Action: ActionAccept, Reason: reason, Rule: s.Pos.String(), Detail: detail}
+			sr.Decision = Decision{Action: ActionAccept, Reason: reason, Rule: posText(s.Pos), Detail: detail}
 			er.Status = EndpointAccepted
 			reported = f
 		default:
@@ -111,10 +111,10 @@ func (e *engine) runEndpoint(p *plan.Plan, kept *Table, ep *plan.Endpoint) Endpo
 			}
 			if cr.OnFail != "" {
 				next = index[cr.OnFail]
-				sr.Decision = Decision{Action: ActionFallBack, Reason: ReasonCheckFailed, Next: cr.OnFail, Rule: c.Pos.String(),
+				sr.Decision = Decision{Action: ActionFallBack, Reason: ReasonCheckFailed, Next: cr.OnFail, Rule: posText(c.Pos),
 					Detail: what + "; the plan moves to " + cr.OnFail}
 			} else {
-				sr.Decision = Decision{Action: ActionReportUnmet, Reason: ReasonLastResortAssumptionsUnmet, Rule: c.Pos.String(),
+				sr.Decision = Decision{Action: ActionReportUnmet, Reason: ReasonLastResortAssumptionsUnmet, Rule: posText(c.Pos),
 					Detail: what + "; this is the last declared step, so its results are reported with the assumptions not met"}
 				er.Status = EndpointAssumptionsUnmet
 				reported = f
@@ -142,7 +142,7 @@ func notRunChecks(s *plan.Step) []CheckResult {
 		if onFail == "" {
 			onFail = s.OnFail
 		}
-		out = append(out, CheckResult{Test: c.Test, Pos: c.Pos.String(), By: c.By, Statistic: NaN, P: NaN,
+		out = append(out, CheckResult{Test: c.Test, Pos: posText(c.Pos), By: c.By, Statistic: NaN, P: NaN,
 			FailBelow: Num(c.FailBelow), Verdict: VerdictNotRun, OnFail: onFail})
 	}
 	return out

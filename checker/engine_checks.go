@@ -104,7 +104,7 @@ func (e *engine) runCheck(f *fitted, s *plan.Step, c *plan.Check) CheckResult {
 	if len(by) == 0 && isVarianceTest(c.Test) {
 		by = []string{f.compare}
 	}
-	cr := CheckResult{Test: c.Test, Pos: c.Pos.String(), By: by, FailBelow: Num(c.FailBelow), OnFail: onFail,
+	cr := CheckResult{Test: c.Test, Pos: posText(c.Pos), By: by, FailBelow: Num(c.FailBelow), OnFail: onFail,
 		Statistic: NaN, P: NaN}
 	fn := e.checks[c.Test]
 	if fn == nil {

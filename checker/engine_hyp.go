@@ -24,7 +24,7 @@ func hypothesis(p *plan.Plan, ep *plan.Endpoint, s *plan.Step, f *fitted, h *pla
 	if adj == "" {
 		adj = plan.AdjustNone
 	}
-	hr := HypothesisResult{ID: h.ID, Pos: h.Pos.String(), Kind: h.Kind, Step: s.ID, Sides: sides, Alpha: Num(alpha),
+	hr := HypothesisResult{ID: h.ID, Pos: posText(h.Pos), Kind: h.Kind, Step: s.ID, Sides: sides, Alpha: Num(alpha),
 		Adjust: adj, AdjustUsed: adj, Assessable: true, Comparisons: []Comparison{}}
 	factor := h.Factor
 	if factor == "" {

@@ -51,7 +51,7 @@ func applyExclusions(p *plan.Plan, t *Table) (*Table, []ExcludedRow, []Exclusion
 	repeat := columnByRole(p, plan.RoleRepeat)
 	rules := make([]ExclusionRule, len(p.Exclusions))
 	for k, ex := range p.Exclusions {
-		rules[k] = ExclusionRule{ID: ex.ID, Pos: ex.Pos.String(), Drop: ex.Drop, When: ex.When, Reason: ex.Reason}
+		rules[k] = ExclusionRule{ID: ex.ID, Pos: posText(ex.Pos), Drop: ex.Drop, When: ex.When, Reason: ex.Reason}
 		hit := make([]bool, n)
 		switch ex.When {
 		case plan.WhenMissing, plan.WhenOutOfRange:
