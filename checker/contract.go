@@ -6,6 +6,7 @@ import (
 	"slices"
 	"strconv"
 	"strings"
+	"unicode/utf8"
 
 	"furrow/plan"
 )
@@ -527,8 +528,8 @@ func (l *limiter) summaries() plan.Diagnostics {
 }
 
 // suggest returns the candidate closest to s: equal ignoring case, else
-// within a small edit distance (1 for short names, 2 from 5 characters on).
-// It returns "" when nothing is close.
+// within a small edit distance (none below 3 characters, 1 up to 4, 2 from
+// 5 on). It returns "" when nothing is close.
 func suggest(s string, candidates []string) string {
 	ls := strings.ToLower(s)
 	for _, c := range candidates {
@@ -536,9 +537,13 @@ func suggest(s string, candidates []string) string {
 			return c
 		}
 	}
-	limit := 1
-	if len(s) >= 5 {
+	n := utf8.RuneCountInString(s)
+	limit := 0
+	switch {
+	case n >= 5:
 		limit = 2
+	case n >= 3:
+		limit = 1
 	}
 	best, bestD := "", limit+1
 	for _, c := range candidates {
@@ -552,10 +557,14 @@ func suggest(s string, candidates []string) string {
 	return best
 }
 
-// editDistance is the Levenshtein distance between two strings, by rune
-// (Levenshtein 1966, Soviet Physics Doklady 10:707), computed with two rows.
+// editDistance counts the insertions, deletions, substitutions and
+// transpositions of adjacent runes that turn a into b: the restricted
+// (optimal string alignment) form of Damerau's distance (Damerau 1964,
+// Communications of the ACM 7:171; Levenshtein 1966, Soviet Physics
+// Doklady 10:707), computed with three rows.
 func editDistance(a, b string) int {
 	ra, rb := []rune(a), []rune(b)
+	prev2 := make([]int, len(rb)+1)
 	prev := make([]int, len(rb)+1)
 	cur := make([]int, len(rb)+1)
 	for j := range prev {
@@ -569,8 +578,11 @@ func editDistance(a, b string) int {
 				cost = 0
 			}
 			cur[j] = min(prev[j]+1, cur[j-1]+1, prev[j-1]+cost)
+			if i > 1 && j > 1 && ra[i-1] == rb[j-2] && ra[i-2] == rb[j-1] {
+				cur[j] = min(cur[j], prev2[j-2]+1)
+			}
 		}
-		prev, cur = cur, prev
+		prev2, prev, cur = prev, cur, prev2
 	}
 	return prev[len(rb)]
 }
