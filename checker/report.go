@@ -1,0 +1,525 @@
+package checker
+
+import (
+	"bytes"
+	_ "embed"
+	"encoding/csv"
+	"fmt"
+	"html/template"
+	"math"
+	"os"
+	"path/filepath"
+	"sort"
+	"strconv"
+	"strings"
+)
+
+// Report file names inside a run directory.
+const (
+	ReportHTMLName = "report.html"
+	ReportMDName   = "report.md"
+)
+
+// Report is the human view of a run, built from the Result alone so that
+// the report can never disagree with the audit record.
+type Report struct {
+	R         *Result
+	Verdicts  []EndpointVerdict
+	Figures   map[string][]Figure // step key "endpoint/step" -> figures
+	FigureErr []string            // figures that could not be drawn, with the reason
+}
+
+// EndpointVerdict is the plain-words answer of one endpoint.
+type EndpointVerdict struct {
+	Endpoint string
+	Primary  bool
+	Reported string // step id
+	Status   string // plain words
+	Answers  []string
+}
+
+// BuildReport derives the report view from a run result and draws the
+// figures from the data the record carries.
+func BuildReport(r *Result) *Report {
+	rep := &Report{R: r, Figures: map[string][]Figure{}}
+	for _, e := range r.Endpoints {
+		rep.Verdicts = append(rep.Verdicts, endpointVerdict(&e))
+		for _, s := range e.Steps {
+			if !s.Executed || s.Figures == nil {
+				continue
+			}
+			key := e.ID + "/" + s.ID
+			figs, errs := stepFigures(key, &e, &s)
+			rep.Figures[key] = figs
+			rep.FigureErr = append(rep.FigureErr, errs...)
+		}
+	}
+	return rep
+}
+
+func endpointVerdict(e *EndpointResult) EndpointVerdict {
+	v := EndpointVerdict{Endpoint: e.ID, Primary: e.Primary, Reported: e.Reported}
+	switch e.Status {
+	case EndpointAccepted:
+		v.Status = fmt.Sprintf("step %s accepted: its assumption checks passed", e.Reported)
+	case EndpointAssumptionsUnmet:
+		v.Status = fmt.Sprintf("step %s reported as the last resort: its assumption checks failed, so its results must be read with that caution", e.Reported)
+	default:
+		v.Status = "no step could be fitted; no results are reported"
+	}
+	for _, h := range e.Hypotheses {
+		v.Answers = append(v.Answers, hypothesisAnswer(&h)...)
+	}
+	return v
+}
+
+// hypothesisAnswer states each comparison of a hypothesis in plain words.
+func hypothesisAnswer(h *HypothesisResult) []string {
+	if !h.Assessable {
+		return []string{fmt.Sprintf("%s: not assessable on step %s (%s).", h.ID, h.Step, h.Note)}
+	}
+	if h.TermTest != nil {
+		t := h.TermTest
+		word := "no evidence of an effect"
+		if float64(t.P) < float64(h.Alpha) {
+			word = "an effect is shown"
+		}
+		return []string{fmt.Sprintf("%s: term %s, F = %s on %s and %s df, p = %s: %s at alpha = %s.",
+			h.ID, t.Term, fmtNum(t.F), fmtNum(t.DF), fmtNum(t.DenDF), fmtP(t.P), word, fmtNum(h.Alpha))}
+	}
+	var out []string
+	for _, c := range h.Comparisons {
+		if c.Equivalence != nil {
+			out = append(out, fmt.Sprintf("%s: %s versus %s: %s (%s).", h.ID, c.Level, c.Against, c.Equivalence.Verdict, intervalText(&c)))
+			continue
+		}
+		word := "not shown to differ"
+		if c.Reject {
+			word = "differs"
+			switch h.Sides {
+			case "less":
+				word = "is lower"
+			case "greater":
+				word = "is higher"
+			}
+		}
+		p := c.PAdjusted
+		if math.IsNaN(float64(p)) {
+			p = c.P
+		}
+		out = append(out, fmt.Sprintf("%s: %s versus %s %s (adjusted p = %s, %s).", h.ID, c.Level, c.Against, word, fmtP(p), intervalText(&c)))
+	}
+	return out
+}
+
+func intervalText(c *Comparison) string {
+	if c.Ratio != 0 && !math.IsNaN(float64(c.Ratio)) {
+		return fmt.Sprintf("ratio %s, CI %s to %s", fmtNum(c.Ratio), fmtNum(c.RatioLower), fmtNum(c.RatioUpper))
+	}
+	return fmt.Sprintf("difference %s, CI %s to %s", fmtNum(c.Estimate), fmtNum(c.Lower), fmtNum(c.Upper))
+}
+
+func stepFigures(key string, e *EndpointResult, s *StepResult) ([]Figure, []string) {
+	d := s.Figures
+	var figs []Figure
+	var errs []string
+	add := func(f Figure, err error) {
+		if err != nil {
+			errs = append(errs, fmt.Sprintf("%s: %v", key, err))
+			return
+		}
+		figs = append(figs, f)
+	}
+	fitted, resid := floats(d.Fitted), floats(d.Residuals)
+	if len(resid) > 0 && len(fitted) == len(resid) {
+		add(ResidualsVersusFitted(key+"/residuals-fitted", fitted, resid))
+	}
+	if len(resid) >= 3 {
+		add(NormalQQ(key+"/qq", resid))
+		add(ResidualHistogram(key+"/histogram", resid))
+	}
+	vals := floats(d.Values)
+	if len(d.Groups) == len(vals) && len(vals) > 0 {
+		levels := uniqueInOrder(d.Groups)
+		factor := s.Model.Compare
+		if factor == "" {
+			factor = "group"
+		}
+		add(BoxPoints(key+"/box", factor, "analysed value", levels, d.Groups, vals))
+	}
+	if s.Results != nil && len(s.Results.MarginalMeans) > 0 {
+		mm := s.Results.MarginalMeans
+		labels := make([]string, len(mm))
+		est, lo, hi := make([]float64, len(mm)), make([]float64, len(mm)), make([]float64, len(mm))
+		for i, m := range mm {
+			labels[i] = m.Level
+			est[i], lo[i], hi[i] = float64(m.Response), float64(m.ResponseLower), float64(m.ResponseUpper)
+		}
+		add(MeansWithCI(key+"/means", "Estimated marginal means of "+e.Response, "response scale", labels, est, lo, hi))
+	}
+	return figs, errs
+}
+
+func uniqueInOrder(xs []string) []string {
+	seen := map[string]bool{}
+	var out []string
+	for _, x := range xs {
+		if !seen[x] {
+			seen[x] = true
+			out = append(out, x)
+		}
+	}
+	return out
+}
+
+func floats(ns []Num) []float64 {
+	out := make([]float64, len(ns))
+	for i, n := range ns {
+		out[i] = float64(n)
+	}
+	return out
+}
+
+// fmtNum formats a number with 4 significant digits (fixed, documented
+// precision for the human report; the audit record keeps full precision).
+func fmtNum(n Num) string {
+	f := float64(n)
+	switch {
+	case math.IsNaN(f):
+		return "-"
+	case math.IsInf(f, 1):
+		return "inf"
+	case math.IsInf(f, -1):
+		return "-inf"
+	case f == 0:
+		return "0"
+	}
+	a := math.Abs(f)
+	if a >= 1e6 || a < 1e-4 {
+		return strconv.FormatFloat(f, 'e', 3, 64)
+	}
+	return strconv.FormatFloat(f, 'g', 4, 64)
+}
+
+// fmtP formats a p-value: four decimals, or "< 0.0001".
+func fmtP(n Num) string {
+	f := float64(n)
+	if math.IsNaN(f) {
+		return "-"
+	}
+	if f < 0.0001 {
+		return "< 0.0001"
+	}
+	return strconv.FormatFloat(f, 'f', 4, 64)
+}
+
+//go:embed report.css
+var reportCSS string
+
+//go:embed report.tmpl.html
+var reportHTMLTmpl string
+
+var reportFuncs = template.FuncMap{
+	"num": fmtNum,
+	"p":   fmtP,
+	"pct": func(n Num) string {
+		if math.IsNaN(float64(n)) {
+			return "-"
+		}
+		return strconv.FormatFloat(100*float64(n), 'f', 1, 64) + "%"
+	},
+	"svg":  func(s string) template.HTML { return template.HTML(s) },
+	"join": strings.Join,
+	"nums": func(ns []Num) string {
+		var parts []string
+		for _, n := range ns {
+			parts = append(parts, fmtNum(n))
+		}
+		return strings.Join(parts, ", ")
+	},
+	"stepkey": func(e, s string) string { return e + "/" + s },
+	"verdictClass": func(v Verdict) string {
+		return "v-" + v.String()
+	},
+	"inc": func(i int) int { return i + 1 },
+}
+
+var reportTemplate = template.Must(template.New("report").Funcs(reportFuncs).Parse(reportHTMLTmpl))
+
+// HTML renders the self-contained report page: inline CSS and SVG, no
+// scripts, nothing fetched.
+func (rep *Report) HTML() ([]byte, error) {
+	var b bytes.Buffer
+	view := struct {
+		*Report
+		CSS     template.CSS
+		Caution string
+	}{rep, template.CSS(reportCSS), Caution}
+	if err := reportTemplate.Execute(&b, view); err != nil {
+		return nil, fmt.Errorf("rendering report: %w", err)
+	}
+	return b.Bytes(), nil
+}
+
+// Markdown renders the verdict, the decision trail and the key tables.
+func (rep *Report) Markdown() []byte {
+	r := rep.R
+	var b bytes.Buffer
+	w := func(format string, args ...any) { fmt.Fprintf(&b, format, args...) }
+	w("# Analysis report: %s\n\n", r.Trial.Title)
+	if r.Unregistered {
+		w("> **UNREGISTERED RUN.** This analysis was run without a matching registration record.\n\n")
+	}
+	w("| Item | Value |\n| --- | --- |\n")
+	w("| Trial | %s |\n| Plan version | %s |\n| Plan hash | `%s` |\n", r.Trial.ID, r.Trial.PlanVersion, r.Inputs.PlanHash)
+	w("| Registered | %s |\n", registeredText(r))
+	w("| Data | `%s` (`%s`) |\n", r.Inputs.DataPath, r.Inputs.DataFileSHA256)
+	w("| Rows read / analysed | %d / %d |\n", r.Inputs.Rows, r.Inputs.RowsAnalysed)
+	w("| Tool | %s %s |\n\n", r.Tool.Name, r.Tool.Version)
+	for _, v := range rep.Verdicts {
+		kind := "Secondary"
+		if v.Primary {
+			kind = "Primary"
+		}
+		w("## %s endpoint `%s`\n\n%s.\n\n", kind, v.Endpoint, upperFirst(v.Status))
+		for _, a := range v.Answers {
+			w("- %s\n", a)
+		}
+		if len(v.Answers) > 0 {
+			w("\n")
+		}
+	}
+	for _, e := range r.Endpoints {
+		w("## Decision trail: `%s`\n\n", e.ID)
+		w("| Step | Model | n | Check | Statistic | p | Fails below | Verdict | Decision | Rule |\n")
+		w("| --- | --- | --- | --- | --- | --- | --- | --- | --- | --- |\n")
+		for _, s := range e.Steps {
+			if !s.Executed {
+				w("| `%s` | %s | - | - | - | - | - | - | not reached | - |\n", s.ID, mdCell(s.Model.Kind))
+				continue
+			}
+			dec := s.Decision.Action.String()
+			if s.Decision.Next != "" {
+				dec += " to `" + s.Decision.Next + "`"
+			}
+			if len(s.Checks) == 0 {
+				w("| `%s` | %s | %d | - | - | - | - | - | %s | %s |\n", s.ID, mdCell(s.Model.Text), s.N, dec, s.Decision.Rule)
+			}
+			for i, c := range s.Checks {
+				id, model, n := "", "", ""
+				if i == 0 {
+					id, model, n = "`"+s.ID+"`", mdCell(s.Model.Text), strconv.Itoa(s.N)
+				}
+				d := ""
+				if i == len(s.Checks)-1 {
+					d = dec
+				}
+				w("| %s | %s | %s | %s | %s | %s | %s | %s | %s | %s |\n", id, model, n, c.Test, fmtNum(c.Statistic), fmtP(c.P), fmtNum(c.FailBelow), c.Verdict, d, c.Pos)
+			}
+		}
+		w("\n")
+		for _, s := range e.Steps {
+			if s.Results == nil {
+				continue
+			}
+			w("### Results of step `%s` (scale: %s)\n\n", s.ID, s.Results.Scale)
+			writeMDTables(&b, s.Results)
+		}
+		for _, h := range e.Hypotheses {
+			if len(h.Comparisons) == 0 {
+				continue
+			}
+			w("### Hypothesis `%s` (%s, adjustment %s)\n\n", h.ID, h.Kind, h.AdjustUsed)
+			w("| Comparison | Estimate | SE | df | p | p adjusted | Lower | Upper | Ratio | Ratio lower | Ratio upper | Verdict |\n")
+			w("| --- | --- | --- | --- | --- | --- | --- | --- | --- | --- | --- | --- |\n")
+			for _, c := range h.Comparisons {
+				verdict := "not rejected"
+				if c.Reject {
+					verdict = "rejected"
+				}
+				if c.Equivalence != nil {
+					verdict = c.Equivalence.Verdict
+				}
+				w("| %s | %s | %s | %s | %s | %s | %s | %s | %s | %s | %s | %s |\n", mdCell(c.Label), fmtNum(c.Estimate), fmtNum(c.SE), fmtNum(c.DF),
+					fmtP(c.P), fmtP(c.PAdjusted), fmtNum(c.Lower), fmtNum(c.Upper), fmtNum(c.Ratio), fmtNum(c.RatioLower), fmtNum(c.RatioUpper), verdict)
+			}
+			w("\n")
+		}
+	}
+	if len(r.Exclusions) > 0 {
+		w("## Rows excluded\n\n| Row | Unit | Rule | Rule position |\n| --- | --- | --- | --- |\n")
+		for _, x := range r.Exclusions {
+			w("| %d | %s | `%s` | %s |\n", x.Row, mdCell(x.Unit), x.Rule, x.RulePos)
+		}
+		w("\n")
+	}
+	if len(r.DataWarnings) > 0 {
+		w("## Data warnings\n\n")
+		for _, f := range r.DataWarnings {
+			w("- %s: %s\n", f.Pos, f.Summary)
+		}
+		w("\n")
+	}
+	w("## Caution\n\n%s\n", Caution)
+	return b.Bytes()
+}
+
+func writeMDTables(b *bytes.Buffer, d *StepDetail) {
+	w := func(format string, args ...any) { fmt.Fprintf(b, format, args...) }
+	if d.Test != nil {
+		w("Global test: %s, statistic %s, df %s, p = %s.\n\n", d.Test.Method, fmtNum(d.Test.Statistic), reportFuncs["nums"].(func([]Num) string)(d.Test.DF), fmtP(d.Test.P))
+	}
+	if len(d.Anova) > 0 {
+		w("| Term | Type | df | Den. df | SS | MS | F | p |\n| --- | --- | --- | --- | --- | --- | --- | --- |\n")
+		for _, a := range d.Anova {
+			w("| %s | %d | %s | %s | %s | %s | %s | %s |\n", mdCell(a.Term), a.Type, fmtNum(a.DF), fmtNum(a.DenDF), fmtNum(a.SS), fmtNum(a.MS), fmtNum(a.F), fmtP(a.P))
+		}
+		w("\n")
+	}
+	if len(d.VarianceComponents) > 0 {
+		w("| Random term | Variance | SD | Share of total | Boundary |\n| --- | --- | --- | --- | --- |\n")
+		for _, v := range d.VarianceComponents {
+			w("| %s | %s | %s | %s | %t |\n", mdCell(v.Group), fmtNum(v.Variance), fmtNum(v.SD), reportFuncs["pct"].(func(Num) string)(v.Share), v.Boundary)
+		}
+		w("\n")
+	}
+	if len(d.MarginalMeans) > 0 {
+		w("| Level | Mean (analysis scale) | SE | df | Lower | Upper | Response scale | Lower | Upper |\n| --- | --- | --- | --- | --- | --- | --- | --- | --- |\n")
+		for _, m := range d.MarginalMeans {
+			w("| %s | %s | %s | %s | %s | %s | %s | %s | %s |\n", mdCell(m.Level), fmtNum(m.Estimate), fmtNum(m.SE), fmtNum(m.DF), fmtNum(m.Lower), fmtNum(m.Upper), fmtNum(m.Response), fmtNum(m.ResponseLower), fmtNum(m.ResponseUpper))
+		}
+		w("\n")
+	}
+	if len(d.GroupSummaries) > 0 {
+		w("| Level | n | Mean | Median | SD |\n| --- | --- | --- | --- | --- |\n")
+		for _, g := range d.GroupSummaries {
+			w("| %s | %d | %s | %s | %s |\n", mdCell(g.Level), g.N, fmtNum(g.Mean), fmtNum(g.Median), fmtNum(g.SD))
+		}
+		w("\n")
+	}
+}
+
+func registeredText(r *Result) string {
+	switch {
+	case r.Unregistered:
+		return "no: unregistered run"
+	case r.Inputs.Registration != nil && r.Inputs.Registration.Matches:
+		return fmt.Sprintf("yes (chain of %d, head `%s`)", len(r.Inputs.Registration.Chain), r.Inputs.Registration.Head)
+	}
+	return "no matching registration"
+}
+
+func mdCell(s string) string {
+	s = strings.ReplaceAll(s, "|", "\\|")
+	return strings.ReplaceAll(s, "\n", " ")
+}
+
+func upperFirst(s string) string {
+	if s == "" {
+		return s
+	}
+	return strings.ToUpper(s[:1]) + s[1:]
+}
+
+// CSVTables returns the main result tables as CSV files (name -> bytes),
+// one row per table row, with full-precision numbers.
+func (rep *Report) CSVTables() (map[string][]byte, error) {
+	r := rep.R
+	tables := map[string][][]string{
+		"checks.csv":       {{"endpoint", "step", "executed", "test", "statistic", "p", "fail_below", "verdict", "action", "reason", "next", "rule"}},
+		"anova.csv":        {{"endpoint", "step", "term", "type", "df", "den_df", "ss", "ms", "f", "p"}},
+		"coefficients.csv": {{"endpoint", "step", "name", "estimate", "se", "df", "t", "p"}},
+		"means.csv":        {{"endpoint", "step", "factor", "level", "estimate", "se", "df", "lower", "upper", "response", "response_lower", "response_upper"}},
+		"comparisons.csv":  {{"endpoint", "hypothesis", "step", "label", "estimate", "se", "df", "statistic", "p", "p_adjusted", "lower", "upper", "ratio", "ratio_lower", "ratio_upper", "reject", "verdict"}},
+		"variance.csv":     {{"endpoint", "step", "group", "variance", "sd", "share", "boundary"}},
+	}
+	f := func(n Num) string {
+		b, _ := n.MarshalJSON()
+		return strings.Trim(string(b), `"`)
+	}
+	for _, e := range r.Endpoints {
+		for _, s := range e.Steps {
+			d := s.Decision
+			if len(s.Checks) == 0 {
+				tables["checks.csv"] = append(tables["checks.csv"], []string{e.ID, s.ID, strconv.FormatBool(s.Executed), "", "", "", "", "", d.Action.String(), d.Reason.String(), d.Next, d.Rule})
+			}
+			for _, c := range s.Checks {
+				tables["checks.csv"] = append(tables["checks.csv"], []string{e.ID, s.ID, strconv.FormatBool(s.Executed), c.Test, f(c.Statistic), f(c.P), f(c.FailBelow), c.Verdict.String(), d.Action.String(), d.Reason.String(), d.Next, c.Pos})
+			}
+			if s.Results == nil {
+				continue
+			}
+			for _, a := range s.Results.Anova {
+				tables["anova.csv"] = append(tables["anova.csv"], []string{e.ID, s.ID, a.Term, strconv.Itoa(a.Type), f(a.DF), f(a.DenDF), f(a.SS), f(a.MS), f(a.F), f(a.P)})
+			}
+			for _, c := range s.Results.Coefficients {
+				tables["coefficients.csv"] = append(tables["coefficients.csv"], []string{e.ID, s.ID, c.Name, f(c.Estimate), f(c.SE), f(c.DF), f(c.T), f(c.P)})
+			}
+			for _, m := range s.Results.MarginalMeans {
+				tables["means.csv"] = append(tables["means.csv"], []string{e.ID, s.ID, m.Factor, m.Level, f(m.Estimate), f(m.SE), f(m.DF), f(m.Lower), f(m.Upper), f(m.Response), f(m.ResponseLower), f(m.ResponseUpper)})
+			}
+			for _, v := range s.Results.VarianceComponents {
+				tables["variance.csv"] = append(tables["variance.csv"], []string{e.ID, s.ID, v.Group, f(v.Variance), f(v.SD), f(v.Share), strconv.FormatBool(v.Boundary)})
+			}
+		}
+		for _, h := range e.Hypotheses {
+			for _, c := range h.Comparisons {
+				verdict := ""
+				if c.Equivalence != nil {
+					verdict = c.Equivalence.Verdict
+				}
+				tables["comparisons.csv"] = append(tables["comparisons.csv"], []string{e.ID, h.ID, h.Step, c.Label, f(c.Estimate), f(c.SE), f(c.DF), f(c.Statistic), f(c.P), f(c.PAdjusted), f(c.Lower), f(c.Upper), f(c.Ratio), f(c.RatioLower), f(c.RatioUpper), strconv.FormatBool(c.Reject), verdict})
+			}
+		}
+	}
+	out := map[string][]byte{}
+	for name, rows := range tables {
+		var b bytes.Buffer
+		cw := csv.NewWriter(&b)
+		if err := cw.WriteAll(rows); err != nil {
+			return nil, fmt.Errorf("writing %s: %w", name, err)
+		}
+		out[name] = b.Bytes()
+	}
+	return out, nil
+}
+
+// TablesDir is the folder, inside a run directory, that holds the result
+// tables as CSV files.
+const TablesDir = "tables"
+
+// WriteReports renders the report of r and writes DIR/report.html,
+// DIR/report.md and DIR/tables/*.csv, each atomically. It is called after
+// the audit record is sealed, so the report shows the record's content hash.
+func WriteReports(dir string, r *Result) error {
+	rep := BuildReport(r)
+	page, err := rep.HTML()
+	if err != nil {
+		return err
+	}
+	if err := writeFileAtomic(filepath.Join(dir, ReportHTMLName), page, 0o644, false); err != nil {
+		return err
+	}
+	if err := writeFileAtomic(filepath.Join(dir, ReportMDName), rep.Markdown(), 0o644, false); err != nil {
+		return err
+	}
+	tables, err := rep.CSVTables()
+	if err != nil {
+		return err
+	}
+	tdir := filepath.Join(dir, TablesDir)
+	if err := os.MkdirAll(tdir, 0o755); err != nil {
+		return fmt.Errorf("creating %s: %w", tdir, err)
+	}
+	names := make([]string, 0, len(tables))
+	for name := range tables {
+		names = append(names, name)
+	}
+	sort.Strings(names)
+	for _, name := range names {
+		if err := writeFileAtomic(filepath.Join(tdir, name), tables[name], 0o644, false); err != nil {
+			return err
+		}
+	}
+	return nil
+}
