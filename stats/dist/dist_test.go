@@ -81,10 +81,15 @@ func TestTailsAgainstR(t *testing.T) {
 			t.Fatalf("unknown function %q", c.Fn)
 		}
 		tol := 1e-12
-		if c.Fn == "t" && c.Args[1] >= 1e4 {
-			// Cephes incbet with a = ν/2 large converges more slowly; R's
-			// pt switches to a normal approximation above ν = 4e5.
-			tol = 1e-9
+		if c.Fn == "t" && c.Args[1] >= 1e4 && math.Abs(c.Args[0]) < 2 {
+			// Near the centre with ν >= 1e4 Cephes incbet is accurate to
+			// about 2e-10 only (checked against mpmath at 40 digits:
+			// P(T > 0.5; ν = 1e6) = 0.30853759373618569, which R matches).
+			tol = 5e-10
+		} else if c.Fn == "t" && c.Args[1] >= 1e4 {
+			// Continued fraction in log space: measured <= 1.2e-11
+			// (Cephes alone: 1.9e-10).
+			tol = 2e-11
 		}
 		if c.P > 1e-300 && !relClose(p, c.P, tol) {
 			t.Errorf("%s%v: p = %.17g, R %.17g (rel err %.2g)", c.Fn, c.Args, p, c.P, math.Abs(p-c.P)/c.P)
