@@ -25,6 +25,10 @@
 // incomplete beta evaluated in log space, and the chi-squared tail Legendre's
 // continued fraction for the incomplete gamma, also in log space.
 //
+// For ν >= 1e4 and |t| >= 2 the t tail is taken from the log-space
+// continued fraction as well, because Cephes loses about 1e-10 (relative)
+// there; near the centre at such ν the relative error is about 2e-10.
+//
 // Degrees of freedom may be non-integer (Satterthwaite or Kenward-Roger
 // degrees of freedom). Infinite df for t gives the normal distribution.
 //
