@@ -13,6 +13,12 @@ import (
 // covariance A of the variance parameters (theta in sorted-factor order,
 // then sigma), taken as twice the inverse Hessian of the criterion, and the
 // derivatives of Cov(beta) with respect to them.
+// satRel is the relative step of the numerical derivatives: large enough
+// that rounding in the criterion (whose terms cancel) stays below 1e-7 of
+// the curvature, small enough that the Richardson-extrapolated truncation
+// error (order h^4) is negligible.
+var satRel = 1e-2
+
 type satInfo struct {
 	A *mat.SymDense
 	J []*mat.SymDense
@@ -50,7 +56,7 @@ func (s *system) satterthwaite(theta []float64, sigma float64, crit Criterion) (
 	H := mat.NewSymDense(k+1, nil)
 	dr2 := make([]float64, k)
 	J := make([]*mat.SymDense, k+1)
-	const rel = 1e-3
+	rel := satRel
 	steps := make([]float64, k)
 	for i := range steps {
 		steps[i] = rel * math.Max(theta[i], 1e-2)

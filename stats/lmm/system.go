@@ -134,6 +134,7 @@ func newSystem(y []float64, X mat.Matrix, groups []Grouping, wts []float64) (*sy
 	s.zxy = make([][]float64, s.nf)
 	p1 := p + 1
 	row := make([]float64, p)
+	getRow := rowGetter(X)
 	for k, gi := range s.ord {
 		g := groups[gi]
 		s.q[k] = g.Levels
@@ -146,7 +147,7 @@ func newSystem(y []float64, X mat.Matrix, groups []Grouping, wts []float64) (*sy
 			}
 			a := g.Index[i]
 			d[a] += w
-			getRow(X, i, row)
+			getRow(i, row)
 			zr := z[a*p1 : (a+1)*p1]
 			for c, v := range row {
 				zr[c] += w * v
@@ -278,13 +279,22 @@ func nestedIn(f, g Grouping) ([]int, bool) {
 }
 
 func getRow(X mat.Matrix, i int, dst []float64) {
+	rowGetter(X)(i, dst)
+}
+
+// rowGetter returns a function copying row i of X into dst, reading the
+// backing array directly when X exposes one.
+func rowGetter(X mat.Matrix) func(i int, dst []float64) {
 	if rv, ok := X.(mat.RawMatrixer); ok {
 		raw := rv.RawMatrix()
-		copy(dst, raw.Data[i*raw.Stride:i*raw.Stride+raw.Cols])
-		return
+		return func(i int, dst []float64) {
+			copy(dst, raw.Data[i*raw.Stride:i*raw.Stride+raw.Cols])
+		}
 	}
-	for j := range dst {
-		dst[j] = X.At(i, j)
+	return func(i int, dst []float64) {
+		for j := range dst {
+			dst[j] = X.At(i, j)
+		}
 	}
 }
 
@@ -316,6 +326,7 @@ func (s *system) crossXY(y []float64, X mat.Matrix, wts []float64) error {
 			defer wg.Done()
 			var R *mat.Dense
 			row := make([]float64, p)
+			getRow := rowGetter(X)
 			for start := lo; start < hi; start += chunk {
 				end := min(start+chunk, hi)
 				extra := 0
@@ -332,7 +343,7 @@ func (s *system) crossXY(y []float64, X mat.Matrix, wts []float64) error {
 					if wts != nil {
 						w = math.Sqrt(wts[i])
 					}
-					getRow(X, i, row)
+					getRow(i, row)
 					r := blk.RawRowView(extra + i - start)
 					for c, v := range row {
 						r[c] = w * v
