@@ -431,16 +431,12 @@ func describeHypothesis(p *plan.Plan, e *plan.Endpoint, h *plan.Hypothesis) stri
 		return fmt.Sprintf("%s: %s is equivalent to %s when the %s confidence interval of the %s lies within %s (two one-sided tests at alpha = %s).",
 			code(h.ID), code(h.Test), code(h.Against), pct(1-2*alpha), marginQuantity(h.Margin), marginRange(h.Margin), fnum(alpha))
 	case plan.HypNonInferiority:
-		dir := "higher values are better"
-		bound := "lower"
-		limit := marginLower(h.Margin)
+		dir, bound, side, limit := "higher values are better", "lower", "above", marginLower(h.Margin)
 		if h.Better == "lower" {
-			dir = "lower values are better"
-			bound = "upper"
-			limit = marginUpper(h.Margin)
+			dir, bound, side, limit = "lower values are better", "upper", "below", marginUpper(h.Margin)
 		}
-		return fmt.Sprintf("%s: %s is not inferior to %s (%s) when the %s bound of the one-sided %s confidence interval of the %s is beyond %s (alpha = %s).",
-			code(h.ID), code(h.Test), code(h.Against), dir, bound, pct(1-alpha), marginQuantity(h.Margin), limit, fnum(alpha))
+		return fmt.Sprintf("%s: %s is not inferior to %s (%s) when the %s bound of the one-sided %s confidence interval of the %s lies %s %s (alpha = %s).",
+			code(h.ID), code(h.Test), code(h.Against), dir, bound, pct(1-alpha), marginQuantity(h.Margin), side, limit, fnum(alpha))
 	case plan.HypTerm:
 		return fmt.Sprintf("%s: the test of the model term %s, at alpha = %s.", code(h.ID), strings.Join(codes(h.Term), " × "), fnum(alpha))
 	}

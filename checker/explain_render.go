@@ -5,6 +5,7 @@ import (
 	_ "embed"
 	"html"
 	"html/template"
+	"path/filepath"
 	"strings"
 )
 
@@ -151,4 +152,15 @@ func inline(s string) template.HTML {
 		b.WriteString(html.EscapeString(p))
 	}
 	return template.HTML(b.String())
+}
+
+// WriteFile writes the document to path atomically: HTML when path ends in
+// ".html" or ".htm", Markdown otherwise. An existing file is an error
+// unless replace is true.
+func (d *Document) WriteFile(path string, replace bool) error {
+	body := d.Markdown()
+	if ext := strings.ToLower(filepath.Ext(path)); ext == ".html" || ext == ".htm" {
+		body = d.HTML()
+	}
+	return writeFileAtomic(path, body, 0o644, !replace)
 }

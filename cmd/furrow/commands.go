@@ -43,6 +43,7 @@ var commands = []*command{
 	registerCommand,
 	runCommand,
 	verifyCommand,
+	explainCommand,
 	keygenCommand,
 	versionCommand,
 }
