@@ -29,6 +29,7 @@ type linearFit struct {
 func modelFitters() map[string]fitFunc {
 	return map[string]fitFunc{
 		plan.ModelLinear: fitLinear,
+		plan.ModelMixed:  fitMixed,
 	}
 }
 
