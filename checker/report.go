@@ -88,8 +88,11 @@ func hypothesisAnswer(h *HypothesisResult) []string {
 			h.ID, t.Term, fmtNum(t.F), fmtNum(t.DF), fmtNum(t.DenDF), fmtP(t.P), word, fmtNum(h.Alpha))}
 	}
 	var out []string
+	var rejected []string
+	equiv := false
 	for _, c := range h.Comparisons {
 		if c.Equivalence != nil {
+			equiv = true
 			out = append(out, fmt.Sprintf("%s: %s versus %s: %s (%s).", h.ID, c.Level, c.Against, c.Equivalence.Verdict, intervalText(&c)))
 			continue
 		}
@@ -102,14 +105,33 @@ func hypothesisAnswer(h *HypothesisResult) []string {
 			case "greater":
 				word = "is higher"
 			}
+			rejected = append(rejected, c.Level+" versus "+c.Against)
 		}
-		p := c.PAdjusted
-		if math.IsNaN(float64(p)) {
-			p = c.P
+		out = append(out, fmt.Sprintf("%s: %s versus %s %s (%s, %s).", h.ID, c.Level, c.Against, word, pText(&c), intervalText(&c)))
+	}
+	if len(h.Comparisons) > maxListedComparisons && !equiv {
+		// Many pairwise comparisons: one summary line instead of a list;
+		// the full table follows in the hypotheses section.
+		list := "none"
+		if len(rejected) > 0 {
+			list = strings.Join(rejected, "; ")
 		}
-		out = append(out, fmt.Sprintf("%s: %s versus %s %s (adjusted p = %s, %s).", h.ID, c.Level, c.Against, word, fmtP(p), intervalText(&c)))
+		return []string{fmt.Sprintf("%s: %d of %d comparisons differ at alpha = %s (%s): %s.", h.ID, len(rejected), len(h.Comparisons), fmtNum(h.Alpha), h.AdjustUsed, list)}
 	}
 	return out
+}
+
+// maxListedComparisons is the most comparisons of one hypothesis the
+// verdict lists one by one; above it the verdict summarises.
+const maxListedComparisons = 8
+
+// pText gives the adjusted p-value, or the unadjusted one labelled as such
+// when no adjustment was computed.
+func pText(c *Comparison) string {
+	if math.IsNaN(float64(c.PAdjusted)) {
+		return "unadjusted p = " + fmtP(c.P)
+	}
+	return "adjusted p = " + fmtP(c.PAdjusted)
 }
 
 func intervalText(c *Comparison) string {

@@ -98,6 +98,9 @@ func runRun(e *env, c *command, args []string) int {
 	if err := checker.WriteRecord(*out, res, key); err != nil {
 		return fail(e, c, err)
 	}
+	if err := checker.WriteReports(*out, res); err != nil {
+		return fail(e, c, err)
+	}
 	for _, ep := range res.Endpoints {
 		fmt.Fprintf(e.stdout, "%s: %s (step %s)\n", ep.ID, ep.Status, ep.Reported)
 	}
@@ -105,6 +108,7 @@ func runRun(e *env, c *command, args []string) int {
 		fmt.Fprintln(e.stdout, "UNREGISTERED run: the record is marked as such")
 	}
 	fmt.Fprintf(e.stdout, "wrote %s/%s %s\n", e.rel(*out), checker.AuditFileName, res.Integrity.ContentHash)
+	fmt.Fprintf(e.stdout, "wrote %s/%s, %s/%s and %s/%s/*.csv\n", e.rel(*out), checker.ReportHTMLName, e.rel(*out), checker.ReportMDName, e.rel(*out), checker.TablesDir)
 	return exitOK
 }
 
