@@ -15,16 +15,16 @@ const (
 	Bonferroni Method = "bonferroni" // family-wise error rate, any dependence
 	Holm       Method = "holm"       // step-down FWER; Holm (1979) Scand J Stat 6:65
 	Hochberg   Method = "hochberg"   // step-up FWER for independent or positively dependent tests; Hochberg (1988) Biometrika 75:800
-	BH         Method = "bh"         // false discovery rate; Benjamini & Hochberg (1995) JRSS B 57:289
+	BH         Method = "benjamini-hochberg"        // false discovery rate; Benjamini & Hochberg (1995) JRSS B 57:289
 )
 
 // Adjust returns multiplicity-adjusted p-values in the order of p, for m =
 // len(p) hypotheses. With p_(1) <= ... <= p_(m) the sorted values:
 //
-//	bonferroni  min(1, m p_i)
-//	holm        max_{j<=i} min(1, (m-j+1) p_(j))
-//	hochberg    min_{j>=i} min(1, (m-j+1) p_(j))
-//	bh          min_{j>=i} min(1, m/j · p_(j))
+//	bonferroni          min(1, m p_i)
+//	holm                max_{j<=i} min(1, (m-j+1) p_(j))
+//	hochberg            min_{j>=i} min(1, (m-j+1) p_(j))
+//	benjamini-hochberg  min_{j>=i} min(1, m/j · p_(j))
 //
 // The running max/min makes the adjusted values monotone in the raw ones, so
 // tied raw p-values receive equal adjusted values. p is not modified. Values
