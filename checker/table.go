@@ -368,18 +368,17 @@ func ReadTable(p *plan.Plan, dataPath string) (*Table, plan.Diagnostics, error) 
 
 // readOptions are the parts of the plan that decide how cells are read.
 type readOptions struct {
-	delim    rune
-	decimal  byte
-	missing  []string // trimmed missing codes; a blank cell is always missing
-	numeric  map[string]bool
-	sheet    string
-	dataPos  plan.Pos
-	colByKey map[string]*plan.Column
+	delim   rune
+	decimal byte
+	missing []string // trimmed missing codes; a blank cell is always missing
+	numeric map[string]bool
+	sheet   string
+	dataPos plan.Pos
 }
 
 func newReadOptions(p *plan.Plan) (*readOptions, error) {
 	o := &readOptions{delim: ',', decimal: '.', sheet: p.Data.Sheet, dataPos: p.Data.Pos,
-		numeric: map[string]bool{}, colByKey: map[string]*plan.Column{}}
+		numeric: map[string]bool{}}
 	if d := p.Data.Delimiter; d != "" {
 		r, n := utf8.DecodeRuneInString(d)
 		if d == `\t` || d == "tab" {
@@ -410,7 +409,6 @@ func newReadOptions(p *plan.Plan) (*readOptions, error) {
 		if c.IsNumeric() {
 			o.numeric[c.Name] = true
 		}
-		o.colByKey[c.Name] = c
 	}
 	return o, nil
 }
