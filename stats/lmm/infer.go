@@ -296,12 +296,13 @@ type TermTest struct {
 // TermTests returns one F test per term, terms[i] listing the model-matrix
 // columns of term i. typ 3 tests the term's coefficients being zero, which
 // is the Type III hypothesis under sum-to-zero coding; typ 1 tests the terms
-// sequentially in column order (rows of the triangular factor of X'WX).
+// sequentially in column order (rows of the triangular factor of the
+// unweighted X'X, as in the sequential sums of squares of OLS).
 func (r *Result) TermTests(terms [][]int, typ int, m Method) ([]TermTest, error) {
 	if typ != 1 && typ != 3 {
 		return nil, fmt.Errorf("term tests: type %d not supported (use 1 or 3)", typ)
 	}
-	p, p1 := r.P, r.P+1
+	p := r.P
 	out := make([]TermTest, len(terms))
 	for ti, cols := range terms {
 		if len(cols) == 0 {
@@ -316,7 +317,7 @@ func (r *Result) TermTests(terms [][]int, typ int, m Method) ([]TermTest, error)
 				L.Set(i, c, 1)
 			} else {
 				for j := c; j < p; j++ {
-					L.Set(i, j, r.sys.rxy[c*p1+j])
+					L.Set(i, j, r.sys.rx.At(c, j))
 				}
 			}
 		}

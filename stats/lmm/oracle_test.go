@@ -87,10 +87,10 @@ type oracleFit struct {
 }
 
 type oracleSet struct {
-	REML       oracleFit          `json:"reml"`
-	ML         oracleFit          `json:"ml"`
-	Closed     closedForm         `json:"closed_form_reml"`
-	Tight      oracleFit          `json:"tight_fit"`
+	REML       oracleFit  `json:"reml"`
+	ML         oracleFit  `json:"ml"`
+	Closed     closedForm `json:"closed_form_reml"`
+	Tight      oracleFit  `json:"tight_fit"`
 	RanefBatch map[string][]struct {
 		Value float64 `json:"value"`
 	}

@@ -15,7 +15,7 @@ import (
 func TestGridNotBeaten(t *testing.T) {
 	for _, c := range loadRef(t) {
 		y, X, g := c.model()
-		fit, err := Fit(y, X, g, nil)
+		fit, err := Fit(y, X, g, &Options{Weights: c.Weights})
 		if err != nil {
 			t.Fatal(err)
 		}

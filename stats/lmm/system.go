@@ -7,6 +7,8 @@ import (
 	"sort"
 	"sync"
 
+	"gonum.org/v1/gonum/blas"
+	"gonum.org/v1/gonum/blas/blas64"
 	"gonum.org/v1/gonum/mat"
 )
 
@@ -40,14 +42,19 @@ type system struct {
 	val [][]float64 // unscaled weighted cross counts
 	up  [][]int     // entry index of the same column in the parent's row (chain factor j+1)
 
-	m       int       // number of rest random columns
-	facOf   []int     // sorted factor of each rest column
-	restC   []float64 // m x m unscaled Z'WZ among the rest factors
-	xtx     []float64 // (p+1)x(p+1) [X y]'W[X y], from a QR of sqrt(w)[X y]
-	rxy     []float64 // upper-triangular R of that QR, (p+1)x(p+1) row-major
+	m       int        // number of rest random columns
+	facOf   []int      // sorted factor of each rest column
+	restC   []float64  // m x m unscaled Z'WZ among the rest factors
+	xtx     []float64  // (p+1)x(p+1) [X y]'W[X y], from a QR of sqrt(w)[X y]
+	rxy     []float64  // upper-triangular R of that QR, (p+1)x(p+1) row-major
+	rx      *mat.Dense // the same factor without weights (Type I hypotheses)
 	sumLogW float64
 
 	buckets []bucket // single factor with few distinct weighted counts
+
+	// denseRows marks chain factors whose tail rows are mostly full: their
+	// outer products are applied as one symmetric rank-k update.
+	denseRows []bool
 
 	mu sync.Mutex
 	wk *work
@@ -64,14 +71,15 @@ type bucket struct {
 
 // work holds the per-evaluation arrays.
 type work struct {
-	D    [][]float64
-	anc  [][]float64
-	sv   [][]float64
-	dv   [][]float64
-	T    []float64
-	pos  []int
-	ridx []int
-	rval []float64
+	D     [][]float64
+	anc   [][]float64
+	sv    [][]float64
+	dv    [][]float64
+	T     []float64
+	pos   []int
+	ridx  []int
+	rval  []float64
+	batch []float64
 }
 
 // evalOut is the result of one evaluation of the factorisation at theta.
@@ -249,6 +257,16 @@ func newSystem(y []float64, X mat.Matrix, groups []Grouping, wts []float64) (*sy
 			s.up[j] = up
 		}
 	}
+	s.denseRows = make([]bool, s.s)
+	for j := 0; j < s.s; j++ {
+		nnz := 0
+		if s.m > 0 {
+			nnz = len(s.col[j])
+		}
+		t := s.m + p1
+		full := float64(nnz+s.q[j]*p1) / float64(s.q[j]*t)
+		s.denseRows[j] = full > 0.5 && s.q[j]*t <= 1<<23
+	}
 	if s.nf == 1 {
 		s.makeBuckets()
 	}
@@ -309,6 +327,46 @@ func (s *system) crossXY(y []float64, X mat.Matrix, wts []float64) error {
 			s.sumLogW += math.Log(wts[i])
 		}
 	}
+	R := tsqr(y, X, wts, n, p)
+	if wts != nil {
+		s.rx = tsqr(y, X, nil, n, p)
+	} else {
+		s.rx = R
+	}
+	s.rxy = make([]float64, p1*p1)
+	for i := 0; i < p1; i++ {
+		for j := i; j < p1; j++ {
+			s.rxy[i*p1+j] = R.At(i, j)
+		}
+	}
+	s.xtx = make([]float64, p1*p1)
+	for i := 0; i < p1; i++ {
+		for j := 0; j <= i; j++ {
+			var sum float64
+			for k := 0; k <= j; k++ {
+				sum += s.rxy[k*p1+i] * s.rxy[k*p1+j]
+			}
+			s.xtx[i*p1+j] = sum
+			s.xtx[j*p1+i] = sum
+		}
+	}
+	// Rank of X from the diagonal of R (column norms as the scale).
+	maxd := 0.0
+	for j := 0; j < p; j++ {
+		maxd = math.Max(maxd, math.Abs(s.rxy[j*p1+j]))
+	}
+	for j := 0; j < p; j++ {
+		if math.Abs(s.rxy[j*p1+j]) <= 1e-10*maxd*math.Sqrt(float64(p)) || maxd == 0 {
+			return fmt.Errorf("%w: column %d of X is a linear combination of the columns before it", ErrRankDeficient, j)
+		}
+	}
+	return nil
+}
+
+// tsqr returns the (p+1)x(p+1) upper-triangular factor of a Householder QR
+// of sqrt(w)[X y], taken in row blocks over two goroutines (tall-skinny QR).
+func tsqr(y []float64, X mat.Matrix, wts []float64, n, p int) *mat.Dense {
+	p1 := p + 1
 	const chunk = 4096
 	half := n / 2
 	if n < 2*chunk {
@@ -363,34 +421,7 @@ func (s *system) crossXY(y []float64, X mat.Matrix, wts []float64) error {
 		blk.Slice(p1, 2*p1, 0, p1).(*mat.Dense).Copy(rs[1])
 		R = upperR(blk)
 	}
-	s.rxy = make([]float64, p1*p1)
-	for i := 0; i < p1; i++ {
-		for j := i; j < p1; j++ {
-			s.rxy[i*p1+j] = R.At(i, j)
-		}
-	}
-	s.xtx = make([]float64, p1*p1)
-	for i := 0; i < p1; i++ {
-		for j := 0; j <= i; j++ {
-			var sum float64
-			for k := 0; k <= j; k++ {
-				sum += s.rxy[k*p1+i] * s.rxy[k*p1+j]
-			}
-			s.xtx[i*p1+j] = sum
-			s.xtx[j*p1+i] = sum
-		}
-	}
-	// Rank of X from the diagonal of R (column norms as the scale).
-	maxd := 0.0
-	for j := 0; j < p; j++ {
-		maxd = math.Max(maxd, math.Abs(s.rxy[j*p1+j]))
-	}
-	for j := 0; j < p; j++ {
-		if math.Abs(s.rxy[j*p1+j]) <= 1e-10*maxd*math.Sqrt(float64(p)) || maxd == 0 {
-			return fmt.Errorf("%w: column %d of X is a linear combination of the columns before it", ErrRankDeficient, j)
-		}
-	}
-	return nil
+	return R
 }
 
 // upperR returns the p1 x p1 upper-triangular factor of a QR of a (rows >= p1).
@@ -611,14 +642,33 @@ func (s *system) eliminateChain(theta []float64, w *work) float64 {
 			}
 		}
 	}
+	// Pivots are >= 1 (Schur complements of I + Lambda'Z'WZ Lambda), so
+	// their product is accumulated and logged only when it grows large.
 	var ld float64
+	prod := 1.0
 	for j := 0; j < s.s; j++ {
 		na := s.s - 1 - j
 		D, anc, dv := w.D[j], w.anc[j], w.dv[j]
+		dense := s.denseRows[j]
+		if dense {
+			if len(w.batch) < s.q[j]*t {
+				w.batch = make([]float64, s.q[j]*t)
+			}
+		}
 		for a := 0; a < s.q[j]; a++ {
 			piv := D[a]
-			ld += math.Log(piv)
+			prod *= piv
+			if prod > 1e200 {
+				ld += math.Log(prod)
+				prod = 1
+			}
 			if s.d[j][a] == 0 {
+				if dense {
+					br := w.batch[a*t : (a+1)*t]
+					for i := range br {
+						br[i] = 0
+					}
+				}
 				continue
 			}
 			ra := anc[a*na : (a+1)*na]
@@ -654,7 +704,25 @@ func (s *system) eliminateChain(theta []float64, w *work) float64 {
 					}
 				}
 			}
-			// Outer product into the tail.
+			// Outer product into the tail: gathered for a dense batch update
+			// when the rows of this factor are mostly full, else scattered.
+			inv := 1 / piv
+			if dense {
+				br := w.batch[a*t : (a+1)*t]
+				for i := range br {
+					br[i] = 0
+				}
+				sc := math.Sqrt(inv)
+				if m > 0 {
+					for e := lo; e < hi; e++ {
+						br[s.col[j][e]] = sc * w.sv[j][e]
+					}
+				}
+				for c := 0; c < p1; c++ {
+					br[m+c] = sc * da[c]
+				}
+				continue
+			}
 			nr := 0
 			if m > 0 {
 				for e := lo; e < hi; e++ {
@@ -668,7 +736,6 @@ func (s *system) eliminateChain(theta []float64, w *work) float64 {
 				w.rval[nr] = da[c]
 				nr++
 			}
-			inv := 1 / piv
 			for x := 0; x < nr; x++ {
 				vx := w.rval[x] * inv
 				if vx == 0 {
@@ -680,6 +747,10 @@ func (s *system) eliminateChain(theta []float64, w *work) float64 {
 				}
 			}
 		}
+		if dense {
+			blas64.Syrk(blas.Trans, -1, blas64.General{Rows: s.q[j], Cols: t, Stride: t, Data: w.batch[:s.q[j]*t]},
+				1, blas64.Symmetric{Uplo: blas.Lower, N: t, Stride: t, Data: T})
+		}
 	}
-	return ld
+	return ld + math.Log(prod)
 }

@@ -10,6 +10,7 @@
 ##   oats   Yates (1935) split-plot, yield ~ nitro*gen + (1|block) + (1|block:gen)
 ##   unbal1 seeded invented repeated-measures trial, plots missing some visits
 ##   unbal2 seeded invented split-plot, one whole plot and several sub-plots missing
+##   weighted unbal1 with seeded prior weights
 ##   unbal3 seeded invented crossed site x genotype trial, 30% of cells missing
 suppressPackageStartupMessages({
   library(lme4); library(lmerTest); library(pbkrtest)
@@ -50,9 +51,10 @@ anova_rows <- function(a) {
     NumDF = a[i, "NumDF"], DenDF = a[i, "DenDF"], p = a[i, "Pr(>F)"]))
 }
 
-one_case <- function(dat, form, groups, label) {
-  fit <- lmerTest::lmer(form, data = dat, REML = TRUE, control = ctl)
-  fitml <- lmerTest::lmer(form, data = dat, REML = FALSE, control = ctl)
+one_case <- function(dat, form, groups, label, w = NULL) {
+  dat$.w <- if (is.null(w)) rep(1, nrow(dat)) else w
+  fit <- lmerTest::lmer(form, data = dat, REML = TRUE, control = ctl, weights = .w)
+  fitml <- lmerTest::lmer(form, data = dat, REML = FALSE, control = ctl, weights = .w)
   X <- getME(fit, "X")
   vc <- as.data.frame(VarCorr(fit))
   vcml <- as.data.frame(VarCorr(fitml))
@@ -67,6 +69,7 @@ one_case <- function(dat, form, groups, label) {
     formula = paste(deparse(form), collapse = " "),
     n = nrow(X), p = ncol(X),
     y = vec(model.response(model.frame(fit))),
+    weights = if (is.null(w)) NULL else vec(w),
     X = vec(as.vector(X)), colnames = vec(colnames(X)),
     assign = vec(attr(X, "assign")), terms = vec(attr(terms(fit), "term.labels")),
     groups = g,
@@ -113,6 +116,9 @@ d1$y <- 10 + c(a = 0, b = 1.5, c = -1)[as.character(d1$trt)] + 0.4 * as.integer(
   u[as.integer(d1$plot)] + rnorm(nrow(d1), sd = 1.3)
 d1 <- d1[runif(nrow(d1)) > 0.22, ]
 cases$unbal1 <- one_case(d1, y ~ trt * visit + (1 | plot), "plot", "unbal1")
+## weighted: the same trial with seeded prior weights between 0.5 and 2.
+set.seed(20240404)
+cases$weighted <- one_case(d1, y ~ trt * visit + (1 | plot), "plot", "weighted", w = round(runif(nrow(d1), 0.5, 2), 2))
 
 ## unbal2: 6 blocks x 3 whole-plot levels x 4 sub-plot levels; whole plot (block 2, A=c)
 ## missing entirely and 9 sub-plots dropped at random.
