@@ -51,12 +51,11 @@ type contractCheck struct {
 	decl  map[string]*plan.Column
 
 	// filled by units and replication, used by summary
-	unitCol    *Column
-	unitFirst  map[string]int // unit -> first table row
-	unitOrder  []string
-	cellCols   []*plan.Column
-	cells      []CellCount
-	replicated bool
+	unitCol   *Column
+	unitFirst map[string]int // unit -> first table row
+	unitOrder []string
+	cellCols  []*plan.Column
+	cells     []CellCount
 }
 
 func (c *contractCheck) add(col string, d plan.Diagnostic) {
@@ -427,8 +426,25 @@ func (c *contractCheck) replication() {
 		count[key]++
 	}
 	want := c.p.Design.Replicates
-	c.replicated = want > 0
-	forEachCombination(levels, func(parts []string) {
+	each := func(fn func([]string)) { forEachCombination(levels, fn) }
+	if combinations(levels) > maxCells {
+		// Too many undeclared levels to list every cell: list those seen.
+		each = func(fn func([]string)) {
+			seen := map[string]bool{}
+			for _, i := range reps {
+				parts := make([]string, len(tcs))
+				for k, tc := range tcs {
+					parts[k] = tc.Text[i]
+				}
+				key := strings.Join(parts, "\x00")
+				if j, ok := firstRow[key]; ok && j == i && !seen[key] {
+					seen[key] = true
+					fn(parts)
+				}
+			}
+		}
+	}
+	each(func(parts []string) {
 		key := strings.Join(parts, "\x00")
 		n := count[key]
 		c.cells = append(c.cells, CellCount{Levels: slices.Clone(parts), Units: n})
@@ -448,6 +464,22 @@ func (c *contractCheck) replication() {
 			Summary: fmt.Sprintf("%s: %d %s, the plan declares %d per cell", strings.Join(names, ", "), n, plural(n, "unit", "units"), want),
 			Related: relatedPos(c.p.Design.Pos)})
 	})
+}
+
+// maxCells bounds the cells CheckData lists from the levels' product.
+const maxCells = 100000
+
+// combinations returns the number of level combinations, capped above
+// maxCells.
+func combinations(levels [][]string) int {
+	n := 1
+	for _, l := range levels {
+		n *= len(l)
+		if n > maxCells {
+			return maxCells + 1
+		}
+	}
+	return n
 }
 
 // seenLevels lists the non-missing values of a column in the given rows,

@@ -384,6 +384,31 @@ func TestCheckDataLimitsRepeats(t *testing.T) {
 	}
 }
 
+func TestCheckDataManyUndeclaredLevels(t *testing.T) {
+	// 400 units, each with its own treatment and variety level and no
+	// levels declared: the 160000 combinations exceed maxCells, so only
+	// the 400 cells seen are listed.
+	var sb strings.Builder
+	sb.WriteString("plot,treatment,variety,yield\n")
+	for i := 0; i < 400; i++ {
+		fmt.Fprintf(&sb, "%d,T%d,V%d,1\n", i, i, i)
+	}
+	dir := t.TempDir()
+	writeData(t, dir, "plots.csv", []byte(sb.String()))
+	p := tablePlan(dir, "plots.csv")
+	p.Columns = []plan.Column{{Name: "plot", Role: plan.RoleUnit}, {Name: "treatment", Role: plan.RoleTreatment},
+		{Name: "variety", Role: plan.RoleFactor}, {Name: "yield", Role: plan.RoleResponse}}
+	p.Design.Replicates = 1
+	tab, _, err := ReadTable(p, "")
+	if err != nil {
+		t.Fatal(err)
+	}
+	ds, sum := CheckData(p, tab)
+	if len(ds) != 0 || len(sum.Cells) != 400 || sum.Cells[399].Units != 1 {
+		t.Errorf("%d findings, %d cells", len(ds), len(sum.Cells))
+	}
+}
+
 func TestCheckDataNil(t *testing.T) {
 	if ds, s := CheckData(nil, nil); ds != nil || s != nil {
 		t.Error("nil inputs give findings")
