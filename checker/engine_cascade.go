@@ -46,7 +46,7 @@ func (e *engine) runEndpoint(p *plan.Plan, kept *Table, ep *plan.Endpoint) Endpo
 		alpha = 0.05
 	}
 	er := EndpointResult{ID: ep.ID, Pos: posText(ep.Pos), Response: ep.Response, Primary: ep.Primary, Alpha: Num(alpha),
-		Status: EndpointFailed, Hypotheses: []HypothesisResult{}}
+		Status: EndpointFailed, Hypotheses: []HypothesisResult{}, Observed: observedData(p, kept, ep.Response)}
 	index := map[string]int{}
 	for i, s := range ep.Steps {
 		index[s.ID] = i

@@ -23,10 +23,14 @@ const (
 // Report is the human view of a run, built from the Result alone so that
 // the report can never disagree with the audit record.
 type Report struct {
-	R         *Result
-	Verdicts  []EndpointVerdict
-	Figures   map[string][]Figure // step key "endpoint/step" -> figures
-	FigureErr []string            // figures that could not be drawn, with the reason
+	R        *Result
+	Verdicts []EndpointVerdict
+	Figures  map[string][]Figure // step key "endpoint/step" -> figures
+	// DataFigures are the data-level figures per endpoint id: the response
+	// by each factor, the cell means of two factors and, for repeated
+	// measures, one line per unit.
+	DataFigures map[string][]Figure
+	FigureErr   []string // figures that could not be drawn, with the reason
 }
 
 // EndpointVerdict is the plain-words answer of one endpoint.
@@ -41,9 +45,14 @@ type EndpointVerdict struct {
 // BuildReport derives the report view from a run result and draws the
 // figures from the data the record carries.
 func BuildReport(r *Result) *Report {
-	rep := &Report{R: r, Figures: map[string][]Figure{}}
+	rep := &Report{R: r, Figures: map[string][]Figure{}, DataFigures: map[string][]Figure{}}
 	for _, e := range r.Endpoints {
 		rep.Verdicts = append(rep.Verdicts, endpointVerdict(&e))
+		if e.Observed != nil {
+			figs, errs := dataFigures(e.ID, e.Observed)
+			rep.DataFigures[e.ID] = figs
+			rep.FigureErr = append(rep.FigureErr, errs...)
+		}
 		for _, s := range e.Steps {
 			if !s.Executed || s.Figures == nil {
 				continue
@@ -178,6 +187,72 @@ func stepFigures(key string, e *EndpointResult, s *StepResult) ([]Figure, []stri
 			est[i], lo[i], hi[i] = float64(m.Response), float64(m.ResponseLower), float64(m.ResponseUpper)
 		}
 		add(MeansWithCI(key+"/means", "Estimated marginal means of "+e.Response, "response scale", labels, est, lo, hi))
+	}
+	return figs, errs
+}
+
+// dataFigures draws the observed response by each design factor, the
+// cell-means plot of the first two factors (or of the treatment and the
+// repeated measure) and the lines-per-unit plot of a repeated measure.
+func dataFigures(id string, od *ObservedData) ([]Figure, []string) {
+	var figs []Figure
+	var errs []string
+	add := func(f Figure, err error) {
+		if err != nil {
+			errs = append(errs, fmt.Sprintf("%s: %v", id, err))
+			return
+		}
+		figs = append(figs, f)
+	}
+	vals := floats(od.Values)
+	if len(vals) == 0 {
+		return nil, nil
+	}
+	type factor struct {
+		name           string
+		levels, values []string
+	}
+	var fs []factor
+	for _, f := range od.Factors {
+		if len(f.Values) != len(vals) {
+			continue
+		}
+		levels := f.Levels
+		if len(levels) == 0 {
+			levels = uniqueInOrder(f.Values)
+		}
+		fs = append(fs, factor{f.Name, levels, f.Values})
+	}
+	for _, f := range fs {
+		if od.Repeat != "" && len(od.RepeatValues) == len(vals) && len(od.RepeatLevels) > 0 {
+			// One box per level and time would hide the change; draw the
+			// last level of the repeated measure, where effects show.
+			last := od.RepeatLevels[len(od.RepeatLevels)-1]
+			var v []float64
+			var g []string
+			for i := range vals {
+				if od.RepeatValues[i] == last {
+					v = append(v, vals[i])
+					g = append(g, f.values[i])
+				}
+			}
+			add(BoxPoints(id+"/box-"+f.name, f.name, od.Response+" at "+last, f.levels, g, v))
+			continue
+		}
+		add(BoxPoints(id+"/box-"+f.name, f.name, od.Response, f.levels, f.values, vals))
+	}
+	switch {
+	case len(fs) > 0 && od.Repeat != "" && len(od.RepeatValues) == len(vals):
+		add(CellMeans(id+"/cells", od.Repeat, fs[0].name, od.Response, od.RepeatLevels, fs[0].levels, od.RepeatValues, fs[0].values, vals))
+	case len(fs) > 1:
+		a, b := fs[0], fs[1]
+		if len(b.levels) > len(a.levels) {
+			a, b = b, a
+		}
+		add(CellMeans(id+"/cells", a.name, b.name, od.Response, a.levels, b.levels, a.values, b.values, vals))
+	}
+	if od.Repeat != "" && len(od.Unit) == len(vals) && len(od.RepeatValues) == len(vals) {
+		add(UnitLines(id+"/units", od.Repeat, od.Response, od.RepeatLevels, od.Unit, od.RepeatValues, vals))
 	}
 	return figs, errs
 }

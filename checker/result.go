@@ -180,6 +180,8 @@ type EndpointResult struct {
 	Steps []StepResult `json:"steps"`
 	// Hypotheses are computed on the reported step, in plan order.
 	Hypotheses []HypothesisResult `json:"hypotheses"`
+	// Observed is the data behind the report's data-level figures.
+	Observed *ObservedData `json:"observed"`
 }
 
 // StepResult is one step of a cascade: its model, what was fitted, the
