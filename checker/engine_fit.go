@@ -30,6 +30,14 @@ func modelFitters() map[string]fitFunc {
 	return map[string]fitFunc{
 		plan.ModelLinear: fitLinear,
 		plan.ModelMixed:  fitMixed,
+
+		// Rank and Welch steps (engine_rank.go).
+		plan.ModelWelch:      fitWelch,
+		plan.ModelKruskal:    fitKruskal,
+		plan.ModelFriedman:   fitFriedman,
+		plan.ModelSignedRank: fitSignedRank,
+		plan.ModelRankSum:    fitRankSum,
+		plan.ModelVanElteren: fitVanElteren,
 	}
 }
 

@@ -1,0 +1,426 @@
+package checker
+
+// Hypotheses on rank and Welch steps.
+//
+// A rank or Welch step has no model contrasts, so its comparisons are
+// separate two-sample tests on the analysed values of the two levels:
+//
+//	step                       comparison of level against comparator
+//	welch                      Welch (1947, Biometrika 34:28) two-sample t test,
+//	                           Welch-Satterthwaite df, t interval
+//	kruskal-wallis, rank-sum,  Wilcoxon-Mann-Whitney rank-sum test
+//	  one-sample signed-rank   (levels of the hypothesis factor)
+//	van-elteren, friedman      van Elteren's (1960) stratified two-sample test
+//	                           within the step's within strata or blocks
+//	paired signed-rank         Wilcoxon signed-rank test of the paired differences
+//
+// The declared sides are kept (greater: the level tends to be larger).
+// The estimate of a rank comparison is the difference of the two medians
+// (the median of the paired differences for the paired signed-rank step),
+// with no standard error and no interval (NaN); on a log scale the ratio
+// is its exponential. Multiplicity adjustments: bonferroni, holm, hochberg
+// and benjamini-hochberg are applied as declared (stats/multcomp); dunnett
+// and tukey rest on the joint distribution of a model's contrasts, which
+// separate two-sample tests do not have, so they are replaced by holm
+// (valid under any dependence), recorded in AdjustUsed and the Note.
+// Equivalence and non-inferiority need an interval: on a Welch step they
+// are two one-sided tests (Schuirmann 1987) with the Welch df; on a rank
+// step they are not assessable. Term hypotheses are not assessable on
+// either (no model terms).
+
+import (
+	"fmt"
+	"math"
+
+	"furrow/plan"
+	"furrow/stats/dist"
+	"furrow/stats/multcomp"
+	"furrow/stats/rank"
+)
+
+// rankHypothesis answers one declared hypothesis on a rank or Welch step.
+func rankHypothesis(p *plan.Plan, s *plan.Step, f *fitted, h *plan.Hypothesis, epAlpha float64) HypothesisResult {
+	alpha := h.Alpha
+	if alpha == 0 {
+		alpha = epAlpha
+	}
+	sides := h.Sides
+	if sides == "" {
+		sides = "two-sided"
+	}
+	adj := h.Adjust
+	if adj == "" {
+		adj = plan.AdjustNone
+	}
+	hr := HypothesisResult{ID: h.ID, Pos: posText(h.Pos), Kind: h.Kind, Step: s.ID, Sides: sides, Alpha: Num(alpha),
+		Adjust: adj, AdjustUsed: adj, Assessable: true, Comparisons: []Comparison{}}
+	welch := s.Model == plan.ModelWelch
+	notAssessable := func(note string) HypothesisResult {
+		hr.Assessable, hr.AdjustUsed, hr.Note = false, "", note
+		return hr
+	}
+	switch {
+	case h.Kind == plan.HypTerm:
+		return notAssessable(fmt.Sprintf("step %s (%s) fits no model terms; a term hypothesis is not assessable on it", s.ID, s.Model))
+	case !welch && (h.Kind == plan.HypEquivalence || h.Kind == plan.HypNonInferiority):
+		return notAssessable(fmt.Sprintf("%s needs an estimate with a confidence interval, which the rank test of step %s (%s) does not give; not assessable on it",
+			h.Kind, s.ID, s.Model))
+	}
+	factor := h.Factor
+	if factor == "" {
+		if c := columnByRole(p, plan.RoleTreatment); c != nil {
+			factor = c.Name
+		}
+	}
+	if s.Compare != "" && factor != s.Compare {
+		return notAssessable(fmt.Sprintf("step %s compares the levels of %s, not of %s; not assessable on it", s.ID, s.Compare, factor))
+	}
+	g, ok := f.ds.factors[factor]
+	if !ok {
+		return notAssessable(fmt.Sprintf("%s is not a factor of the data analysed by step %s", factor, s.ID))
+	}
+	levels := levelsFor(p, factor, g)
+	pairs, note := hypothesisPairs(p, h, factor, levels)
+	var notes []string
+	if note != "" {
+		notes = append(notes, note)
+	}
+	used := adj
+	if adj == plan.AdjustDunnett || adj == plan.AdjustTukey {
+		used = plan.AdjustHolm
+		notes = append(notes, fmt.Sprintf("the declared %s adjustment needs the joint distribution of a model's contrasts; step %s (%s) compares pairs by separate two-sample tests, so holm's adjustment is used",
+			adj, s.ID, s.Model))
+	}
+	hr.AdjustUsed = used
+	cmp := pairComparer(s, f, factor)
+	ps := make([]float64, 0, len(pairs))
+	for _, pr := range pairs {
+		c := cmp(pr[0], pr[1], sides, h, alpha)
+		hr.Comparisons = append(hr.Comparisons, c)
+		ps = append(ps, float64(c.P))
+	}
+	adjP, err := adjustFinite(ps, used)
+	if err != nil {
+		notes = append(notes, "the adjustment could not be computed: "+err.Error())
+	}
+	for i := range hr.Comparisons {
+		hr.Comparisons[i].PAdjusted = Num(adjP[i])
+		hr.Comparisons[i].Reject = !math.IsNaN(adjP[i]) && adjP[i] < alpha
+	}
+	for i, n := range notes {
+		if i > 0 {
+			hr.Note += "; "
+		}
+		hr.Note += n
+	}
+	return hr
+}
+
+// hypothesisPairs lists the (level, comparator) pairs of a hypothesis, as
+// the model-based hypotheses do: versus-control against the factor's
+// control, pairwise in level order (later level first), equivalence and
+// non-inferiority the declared test and comparator.
+func hypothesisPairs(p *plan.Plan, h *plan.Hypothesis, factor string, levels []string) ([][2]string, string) {
+	var pairs [][2]string
+	note := ""
+	switch h.Kind {
+	case plan.HypVersusControl:
+		ctrl := ""
+		if c := planColumn(p, factor); c != nil {
+			ctrl = c.Control
+		}
+		if ctrl == "" {
+			note = fmt.Sprintf("%s declares no control level", factor)
+		}
+		lv := h.Levels
+		if len(lv) == 0 {
+			for _, l := range levels {
+				if l != ctrl {
+					lv = append(lv, l)
+				}
+			}
+		}
+		for _, l := range lv {
+			pairs = append(pairs, [2]string{l, ctrl})
+		}
+	case plan.HypPairwise:
+		if len(h.Pairs) > 0 {
+			for _, pr := range h.Pairs {
+				if len(pr) == 2 {
+					pairs = append(pairs, [2]string{pr[0], pr[1]})
+				}
+			}
+		} else {
+			for i := 0; i < len(levels); i++ {
+				for j := i + 1; j < len(levels); j++ {
+					pairs = append(pairs, [2]string{levels[j], levels[i]})
+				}
+			}
+		}
+	case plan.HypEquivalence, plan.HypNonInferiority:
+		pairs = append(pairs, [2]string{h.Test, h.Against})
+	}
+	return pairs, note
+}
+
+// adjustFinite applies a stats/multcomp adjustment to the p-values that
+// are numbers; NaN entries (comparisons that could not be made) stay NaN
+// and do not count in the family.
+func adjustFinite(ps []float64, method string) ([]float64, error) {
+	out := make([]float64, len(ps))
+	var idx []int
+	var vals []float64
+	for i, v := range ps {
+		out[i] = math.NaN()
+		if !math.IsNaN(v) {
+			idx = append(idx, i)
+			vals = append(vals, v)
+		}
+	}
+	if len(vals) == 0 {
+		return out, nil
+	}
+	adj, err := multcomp.Adjust(vals, multcomp.Method(method))
+	if err != nil {
+		return out, err
+	}
+	for k, i := range idx {
+		out[i] = adj[k]
+	}
+	return out, nil
+}
+
+// emptyComparison is a comparison with every number NaN.
+func emptyComparison(level, against string) Comparison {
+	return Comparison{Label: level + " - " + against, Level: level, Against: against, Estimate: NaN, SE: NaN, DF: NaN,
+		Statistic: NaN, P: NaN, PAdjusted: NaN, Lower: NaN, Upper: NaN, Ratio: NaN, RatioLower: NaN, RatioUpper: NaN}
+}
+
+type pairFunc func(level, against, sides string, h *plan.Hypothesis, alpha float64) Comparison
+
+// pairComparer returns the two-sample comparison a step's hypotheses use
+// (see the table at the top of this file).
+func pairComparer(s *plan.Step, f *fitted, factor string) pairFunc {
+	ds := f.ds
+	g := ds.factors[factor]
+	values := func(level string) []float64 {
+		var out []float64
+		for i, v := range g {
+			if v == level {
+				out = append(out, ds.y[i])
+			}
+		}
+		return out
+	}
+	tr := s.Transform
+	ratio := func(c *Comparison) {
+		if isLogScale(tr) {
+			k := logBase(tr)
+			c.Ratio = Num(math.Exp(k * float64(c.Estimate)))
+			c.RatioLower, c.RatioUpper = Num(math.Exp(k*float64(c.Lower))), Num(math.Exp(k*float64(c.Upper)))
+		}
+	}
+	alt := func(sides string) rank.Alternative {
+		switch sides {
+		case "greater":
+			return rank.Greater
+		case "less":
+			return rank.Less
+		}
+		return rank.TwoSided
+	}
+	switch {
+	case s.Model == plan.ModelWelch:
+		return func(level, against, sides string, h *plan.Hypothesis, alpha float64) Comparison {
+			c := emptyComparison(level, against)
+			est, se, df, ok := welchTwoSample(values(level), values(against))
+			if !ok {
+				return c
+			}
+			t := est / se
+			c.Estimate, c.SE, c.DF, c.Statistic = Num(est), Num(se), Num(df), Num(t)
+			var tq float64
+			switch h.Kind {
+			case plan.HypEquivalence, plan.HypNonInferiority:
+				// Schuirmann (1987): two one-sided tests at alpha, 1-2 alpha interval.
+				tq = dist.TUpperQuantile(alpha, df)
+				c.Equivalence = tost(h, tr, est, se, df, alpha)
+				switch {
+				case h.Kind == plan.HypNonInferiority && h.Better == "lower":
+					c.P = c.Equivalence.PUpper
+				case h.Kind == plan.HypNonInferiority:
+					c.P = c.Equivalence.PLower
+				default:
+					c.P = Num(math.Max(float64(c.Equivalence.PLower), float64(c.Equivalence.PUpper)))
+				}
+				c.Lower, c.Upper = Num(est-tq*se), Num(est+tq*se)
+			default:
+				c.P = Num(pSided(t, df, sides))
+				switch sides {
+				case "less":
+					tq = dist.TUpperQuantile(alpha, df)
+					c.Lower, c.Upper = Num(math.Inf(-1)), Num(est+tq*se)
+				case "greater":
+					tq = dist.TUpperQuantile(alpha, df)
+					c.Lower, c.Upper = Num(est-tq*se), Num(math.Inf(1))
+				default:
+					tq = dist.TUpperQuantile(alpha/2, df)
+					c.Lower, c.Upper = Num(est-tq*se), Num(est+tq*se)
+				}
+			}
+			ratio(&c)
+			return c
+		}
+	case s.Model == plan.ModelSignedRank && s.Compare != "":
+		return func(level, against, sides string, _ *plan.Hypothesis, _ float64) Comparison {
+			c := emptyComparison(level, against)
+			b := ds.factors[s.Within]
+			x, y := pairedValues(ds.y, g, b, level, against)
+			if len(x) == 0 {
+				return c
+			}
+			d := make([]float64, len(x))
+			for i := range d {
+				d[i] = x[i] - y[i]
+			}
+			r, err := rank.SignedRank(d, rank.Options{Alternative: alt(sides)})
+			if err != nil {
+				return c
+			}
+			c.Estimate, c.P = Num(median(d)), Num(r.P)
+			c.Statistic = Num(r.Z)
+			if r.Exact {
+				n := float64(r.N)
+				c.Statistic = Num((r.V - n*(n+1)/4) / math.Sqrt(n*(n+1)*(2*n+1)/24))
+			}
+			ratio(&c)
+			c.RatioLower, c.RatioUpper = NaN, NaN
+			return c
+		}
+	case s.Within != "" && (s.Model == plan.ModelVanElteren || s.Model == plan.ModelFriedman):
+		return func(level, against, sides string, _ *plan.Hypothesis, _ float64) Comparison {
+			c := emptyComparison(level, against)
+			x, y := values(level), values(against)
+			if len(x) == 0 || len(y) == 0 {
+				return c
+			}
+			var sub []int
+			for i, v := range g {
+				if v == level || v == against {
+					sub = append(sub, i)
+				}
+			}
+			yy, gg, st := make([]float64, len(sub)), make([]string, len(sub)), make([]string, len(sub))
+			for k, i := range sub {
+				yy[k], gg[k], st[k] = ds.y[i], g[i], ds.factors[s.Within][i]
+			}
+			strata := strataOfLevels(yy, gg, []string{level, against}, st)
+			r, err := rank.VanElteren(strata, rank.Options{Alternative: alt(sides)})
+			if err != nil {
+				return c
+			}
+			c.Estimate, c.Statistic, c.P = Num(median(x)-median(y)), Num(r.Z), Num(r.P)
+			ratio(&c)
+			c.RatioLower, c.RatioUpper = NaN, NaN
+			return c
+		}
+	}
+	return func(level, against, sides string, _ *plan.Hypothesis, _ float64) Comparison {
+		c := emptyComparison(level, against)
+		x, y := values(level), values(against)
+		if len(x) == 0 || len(y) == 0 {
+			return c
+		}
+		r, err := rank.RankSum(x, y, rank.Options{Alternative: alt(sides)})
+		if err != nil {
+			return c
+		}
+		c.Estimate, c.P = Num(median(x)-median(y)), Num(r.P)
+		c.Statistic = Num(r.Z)
+		if r.Exact {
+			m, n := float64(r.M), float64(r.N)
+			c.Statistic = Num((r.U - m*n/2) / math.Sqrt(m*n*(m+n+1)/12))
+		}
+		ratio(&c)
+		c.RatioLower, c.RatioUpper = NaN, NaN
+		return c
+	}
+}
+
+// strataOfLevels groups values by stratum (in order of first appearance;
+// the van Elteren statistic does not depend on the order) and level.
+func strataOfLevels(y []float64, g, levels, st []string) []rank.Stratum {
+	si := map[string]int{}
+	var out []rank.Stratum
+	for i := range y {
+		k, ok := si[st[i]]
+		if !ok {
+			k = len(out)
+			si[st[i]] = k
+			out = append(out, rank.Stratum{Groups: make([][]float64, len(levels))})
+		}
+		for j, l := range levels {
+			if g[i] == l {
+				out[k].Groups[j] = append(out[k].Groups[j], y[i])
+			}
+		}
+	}
+	return out
+}
+
+// pairedValues returns, for every block with exactly one value at each of
+// the two levels, the value at level and the value at against.
+func pairedValues(y []float64, g, b []string, level, against string) (x, z []float64) {
+	type cell struct {
+		a, c   float64
+		na, nc int
+	}
+	cells := map[string]*cell{}
+	var order []string
+	for i := range y {
+		if g[i] != level && g[i] != against {
+			continue
+		}
+		c := cells[b[i]]
+		if c == nil {
+			c = &cell{}
+			cells[b[i]] = c
+			order = append(order, b[i])
+		}
+		if g[i] == level {
+			c.a, c.na = y[i], c.na+1
+		} else {
+			c.c, c.nc = y[i], c.nc+1
+		}
+	}
+	for _, k := range order {
+		if c := cells[k]; c.na == 1 && c.nc == 1 {
+			x, z = append(x, c.a), append(z, c.c)
+		}
+	}
+	return x, z
+}
+
+// welchTwoSample returns the difference of means x - y, its standard
+// error sqrt(s²x/nx + s²y/ny) and the Welch (1947, Biometrika 34:28) /
+// Satterthwaite (1946, Biometrics Bull 2:110) degrees of freedom
+//
+//	df = (vx + vy)² / (vx²/(nx-1) + vy²/(ny-1)),  v = s²/n.
+//
+// ok is false when a sample has fewer than two values or both variances
+// are zero.
+func welchTwoSample(x, y []float64) (est, se, df float64, ok bool) {
+	if len(x) < 2 || len(y) < 2 {
+		return 0, 0, 0, false
+	}
+	nx, ny := float64(len(x)), float64(len(y))
+	sx, sy := sd(x), sd(y)
+	vx, vy := sx*sx/nx, sy*sy/ny
+	if vx+vy <= 0 || math.IsNaN(vx+vy) {
+		return 0, 0, 0, false
+	}
+	est = mean(x) - mean(y)
+	se = math.Sqrt(vx + vy)
+	df = (vx + vy) * (vx + vy) / (vx*vx/(nx-1) + vy*vy/(ny-1))
+	return est, se, df, true
+}
