@@ -12,6 +12,10 @@ import (
 
 // hypothesis answers one declared hypothesis on the reported step.
 func hypothesis(p *plan.Plan, ep *plan.Endpoint, s *plan.Step, f *fitted, h *plan.Hypothesis, epAlpha float64) HypothesisResult {
+	if f.rankLike {
+		// Rank and Welch steps: pairwise two-sample tests (engine_rank_hyp.go).
+		return rankHypothesis(p, s, f, h, epAlpha)
+	}
 	alpha := h.Alpha
 	if alpha == 0 {
 		alpha = epAlpha
