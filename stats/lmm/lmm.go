@@ -303,8 +303,10 @@ func (s *system) deviance(e evalOut, sigma float64, crit Criterion) float64 {
 // minimize optimises the profiled criterion over theta. The criterion is an
 // even function of each theta, so the search is unconstrained and the
 // absolute values are returned: the bound theta >= 0 holds by symmetry.
-// A quasi-Newton run (gonum BFGS with central-difference gradients) is
-// followed by Newton steps on a Richardson-extrapolated Hessian.
+// A damped Newton search on central-difference derivatives (gonum's BFGS
+// as fallback) is followed by Newton steps on a Richardson-extrapolated
+// gradient. The status is Success when the final gradient is at the noise
+// floor of the criterion, IterationLimit or Failure otherwise.
 func minimize(f func([]float64) float64, k, maxIter int) ([]float64, optimize.Status, int, int, error) {
 	evals := 0
 	fc := func(x []float64) float64 { evals++; return f(x) }
