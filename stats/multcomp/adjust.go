@@ -12,10 +12,10 @@ type Method string
 // Adjustment methods.
 const (
 	None       Method = "none"
-	Bonferroni Method = "bonferroni" // family-wise error rate, any dependence
-	Holm       Method = "holm"       // step-down FWER; Holm (1979) Scand J Stat 6:65
-	Hochberg   Method = "hochberg"   // step-up FWER for independent or positively dependent tests; Hochberg (1988) Biometrika 75:800
-	BH         Method = "benjamini-hochberg"        // false discovery rate; Benjamini & Hochberg (1995) JRSS B 57:289
+	Bonferroni Method = "bonferroni"         // family-wise error rate, any dependence
+	Holm       Method = "holm"               // step-down FWER; Holm (1979) Scand J Stat 6:65
+	Hochberg   Method = "hochberg"           // step-up FWER for independent or positively dependent tests; Hochberg (1988) Biometrika 75:800
+	BH         Method = "benjamini-hochberg" // false discovery rate; Benjamini & Hochberg (1995) JRSS B 57:289
 )
 
 // Adjust returns multiplicity-adjusted p-values in the order of p, for m =

@@ -63,7 +63,7 @@ type refValues struct {
 		Sigma   float64
 	}
 	TukeyChickwts struct {
-		Comparison          []string
+		Comparison           []string
 		Diff, Lwr, Upr, PAdj []float64 `json:"-"`
 	} `json:"tukey_chickwts"`
 	DunnettChickwts struct {
