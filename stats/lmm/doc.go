@@ -52,8 +52,9 @@ package lmm
 //	crossed 50x200x3 (3e4 rows)    0.67-0.89 s (about 0.35 s CPU)
 //	crossed 50x1000x3 (1.5e5 rows) 7.8 s (about 3 s CPU)
 //
-// testdata/bench_ref.R (R 4.2.2, lme4 1.1-31, lmerTest 3.1-3, same machine,
-// same load, data of the same design from R's generator): repeated measures
+// testdata/bench_ref.R (R 4.2.2 with the reference mixed-model packages named
+// in that script, same machine, same load, data of the same design from R's
+// generator): repeated measures
 // 1e3 fit 0.18 s + Type III 0.017 s; 1e4 1.7 s + 0.12 s; 1e5 10.4 s + 1.0 s;
 // crossed 3e4 rows 4.0 s; 1.5e5 rows 19.3 s. Ratios under this load: about
 // 75x at 1e5 rows for the repeated-measures trial, 5x for the crossed 3e4

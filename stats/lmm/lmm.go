@@ -344,7 +344,7 @@ func minimize(f func([]float64) float64, k, maxIter int) ([]float64, optimize.St
 				status = optimize.GradientThreshold
 				break
 			}
-			H := hessianOnce(fc, x, fx, 1e-4)
+			H := hessianOnce(fc, x, fx, 1e-4, 1e-1)
 			step, ok := newtonStep(H, g)
 			if !ok {
 				break
@@ -399,7 +399,7 @@ func minimize(f func([]float64) float64, k, maxIter int) ([]float64, optimize.St
 		if floats.Norm(g, math.Inf(1)) <= 1e-9*math.Max(1, math.Abs(fx)) {
 			break
 		}
-		H := hessianOnce(fc, x, fx, 1e-3)
+		H := hessianOnce(fc, x, fx, 1e-3, 1e-1)
 		var ch mat.Cholesky
 		if !ch.Factorize(H) {
 			break
@@ -500,14 +500,15 @@ func newtonStep(H *mat.SymDense, g []float64) ([]float64, bool) {
 	return nil, false
 }
 
-// hessianOnce is the plain central-difference Hessian (no extrapolation).
-func hessianOnce(f func([]float64) float64, x []float64, fx, rel float64) *mat.SymDense {
+// hessianOnce is the plain central-difference Hessian (no extrapolation),
+// with steps rel*max(|x_i|, floor).
+func hessianOnce(f func([]float64) float64, x []float64, fx, rel, floor float64) *mat.SymDense {
 	k := len(x)
 	H := mat.NewSymDense(k, nil)
 	xx := make([]float64, k)
 	hs := make([]float64, k)
 	for i := range x {
-		hs[i] = rel * math.Max(math.Abs(x[i]), 1e-1)
+		hs[i] = rel * math.Max(math.Abs(x[i]), floor)
 	}
 	for i := 0; i < k; i++ {
 		copy(xx, x)
@@ -530,50 +531,6 @@ func hessianOnce(f func([]float64) float64, x []float64, fx, rel float64) *mat.S
 		}
 	}
 	return H
-}
-
-// hessian returns the Hessian of f at x by central differences with one
-// Richardson extrapolation (steps h and h/2, relative to |x_i|).
-func hessian(f func([]float64) float64, x []float64, fx, rel float64) *mat.SymDense {
-	k := len(x)
-	at := func(h float64) *mat.SymDense {
-		H := mat.NewSymDense(k, nil)
-		xx := make([]float64, k)
-		hs := make([]float64, k)
-		for i := range x {
-			hs[i] = h * math.Max(math.Abs(x[i]), 1e-2)
-		}
-		for i := 0; i < k; i++ {
-			copy(xx, x)
-			xx[i] = x[i] + hs[i]
-			fp := f(xx)
-			xx[i] = x[i] - hs[i]
-			fm := f(xx)
-			H.SetSym(i, i, (fp-2*fx+fm)/(hs[i]*hs[i]))
-			for j := 0; j < i; j++ {
-				copy(xx, x)
-				xx[i], xx[j] = x[i]+hs[i], x[j]+hs[j]
-				fpp := f(xx)
-				xx[j] = x[j] - hs[j]
-				fpm := f(xx)
-				xx[i] = x[i] - hs[i]
-				fmm := f(xx)
-				xx[j] = x[j] + hs[j]
-				fmp := f(xx)
-				H.SetSym(i, j, (fpp-fpm-fmp+fmm)/(4*hs[i]*hs[j]))
-			}
-		}
-		return H
-	}
-	h1 := at(rel)
-	h2 := at(rel / 2)
-	out := mat.NewSymDense(k, nil)
-	for i := 0; i < k; i++ {
-		for j := 0; j <= i; j++ {
-			out.SetSym(i, j, (4*h2.At(i, j)-h1.At(i, j))/3)
-		}
-	}
-	return out
 }
 
 // covBeta returns sigma^2 (Lxx Lxx')^{-1}.
