@@ -332,18 +332,26 @@ func transformLabel(tr plan.Transform) string {
 
 // scaleText writes the analysed quantity, e.g. "log(juveniles + 1)".
 func scaleText(response string, o plan.Outcome, tr plan.Transform) string {
-	v := response
+	// The transform is applied to each measured value before a change or
+	// baseline derivation (a change on the log scale is a log ratio), and
+	// after averaging for a unit mean: the text follows that order.
 	switch o.Derive {
 	case plan.DeriveChange:
-		v = fmt.Sprintf("(%s@%s - %s@%s)", response, o.To, response, o.From)
+		return fmt.Sprintf("%s - %s", transformed(response+"@"+o.To, tr), transformed(response+"@"+o.From, tr))
 	case plan.DeriveBaseline:
-		v = response + "@" + o.To
+		return fmt.Sprintf("%s, adjusted for %s", transformed(response+"@"+o.To, tr), transformed(response+"@"+o.From, tr))
 	case plan.DeriveUnitMean:
-		v = "mean(" + response + ")"
+		v := "mean(" + response + ")"
 		if o.At != "" {
 			v = "mean(" + response + "@" + o.At + ")"
 		}
+		return transformed(v, tr)
 	}
+	return transformed(response, tr)
+}
+
+// transformed writes the transform applied to the expression v.
+func transformed(v string, tr plan.Transform) string {
 	switch tr.Kind {
 	case plan.TransformNone, "":
 		return v

@@ -68,11 +68,31 @@ func BuildReport(r *Result) *Report {
 
 func endpointVerdict(e *EndpointResult) EndpointVerdict {
 	v := EndpointVerdict{Endpoint: e.ID, Primary: e.Primary, Reported: e.Reported}
+	var path []string
+	var accepted *StepResult
+	for i := range e.Steps {
+		if e.Steps[i].Executed {
+			path = append(path, e.Steps[i].ID)
+		}
+		if e.Steps[i].ID == e.Reported {
+			accepted = &e.Steps[i]
+		}
+	}
+	after := ""
+	if len(path) > 1 {
+		after = fmt.Sprintf(" after %d fallbacks (%s)", len(path)-1, strings.Join(path, " → "))
+		if len(path) == 2 {
+			after = fmt.Sprintf(" after 1 fallback (%s)", strings.Join(path, " → "))
+		}
+	}
 	switch e.Status {
 	case EndpointAccepted:
-		v.Status = fmt.Sprintf("step %s accepted: its assumption checks passed", e.Reported)
+		v.Status = fmt.Sprintf("step %s accepted%s: its assumption checks passed", e.Reported, after)
+		if accepted != nil && accepted.Decision.Reason == ReasonNoChecks {
+			v.Status = fmt.Sprintf("step %s accepted%s: it declares no assumption checks", e.Reported, after)
+		}
 	case EndpointAssumptionsUnmet:
-		v.Status = fmt.Sprintf("step %s reported as the last resort: its assumption checks failed, so its results must be read with that caution", e.Reported)
+		v.Status = fmt.Sprintf("step %s reported as the last resort%s: its assumption checks failed, so its results must be read with that caution", e.Reported, after)
 	default:
 		v.Status = "no step could be fitted; no results are reported"
 	}
@@ -93,8 +113,8 @@ func hypothesisAnswer(h *HypothesisResult) []string {
 		if float64(t.P) < float64(h.Alpha) {
 			word = "an effect is shown"
 		}
-		return []string{fmt.Sprintf("%s: term %s, F = %s on %s and %s df, p = %s: %s at alpha = %s.",
-			h.ID, t.Term, fmtNum(t.F), fmtNum(t.DF), fmtNum(t.DenDF), fmtP(t.P), word, fmtNum(h.Alpha))}
+		return []string{fmt.Sprintf("%s: term %s, F = %s on %s and %s df, %s: %s at alpha = %s.",
+			h.ID, t.Term, fmtNum(t.F), fmtNum(t.DF), fmtNum(t.DenDF), pEq(t.P), word, fmtNum(h.Alpha))}
 	}
 	var out []string
 	var rejected []string
@@ -138,16 +158,31 @@ const maxListedComparisons = 8
 // when no adjustment was computed.
 func pText(c *Comparison) string {
 	if math.IsNaN(float64(c.PAdjusted)) {
-		return "unadjusted p = " + fmtP(c.P)
+		return "unadjusted " + pEq(c.P)
 	}
-	return "adjusted p = " + fmtP(c.PAdjusted)
+	return "adjusted " + pEq(c.PAdjusted)
 }
 
 func intervalText(c *Comparison) string {
 	if c.Ratio != 0 && !math.IsNaN(float64(c.Ratio)) {
+		if math.IsNaN(float64(c.RatioLower)) {
+			return "ratio " + fmtNum(c.Ratio)
+		}
 		return fmt.Sprintf("ratio %s, CI %s to %s", fmtNum(c.Ratio), fmtNum(c.RatioLower), fmtNum(c.RatioUpper))
 	}
+	if math.IsNaN(float64(c.Lower)) {
+		return "difference " + fmtNum(c.Estimate)
+	}
 	return fmt.Sprintf("difference %s, CI %s to %s", fmtNum(c.Estimate), fmtNum(c.Lower), fmtNum(c.Upper))
+}
+
+// pEq writes "p = 0.0123" or "p < 0.0001".
+func pEq(n Num) string {
+	s := fmtP(n)
+	if strings.HasPrefix(s, "<") {
+		return "p " + s
+	}
+	return "p = " + s
 }
 
 func stepFigures(key string, e *EndpointResult, s *StepResult) ([]Figure, []string) {
@@ -161,22 +196,36 @@ func stepFigures(key string, e *EndpointResult, s *StepResult) ([]Figure, []stri
 		}
 		figs = append(figs, f)
 	}
+	// Rank tests have no model residuals; their figures show the analysed
+	// values only.
+	modelBased := s.Model.Kind == "linear" || s.Model.Kind == "mixed" || s.Model.Kind == "welch"
 	fitted, resid := floats(d.Fitted), floats(d.Residuals)
-	if len(resid) > 0 && len(fitted) == len(resid) {
+	if modelBased && len(resid) > 0 && len(fitted) == len(resid) {
 		add(ResidualsVersusFitted(key+"/residuals-fitted", fitted, resid))
 	}
-	if len(resid) >= 3 {
+	if modelBased && len(resid) >= 3 {
 		add(NormalQQ(key+"/qq", resid))
 		add(ResidualHistogram(key+"/histogram", resid))
 	}
 	vals := floats(d.Values)
 	if len(d.Groups) == len(vals) && len(vals) > 0 {
 		levels := uniqueInOrder(d.Groups)
+		if e.Observed != nil {
+			for _, f := range e.Observed.Factors {
+				if f.Name == s.Model.Compare || (s.Model.Compare == "" && f.Role == "treatment") {
+					levels = f.Levels
+				}
+			}
+		}
 		factor := s.Model.Compare
 		if factor == "" {
-			factor = "group"
+			factor = "treatment"
 		}
-		add(BoxPoints(key+"/box", factor, "analysed value", levels, d.Groups, vals))
+		scale := "analysed value"
+		if s.Results != nil && s.Results.Scale != "" {
+			scale = s.Results.Scale
+		}
+		add(BoxPoints(key+"/box", factor, scale, levels, d.Groups, vals))
 	}
 	if s.Results != nil && len(s.Results.MarginalMeans) > 0 {
 		mm := s.Results.MarginalMeans
@@ -214,7 +263,9 @@ func dataFigures(id string, od *ObservedData) ([]Figure, []string) {
 	}
 	var fs []factor
 	for _, f := range od.Factors {
-		if len(f.Values) != len(vals) {
+		// Blocks are usually labelled within sites, so a plot by block
+		// label mixes unrelated plots; treatment and factors come first.
+		if len(f.Values) != len(vals) || f.Role == "block" {
 			continue
 		}
 		levels := f.Levels
@@ -223,6 +274,13 @@ func dataFigures(id string, od *ObservedData) ([]Figure, []string) {
 		}
 		fs = append(fs, factor{f.Name, levels, f.Values})
 	}
+	// Treatment first, then other factors, then sites.
+	rank := map[string]int{"treatment": 0, "factor": 1, "site": 2}
+	roles := map[string]string{}
+	for _, f := range od.Factors {
+		roles[f.Name] = f.Role
+	}
+	sort.SliceStable(fs, func(i, j int) bool { return rank[roles[fs[i].name]] < rank[roles[fs[j].name]] })
 	for _, f := range fs {
 		if od.Repeat != "" && len(od.RepeatValues) == len(vals) && len(od.RepeatLevels) > 0 {
 			// One box per level and time would hide the change; draw the
