@@ -1,0 +1,460 @@
+package checker
+
+import (
+	"encoding/json"
+	"fmt"
+	"math"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+	"time"
+)
+
+// rankRef holds the values of testdata/rank/ref.json, produced by
+// testdata/rank/ref.R with R 4.2.2 (stats) and car 3.1-1; the van Elteren
+// values are computed there from the published formulas.
+type rankRef struct {
+	Kruskal  struct{ H, DF, P float64 }
+	Welch    struct{ F, DF1, DF2, P float64 }
+	Friedman struct {
+		Stat, DF, P float64
+	}
+	SignedOne    struct{ V, P float64 }     `json:"signed_one"`
+	SignedPaired struct{ V, P float64 }     `json:"signed_paired"`
+	VanEltK      struct{ Q, DF, P float64 } `json:"vanelteren_k"`
+	WelchShapiro struct{ W, P float64 }     `json:"welch_shapiro"`
+	WelchLevene  struct{ F, P float64 }     `json:"welch_levene"`
+	KruskalSW    struct{ W, P float64 }     `json:"kruskal_shapiro"`
+	KruskalBF    struct{ F, P float64 }     `json:"kruskal_bf"`
+	VsRankSum    struct {
+		P, PHolm, Estimate []float64
+	} `json:"vs_control_ranksum"`
+	VsVanElt struct {
+		P, PHolm, Estimate []float64
+	} `json:"vs_control_vanelteren"`
+	WelchPairwise struct {
+		Label                         []string
+		T, DF, P, Lower, Upper, PHolm []float64
+	} `json:"welch_pairwise"`
+	WelchTOST struct {
+		PLower, PUpper, Lower, Upper float64
+	} `json:"welch_tost"`
+	RankSum2 struct{ U, P float64 } `json:"ranksum2"`
+	VanElt2  struct{ Z, P float64 } `json:"vanelteren2"`
+	Example  struct {
+		N                        int
+		Q, DF, P                 float64
+		VsP, VsPHolm, VsEstimate []float64
+	}
+}
+
+func (r *rankRef) UnmarshalJSON(b []byte) error {
+	// Map the snake_case keys of ref.json (p_holm, p_lower, ...) onto the
+	// Go field names.
+	type plain rankRef
+	s := strings.NewReplacer(`"p_holm"`, `"PHolm"`, `"p_lower"`, `"PLower"`, `"p_upper"`, `"PUpper"`,
+		`"vs_p_holm"`, `"VsPHolm"`, `"vs_p"`, `"VsP"`, `"vs_estimate"`, `"VsEstimate"`).Replace(string(b))
+	return json.Unmarshal([]byte(s), (*plain)(r))
+}
+
+func loadRankRef(t *testing.T) *rankRef {
+	t.Helper()
+	b, err := os.ReadFile(filepath.Join("testdata", "rank", "ref.json"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	var r rankRef
+	if err := json.Unmarshal(b, &r); err != nil {
+		t.Fatal(err)
+	}
+	return &r
+}
+
+// rankPlan is the plan of the invented trial in testdata/rank/plots.csv;
+// %s are the treatment levels, the steps and the hypotheses.
+const rankPlan = `furrow: 1
+trial:
+  id: T-RANK
+  title: rank and welch steps (invented)
+  version: "1.0"
+  amendments: []
+data:
+  file: plots.csv
+  format: csv
+columns:
+  - name: site
+    role: site
+    levels: [S1, S2, S3]
+  - name: block
+    role: block
+  - name: plot
+    role: unit
+  - name: treatment
+    role: treatment
+    levels: [%s]
+    control: control
+  - name: time
+    role: repeat
+    levels: [before, harvest]
+  - name: juveniles
+    role: response
+    min: 0
+    max: 100000
+design:
+  layout: multi-site
+  replicates: 4
+endpoints:
+  - id: density
+    response: juveniles
+    primary: true
+    steps:
+%s
+    hypotheses:
+%s
+`
+
+const changeLog = `        outcome: {derive: change, from: before, to: harvest}
+        transform: {kind: log-offset, offset: 1}
+`
+
+// rankRun writes the plan and data into a fresh folder, registers the
+// plan and runs it. twoLevels keeps the control and a only.
+func rankRun(t *testing.T, twoLevels bool, steps, hyps string) (*Result, string) {
+	t.Helper()
+	dir := t.TempDir()
+	b, err := os.ReadFile(filepath.Join("testdata", "rank", "plots.csv"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	levels := "control, a, b"
+	data := string(b)
+	if twoLevels {
+		levels = "control, a"
+		var keep []string
+		for _, l := range strings.Split(strings.TrimSpace(data), "\n") {
+			if !strings.Contains(l, ",b,") {
+				keep = append(keep, l)
+			}
+		}
+		data = strings.Join(keep, "\n") + "\n"
+	}
+	if hyps == "" {
+		hyps = "      []"
+	}
+	write(t, filepath.Join(dir, "plots.csv"), data)
+	pp := filepath.Join(dir, "plan.yaml")
+	write(t, pp, fmt.Sprintf(rankPlan, levels, steps, hyps))
+	register(t, pp, t0)
+	return run(t, pp, filepath.Join(dir, "out"), t0.Add(time.Hour)), pp
+}
+
+// acceptedStep returns the last step of the first endpoint, failing
+// unless it was accepted.
+func acceptedStep(t *testing.T, r *Result) (*EndpointResult, *StepResult) {
+	t.Helper()
+	ep := &r.Endpoints[0]
+	s := &ep.Steps[len(ep.Steps)-1]
+	if s.Error != "" || s.Decision.Action != ActionAccept || s.Results == nil || s.Results.Test == nil {
+		t.Fatalf("step %s: error %q decision %+v", s.ID, s.Error, s.Decision)
+	}
+	return ep, s
+}
+
+func near(t *testing.T, what string, got Num, want, tol float64) {
+	t.Helper()
+	if !closeTo(float64(got), want, tol) {
+		t.Errorf("%s = %.12g, want %.12g (tol %g)", what, float64(got), want, tol)
+	}
+}
+
+const tolRef = 1e-9
+
+// failingLinear is a first step that always falls back to the step
+// "only" (a threshold these residuals do not reach), so that the endpoint has a
+// linear step for its term hypothesis.
+const failingLinear = `      - id: lin
+        model: linear
+` + changeLog + `        fixed: [site, treatment]
+        checks:
+          - test: shapiro-wilk
+            fail-below: 0.99999
+        on-fail: only
+`
+
+func TestRankStepsAgainstR(t *testing.T) {
+	ref := loadRankRef(t)
+	for _, c := range []struct {
+		name     string
+		two      bool
+		step     string
+		stat, p  float64
+		df       []float64
+		method   string
+		statName string
+	}{
+		// R 4.2.2 kruskal.test
+		{"kruskal", false, "model: kruskal-wallis\n" + changeLog + "        compare: treatment\n", ref.Kruskal.H, ref.Kruskal.P, []float64{2}, "kruskal-wallis", "H"},
+		// R 4.2.2 oneway.test(var.equal = FALSE)
+		{"welch", false, "model: welch\n" + changeLog + "        compare: treatment\n", ref.Welch.F, ref.Welch.P, []float64{ref.Welch.DF1, ref.Welch.DF2}, "welch", "F"},
+		// R 4.2.2 friedman.test(change, treatment, block)
+		{"friedman", false, "model: friedman\n" + changeLog + "        compare: treatment\n        within: block\n", ref.Friedman.Stat, ref.Friedman.P, []float64{2}, "friedman", "chi-squared"},
+		// R 4.2.2 wilcox.test(change): zero dropped, normal with continuity correction
+		{"signed-rank one sample", false, "model: signed-rank\n" + changeLog, ref.SignedOne.V, ref.SignedOne.P, nil, "signed-rank", "V"},
+		// R 4.2.2 wilcox.test(log(before+1), log(harvest+1), paired = TRUE)
+		{"signed-rank paired", false, "model: signed-rank\n        outcome: {derive: raw}\n        transform: {kind: log-offset, offset: 1}\n        compare: time\n        within: plot\n",
+			ref.SignedPaired.V, ref.SignedPaired.P, nil, "signed-rank", "V"},
+		// van Elteren k-sample from the Landis, Heyman & Koch (1978) formula, ref.R
+		{"van elteren k", false, "model: van-elteren\n" + changeLog + "        compare: treatment\n        within: site\n", ref.VanEltK.Q, ref.VanEltK.P, []float64{2}, "van-elteren", "Q"},
+		// R 4.2.2 wilcox.test(control, a): W is the U of control
+		{"rank-sum", true, "model: rank-sum\n" + changeLog + "        compare: treatment\n", ref.RankSum2.U, ref.RankSum2.P, nil, "rank-sum", "U"},
+		// van Elteren (1960) two-sample Z from the published formula, ref.R
+		{"van elteren two", true, "model: van-elteren\n" + changeLog + "        compare: treatment\n        within: site\n", ref.VanElt2.Z, ref.VanElt2.P, nil, "van-elteren", "Z"},
+	} {
+		t.Run(c.name, func(t *testing.T) {
+			r, _ := rankRun(t, c.two, "      - id: only\n        "+c.step, "")
+			_, s := acceptedStep(t, r)
+			g := s.Results.Test
+			near(t, c.statName, g.Statistic, c.stat, tolRef)
+			near(t, "p", g.P, c.p, tolRef)
+			if len(g.DF) != len(c.df) {
+				t.Fatalf("df %v, want %v", g.DF, c.df)
+			}
+			for i := range c.df {
+				near(t, "df", g.DF[i], c.df[i], tolRef)
+			}
+			if s.Fit.Method != c.method {
+				t.Errorf("fit method %q, want %q", s.Fit.Method, c.method)
+			}
+			if s.N != 36 && !c.two && c.name != "signed-rank paired" {
+				t.Errorf("n = %d, want 36 plots", s.N)
+			}
+			if len(s.Results.GroupSummaries) == 0 || s.Figures == nil || len(s.Figures.Residuals) != s.N {
+				t.Errorf("group summaries %d, residuals %d for n %d", len(s.Results.GroupSummaries), len(s.Figures.Residuals), s.N)
+			}
+		})
+	}
+}
+
+// Checks on a Welch step run on the deviations from the treatment means,
+// on a Kruskal-Wallis step on the deviations from the treatment medians
+// (R 4.2.2 shapiro.test; car 3.1-1 leveneTest with center = mean and
+// center = median).
+func TestRankStepChecks(t *testing.T) {
+	ref := loadRankRef(t)
+	checks := "        checks:\n          - test: shapiro-wilk\n            fail-below: 0.01\n          - test: %s\n            fail-below: 0.01\n"
+	r, _ := rankRun(t, false, "      - id: w\n        model: welch\n"+changeLog+"        compare: treatment\n"+fmt.Sprintf(checks, "levene"), "")
+	_, s := acceptedStep(t, r)
+	near(t, "welch shapiro W", s.Checks[0].Statistic, ref.WelchShapiro.W, 1e-6)
+	near(t, "welch shapiro p", s.Checks[0].P, ref.WelchShapiro.P, 1e-5)
+	near(t, "welch levene F", s.Checks[1].Statistic, ref.WelchLevene.F, tolRef)
+	near(t, "welch levene p", s.Checks[1].P, ref.WelchLevene.P, tolRef)
+	if s.Checks[1].Verdict != VerdictPass || s.Checks[1].N != 36 {
+		t.Errorf("levene %+v", s.Checks[1])
+	}
+	r, _ = rankRun(t, false, "      - id: k\n        model: kruskal-wallis\n"+changeLog+"        compare: treatment\n"+fmt.Sprintf(checks, "brown-forsythe"), "")
+	_, s = acceptedStep(t, r)
+	near(t, "kruskal shapiro W", s.Checks[0].Statistic, ref.KruskalSW.W, 1e-6)
+	near(t, "kruskal shapiro p", s.Checks[0].P, ref.KruskalSW.P, 1e-5)
+	near(t, "kruskal brown-forsythe F", s.Checks[1].Statistic, ref.KruskalBF.F, tolRef)
+	near(t, "kruskal brown-forsythe p", s.Checks[1].P, ref.KruskalBF.P, tolRef)
+}
+
+func TestRankStepHypotheses(t *testing.T) {
+	ref := loadRankRef(t)
+	hyps := `      - id: vs
+        kind: versus-control
+        sides: less
+        adjust: dunnett
+      - id: ni
+        kind: non-inferiority
+        test: b
+        against: a
+        margin: {scale: ratio, upper: 1.25}
+        better: lower
+      - id: term
+        kind: term
+        term: [treatment]
+`
+	for _, c := range []struct {
+		name, step string
+		want       struct{ P, PHolm, Estimate []float64 }
+	}{
+		// R 4.2.2 wilcox.test(x, control, alternative = "less"), p.adjust holm
+		{"kruskal", "model: kruskal-wallis\n" + changeLog + "        compare: treatment\n", ref.VsRankSum},
+		// van Elteren (1960) two-sample, alternative less, from ref.R; p.adjust holm
+		{"van elteren", "model: van-elteren\n" + changeLog + "        compare: treatment\n        within: site\n", ref.VsVanElt},
+	} {
+		t.Run(c.name, func(t *testing.T) {
+			r, _ := rankRun(t, false, failingLinear+"      - id: only\n        "+c.step, hyps)
+			ep, _ := acceptedStep(t, r)
+			h := ep.Hypotheses[0]
+			if !h.Assessable || h.Adjust != "dunnett" || h.AdjustUsed != "holm" || !strings.Contains(h.Note, "holm") {
+				t.Fatalf("versus-control %+v", h)
+			}
+			if len(h.Comparisons) != 2 {
+				t.Fatalf("comparisons %+v", h.Comparisons)
+			}
+			for i, cm := range h.Comparisons {
+				near(t, cm.Label+" p", cm.P, c.want.P[i], tolRef)
+				near(t, cm.Label+" holm", cm.PAdjusted, c.want.PHolm[i], tolRef)
+				near(t, cm.Label+" median difference", cm.Estimate, c.want.Estimate[i], 1e-12)
+				near(t, cm.Label+" ratio", cm.Ratio, math.Exp(c.want.Estimate[i]), 1e-12)
+				if !math.IsNaN(float64(cm.Lower)) || !math.IsNaN(float64(cm.SE)) || !cm.Reject {
+					t.Errorf("%s: lower %v se %v reject %v", cm.Label, cm.Lower, cm.SE, cm.Reject)
+				}
+			}
+			if ep.Hypotheses[0].Comparisons[0].Label != "a - control" {
+				t.Errorf("label %q", ep.Hypotheses[0].Comparisons[0].Label)
+			}
+			for _, h := range ep.Hypotheses[1:] {
+				if h.Assessable || h.Note == "" || len(h.Comparisons) != 0 {
+					t.Errorf("%s should not be assessable on a rank step: %+v", h.ID, h)
+				}
+			}
+		})
+	}
+}
+
+func TestWelchStepHypotheses(t *testing.T) {
+	ref := loadRankRef(t)
+	hyps := `      - id: all-pairs
+        kind: pairwise
+        adjust: tukey
+      - id: eq
+        kind: equivalence
+        test: b
+        against: a
+        margin: {scale: ratio, lower: 0.5, upper: 2}
+        alpha: 0.05
+      - id: term
+        kind: term
+        term: [treatment]
+`
+	r, _ := rankRun(t, false, failingLinear+"      - id: only\n        model: welch\n"+changeLog+"        compare: treatment\n", hyps)
+	ep, _ := acceptedStep(t, r)
+	h := ep.Hypotheses[0]
+	if !h.Assessable || h.AdjustUsed != "holm" || len(h.Comparisons) != 3 {
+		t.Fatalf("pairwise %+v", h)
+	}
+	w := ref.WelchPairwise
+	for i, cm := range h.Comparisons {
+		// R 4.2.2 t.test(var.equal = FALSE), p.adjust holm
+		if cm.Label != w.Label[i] {
+			t.Fatalf("comparison %d is %q, want %q", i, cm.Label, w.Label[i])
+		}
+		near(t, cm.Label+" t", cm.Statistic, w.T[i], tolRef)
+		near(t, cm.Label+" df", cm.DF, w.DF[i], tolRef)
+		near(t, cm.Label+" p", cm.P, w.P[i], 1e-8)
+		near(t, cm.Label+" lower", cm.Lower, w.Lower[i], 1e-8)
+		near(t, cm.Label+" upper", cm.Upper, w.Upper[i], 1e-8)
+		near(t, cm.Label+" holm", cm.PAdjusted, w.PHolm[i], 1e-8)
+	}
+	eq := ep.Hypotheses[1]
+	if !eq.Assessable || len(eq.Comparisons) != 1 || eq.Comparisons[0].Equivalence == nil {
+		t.Fatalf("equivalence %+v", eq)
+	}
+	e := eq.Comparisons[0]
+	// R 4.2.2 t.test(b, a, mu = log(0.5), alternative = "greater") and
+	// mu = log(2), alternative = "less"; 90% interval.
+	near(t, "tost p lower", e.Equivalence.PLower, ref.WelchTOST.PLower, 1e-8)
+	near(t, "tost p upper", e.Equivalence.PUpper, ref.WelchTOST.PUpper, 1e-8)
+	near(t, "tost lower", e.Lower, ref.WelchTOST.Lower, 1e-8)
+	near(t, "tost upper", e.Upper, ref.WelchTOST.Upper, 1e-8)
+	if e.Equivalence.Verdict != "equivalent" {
+		t.Errorf("verdict %q, want equivalent (both p < 0.05)", e.Equivalence.Verdict)
+	}
+	if ep.Hypotheses[2].Assessable {
+		t.Errorf("term hypothesis assessable on a welch step")
+	}
+	mm := ep.Steps[1].Results.MarginalMeans
+	if len(mm) != 3 || mm[0].Level != "control" || !closeTo(float64(mm[0].Response), math.Exp(float64(mm[0].Estimate)), 1e-12) {
+		t.Errorf("marginal means %+v", mm)
+	}
+}
+
+// A record with a rank step validates against the published schema and
+// verifies clean when re-run.
+func TestRankRecordVerifies(t *testing.T) {
+	_, pp := rankRun(t, false, "      - id: ve\n        model: van-elteren\n"+changeLog+"        compare: treatment\n        within: site\n",
+		"      - id: vs\n        kind: versus-control\n        adjust: holm\n")
+	out := filepath.Join(filepath.Dir(pp), "rec")
+	writeRun(t, pp, out, t0.Add(2*time.Hour), nil)
+	rep, err := Verify(VerifyOptions{Dir: out, Tool: ToolInfo{Version: "test"}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !rep.OK() {
+		t.Fatalf("deviations: %+v", rep.Deviations)
+	}
+}
+
+// Data problems are step errors, not panics: a friedman step whose
+// blocks hold two values per treatment, a rank-sum over three levels.
+func TestRankStepErrors(t *testing.T) {
+	r, _ := rankRun(t, false, "      - id: f\n        model: friedman\n"+changeLog+"        compare: treatment\n        within: site\n", "")
+	s := r.Endpoints[0].Steps[0]
+	if s.Decision.Reason != ReasonLastResortFitFailed || !strings.Contains(s.Error, "more than one value") {
+		t.Errorf("friedman within site: %q %+v", s.Error, s.Decision)
+	}
+}
+
+// The soil-nematodes example end to end: mixed model on log counts fails
+// Shapiro-Wilk, the change score fails too, the van Elteren step within
+// sites is accepted with the three-treatment statistic, and the
+// versus-untreated hypothesis is answered with holm. Reference values:
+// testdata/rank/ref.R (R 4.2.2; van Elteren from the published formulas).
+func TestSoilNematodesExample(t *testing.T) {
+	ref := loadRankRef(t)
+	dir := t.TempDir()
+	for _, f := range []string{"plan.yaml", "plots.csv"} {
+		b, err := os.ReadFile(filepath.Join("..", "examples", "soil-nematodes", f))
+		if err != nil {
+			t.Fatal(err)
+		}
+		write(t, filepath.Join(dir, f), string(b))
+	}
+	r, err := Run(RunOptions{PlanPath: filepath.Join(dir, "plan.yaml"), OutDir: filepath.Join(dir, "out"), Now: t0,
+		Tool: ToolInfo{Name: "furrow", Version: "test"}, Unregistered: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	ep := r.Endpoints[0]
+	if ep.Status != EndpointAccepted || ep.Reported != "ranks-within-site" {
+		t.Fatalf("status %s reported %q", ep.Status, ep.Reported)
+	}
+	mixed, change, ranks := ep.Steps[0], ep.Steps[1], ep.Steps[2]
+	if mixed.Error != "" || mixed.Decision.Action != ActionFallBack || mixed.Decision.Reason != ReasonCheckFailed || mixed.Decision.Next != "change-log" {
+		t.Errorf("mixed-log: %q %+v", mixed.Error, mixed.Decision)
+	}
+	if mixed.Checks[0].Test != "shapiro-wilk" || mixed.Checks[0].Verdict != VerdictFail {
+		t.Errorf("mixed-log should fail shapiro-wilk: %+v", mixed.Checks[0])
+	}
+	if change.Decision.Reason != ReasonCheckFailed || change.Decision.Next != "ranks-within-site" || change.Checks[0].Verdict != VerdictFail {
+		t.Errorf("change-log: %+v %+v", change.Decision, change.Checks)
+	}
+	if ranks.Decision.Action != ActionAccept || ranks.Decision.Reason != ReasonNoChecks || ranks.N != ref.Example.N {
+		t.Fatalf("ranks-within-site: n %d %+v", ranks.N, ranks.Decision)
+	}
+	g := ranks.Results.Test
+	near(t, "example van elteren Q", g.Statistic, ref.Example.Q, tolRef)
+	near(t, "example van elteren p", g.P, ref.Example.P, tolRef)
+	if len(g.DF) != 1 || g.DF[0] != 2 || !strings.Contains(g.Method, "3 levels") {
+		t.Errorf("global test %+v", g)
+	}
+	h := ep.Hypotheses[0]
+	if h.ID != "versus-untreated" || h.Adjust != "dunnett" || h.AdjustUsed != "holm" || h.Sides != "less" || len(h.Comparisons) != 2 {
+		t.Fatalf("versus-untreated %+v", h)
+	}
+	for i, c := range h.Comparisons {
+		near(t, c.Label+" p", c.P, ref.Example.VsP[i], tolRef)
+		near(t, c.Label+" holm", c.PAdjusted, ref.Example.VsPHolm[i], tolRef)
+		near(t, c.Label+" median difference", c.Estimate, ref.Example.VsEstimate[i], 1e-12)
+		if !c.Reject {
+			t.Errorf("%s not rejected at p %v", c.Label, c.PAdjusted)
+		}
+	}
+	if ni := ep.Hypotheses[1]; ni.Assessable || !strings.Contains(ni.Note, "not assessable") {
+		t.Errorf("non-inferiority on the rank step: %+v", ni)
+	}
+}
