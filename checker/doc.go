@@ -66,6 +66,42 @@
 // across the trial: a unit that appears with two sites is reported, not
 // taken as two units.
 //
+// # Rank and Welch steps
+//
+// Steps of kind kruskal-wallis, friedman (blocks: within), signed-rank,
+// rank-sum, van-elteren (strata: within) and welch run the stats/rank test
+// on the derived outcome. The step's results carry the global test
+// (method, statistic, df, p) and, per level of the compared factor, n,
+// mean, median and SD; Welch steps add the level means with t intervals.
+// A signed-rank step without compare tests the per-unit outcome (H0:
+// median 0); with compare and within it tests the paired differences,
+// first declared level minus second. A van-elteren step with two levels
+// gives van Elteren's Z, with more the k-sample statistic; Friedman and
+// paired signed-rank steps leave out blocks that lack a level (the method
+// text counts them) and refuse a block with two values at one level.
+//
+// There is no model, so checks declared on such a step run on
+// deviations that centre the analysed values: from the level means
+// (welch, the residuals of the cell-means model), from the level medians
+// (kruskal-wallis, rank-sum), from the level medians within each stratum
+// (van-elteren), after one median-polish sweep over blocks and levels
+// (friedman, paired signed-rank), or from the median difference
+// (one-sample signed-rank).
+//
+// Hypotheses on a rank or Welch step are answered by separate two-sample
+// tests with the declared sides: Welch t tests (Welch-Satterthwaite df) on
+// a Welch step; van Elteren's stratified test within the step's within on
+// van-elteren and friedman steps; the signed-rank test of the paired
+// differences on a paired signed-rank step; the rank-sum test otherwise.
+// Rank comparisons report the difference of medians (the median paired
+// difference) with no standard error or interval. Adjustments bonferroni,
+// holm, hochberg and benjamini-hochberg apply as declared; a declared
+// dunnett or tukey, which rests on the joint distribution of a model's
+// contrasts, is replaced by holm (AdjustUsed and Note say so).
+// Equivalence and non-inferiority are two one-sided tests with the Welch
+// df on a Welch step and not assessable on a rank step; term hypotheses
+// are not assessable on either.
+//
 // # Content hash
 //
 // [Table.ContentHash] is "sha256:" followed by the lower-case hex SHA-256

@@ -33,6 +33,9 @@ type rankRef struct {
 	VsVanElt struct {
 		P, PHolm, Estimate []float64
 	} `json:"vs_control_vanelteren"`
+	VsFriedman struct {
+		P, PBonferroni []float64
+	} `json:"vs_control_friedman"`
 	WelchPairwise struct {
 		Label                         []string
 		T, DF, P, Lower, Upper, PHolm []float64
@@ -53,7 +56,7 @@ func (r *rankRef) UnmarshalJSON(b []byte) error {
 	// Map the snake_case keys of ref.json (p_holm, p_lower, ...) onto the
 	// Go field names.
 	type plain rankRef
-	s := strings.NewReplacer(`"p_holm"`, `"PHolm"`, `"p_lower"`, `"PLower"`, `"p_upper"`, `"PUpper"`,
+	s := strings.NewReplacer(`"p_holm"`, `"PHolm"`, `"p_bonferroni"`, `"PBonferroni"`, `"p_lower"`, `"PLower"`, `"p_upper"`, `"PUpper"`,
 		`"vs_p_holm"`, `"VsPHolm"`, `"vs_p"`, `"VsP"`, `"vs_estimate"`, `"VsEstimate"`).Replace(string(b))
 	return json.Unmarshal([]byte(s), (*plain)(r))
 }
@@ -313,6 +316,24 @@ func TestRankStepHypotheses(t *testing.T) {
 				}
 			}
 		})
+	}
+}
+
+// On a Friedman step the comparisons are van Elteren's two-sample test
+// with the blocks as strata (ref.R, from the published formula), adjusted
+// as declared (R 4.2.2 p.adjust bonferroni).
+func TestFriedmanStepHypotheses(t *testing.T) {
+	ref := loadRankRef(t)
+	r, _ := rankRun(t, false, "      - id: only\n        model: friedman\n"+changeLog+"        compare: treatment\n        within: block\n",
+		"      - id: vs\n        kind: versus-control\n        adjust: bonferroni\n")
+	ep, _ := acceptedStep(t, r)
+	h := ep.Hypotheses[0]
+	if !h.Assessable || h.AdjustUsed != "bonferroni" || h.Note != "" || len(h.Comparisons) != 2 {
+		t.Fatalf("versus-control %+v", h)
+	}
+	for i, c := range h.Comparisons {
+		near(t, c.Label+" p", c.P, ref.VsFriedman.P[i], tolRef)
+		near(t, c.Label+" bonferroni", c.PAdjusted, ref.VsFriedman.PBonferroni[i], tolRef)
 	}
 }
 

@@ -123,6 +123,12 @@ for (l in c("a", "b")) {
   pv <- c(pv, vanElteren2(x, z, w$site[g == l], w$site[g == "control"], "less")$p)
   est <- c(est, median(x) - median(z))
 }
+# Versus control on the Friedman step: van Elteren within blocks, two-sided, bonferroni.
+pf <- c()
+for (l in c("a", "b")) {
+  pf <- c(pf, vanElteren2(y[g == l], y[g == "control"], w$block[g == l], w$block[g == "control"])$p)
+}
+ref$vs_control_friedman <- list(p = pf, p_bonferroni = p.adjust(pf, "bonferroni"))
 ref$vs_control_ranksum <- list(p = pr, p_holm = p.adjust(pr, "holm"), estimate = est)
 ref$vs_control_vanelteren <- list(p = pv, p_holm = p.adjust(pv, "holm"), estimate = est)
 
