@@ -105,7 +105,10 @@ func endpointVerdict(e *EndpointResult) EndpointVerdict {
 // hypothesisAnswer states each comparison of a hypothesis in plain words.
 func hypothesisAnswer(h *HypothesisResult) []string {
 	if !h.Assessable {
-		return []string{fmt.Sprintf("%s: not assessable on step %s (%s).", h.ID, h.Step, h.Note)}
+		if h.Note == "" {
+			return []string{fmt.Sprintf("%s: not assessable on step %s.", h.ID, h.Step)}
+		}
+		return []string{fmt.Sprintf("%s: not assessable: %s.", h.ID, strings.TrimSuffix(h.Note, "."))}
 	}
 	if h.TermTest != nil {
 		t := h.TermTest
@@ -397,6 +400,13 @@ var reportFuncs = template.FuncMap{
 		return "v-" + v.String()
 	},
 	"inc": func(i int) int { return i + 1 },
+	"peq": pEq,
+	"ci": func(lo, hi Num) string {
+		if math.IsNaN(float64(lo)) && math.IsNaN(float64(hi)) {
+			return "-"
+		}
+		return fmtNum(lo) + " to " + fmtNum(hi)
+	},
 }
 
 var reportTemplate = template.Must(template.New("report").Funcs(reportFuncs).Parse(reportHTMLTmpl))
@@ -466,7 +476,7 @@ func (rep *Report) Markdown() []byte {
 					id, model, n = "`"+s.ID+"`", mdCell(s.Model.Text), strconv.Itoa(s.N)
 				}
 				d := ""
-				if i == len(s.Checks)-1 {
+				if i == 0 {
 					d = dec
 				}
 				w("| %s | %s | %s | %s | %s | %s | %s | %s | %s | %s |\n", id, model, n, c.Test, fmtNum(c.Statistic), fmtP(c.P), fmtNum(c.FailBelow), c.Verdict, d, c.Pos)
