@@ -329,11 +329,12 @@ func BoxPoints(id, factor, response string, levels []string, group []string, val
 		b.MedianStyle.Color = accentColor
 		b.MedianStyle.Width = vg.Points(1.5)
 		p.Add(b)
-		xs := make([]float64, len(v))
+		pts := thinValues(v, len(values))
+		xs := make([]float64, len(pts))
 		for k := range xs {
 			xs[k] = float64(i) + 0.3 + 0.12*(float64(k%7)/6-0.5)
 		}
-		s, err := scatter(xs, v, pointColor, vg.Points(1.6))
+		s, err := scatter(xs, pts, pointColor, vg.Points(1.6))
 		if err != nil {
 			return Figure{}, err
 		}
@@ -345,8 +346,12 @@ func BoxPoints(id, factor, response string, levels []string, group []string, val
 		data.Upper = append(data.Upper, b.Quartile3)
 	}
 	nominalX(p, levels)
+	note := ""
+	if len(values) > MaxFigurePoints {
+		note = fmt.Sprintf("Boxes use all %d values; the points beside them are a systematic sample of about %d, smallest and largest of each group included.", len(values), MaxFigurePoints)
+	}
 	svg, err := render(p, figWidth, figHeight)
-	return Figure{ID: id, Title: response + " by " + factor,
+	return Figure{ID: id, Title: response + " by " + factor, Note: note,
 		Caption: "Boxes span the quartiles with the median marked; whiskers reach the most extreme value within 1.5 times the interquartile range; every observation is drawn beside its box.",
 		SVG:     svg, Data: data}, err
 }
@@ -502,6 +507,25 @@ func MeansWithCI(id, title, scale string, labels []string, est, lower, upper []f
 	return Figure{ID: id, Title: title,
 		Caption: "Estimated marginal means with their confidence intervals, on the " + scale + ".",
 		SVG:     svg, Data: PlotData{X: xs, Y: est, Lower: lower, Upper: upper, Labels: labels}}, err
+}
+
+// thinValues returns the group's values to draw as points: all of them
+// when the figure has at most MaxFigurePoints values in all, otherwise a
+// systematic sample of the sorted values in proportion to the group's size,
+// the smallest and largest always included.
+func thinValues(v []float64, total int) []float64 {
+	if total <= MaxFigurePoints || len(v) <= 2 {
+		return v
+	}
+	keep := max(2, len(v)*MaxFigurePoints/total)
+	sorted := slices.Clone(v)
+	slices.Sort(sorted)
+	out := make([]float64, 0, keep)
+	step := float64(len(sorted)-1) / float64(keep-1)
+	for j := 0; j < keep; j++ {
+		out = append(out, sorted[int(math.Round(float64(j)*step))])
+	}
+	return out
 }
 
 func glyphFor(i int) draw.GlyphDrawer {

@@ -2,6 +2,7 @@ package checker
 
 import (
 	"math"
+	"strconv"
 	"strings"
 	"testing"
 )
@@ -121,4 +122,40 @@ func TestFormatting(t *testing.T) {
 			}
 		}
 	}
+}
+
+// The report of a 10,000-row trial must stay small enough to open and
+// print comfortably: figures thin their points above MaxFigurePoints.
+func TestReportSizeAt10000Rows(t *testing.T) {
+	const n = 10000
+	r := syntheticResult()
+	e := &r.Endpoints[0]
+	fd := &DiagnosticData{}
+	od := &ObservedData{Response: "y", Repeat: "time", RepeatLevels: []string{"t0", "t1"}}
+	grp := ObservedFactor{Name: "g", Role: "treatment", Levels: []string{"a", "b", "c"}}
+	for i := 0; i < n; i++ {
+		x := float64(i)
+		fd.Fitted = append(fd.Fitted, Num(math.Sin(x)))
+		fd.Residuals = append(fd.Residuals, Num(math.Cos(x*1.3)))
+		fd.Values = append(fd.Values, Num(x))
+		fd.Groups = append(fd.Groups, grp.Levels[i%3])
+		od.Values = append(od.Values, Num(x))
+		grp.Values = append(grp.Values, grp.Levels[i%3])
+		od.Unit = append(od.Unit, "u"+strconv.Itoa(i/2))
+		od.RepeatValues = append(od.RepeatValues, od.RepeatLevels[i%2])
+	}
+	od.Factors = []ObservedFactor{grp}
+	e.Steps[0].Figures = fd
+	e.Observed = od
+	page, err := BuildReport(r).HTML()
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(page) > 3<<20 {
+		t.Errorf("report of %d rows is %d bytes, want under 3 MiB", n, len(page))
+	}
+	if !strings.Contains(string(page), "systematic sample") {
+		t.Errorf("thinned figures do not say so")
+	}
+	t.Logf("report of %d rows: %d bytes", n, len(page))
 }
