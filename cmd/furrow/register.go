@@ -3,6 +3,7 @@ package main
 import (
 	"errors"
 	"fmt"
+	iofs "io/fs"
 	"os"
 	"strconv"
 	"time"
@@ -20,7 +21,8 @@ changed since its last registration, a new entry is appended: the plan must
 carry a new trial.version and an amendment for that version (date and
 reason), and the entry records the previous entry's hash, so history cannot
 be rewritten without showing. A plan with errors (see "furrow lint") is
-refused. Registering an unchanged plan changes nothing.
+refused. Registering an unchanged plan changes nothing. Prints the plan
+hash and the chain of entries, oldest first.
 
 The time is the system clock, or SOURCE_DATE_EPOCH (seconds since 1970)
 when that variable is set, for reproducible records.
@@ -59,6 +61,10 @@ func runRegister(e *env, c *command, args []string) int {
 		fmt.Fprintf(e.stderr, "furrow register: %s: the plan has errors; nothing was registered\n", e.rel(pos[0]))
 		return exitFindings
 	}
+	if errors.Is(err, iofs.ErrNotExist) || errors.Is(err, iofs.ErrPermission) {
+		// An input that cannot be read: exit 2, as the help says.
+		return fail(e, c, err)
+	}
 	if err != nil {
 		fmt.Fprintf(e.stderr, "furrow register: %v\n", err)
 		return exitFindings
@@ -72,5 +78,31 @@ func runRegister(e *env, c *command, args []string) int {
 		fmt.Fprintf(e.stdout, "%s: registered version %s in %s\n", e.rel(pos[0]), res.Entry.PlanVersion, e.rel(res.Path))
 	}
 	fmt.Fprintf(e.stdout, "plan hash %s\n", res.Entry.PlanHash)
+	reg, _, err := checker.ReadRegistration(res.Path)
+	if err != nil {
+		fmt.Fprintf(e.stderr, "furrow register: %v\n", err)
+		return exitFindings
+	}
+	printChain(e, reg)
 	return exitOK
+}
+
+// printChain lists the registration chain, oldest entry first: sequence,
+// plan version, time, the start of the entry hash, the link to the
+// previous entry and the reason.
+func printChain(e *env, reg *checker.Registration) {
+	short := func(h string) string {
+		if len(h) > len("sha256:")+12 {
+			return h[:len("sha256:")+12]
+		}
+		if h == "" {
+			return "-"
+		}
+		return h
+	}
+	fmt.Fprintln(e.stdout, "registration chain, oldest first:")
+	for _, en := range reg.Entries {
+		fmt.Fprintf(e.stdout, "  %d  version %s  registered %s  entry %s  previous %s  %s\n",
+			en.Seq, en.PlanVersion, en.RegisteredAt, short(en.EntryHash), short(en.Previous), en.Reason)
+	}
 }
