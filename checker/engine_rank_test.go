@@ -20,13 +20,14 @@ type rankRef struct {
 	Friedman struct {
 		Stat, DF, P float64
 	}
-	SignedOne    struct{ V, P float64 }     `json:"signed_one"`
-	SignedPaired struct{ V, P float64 }     `json:"signed_paired"`
-	VanEltK      struct{ Q, DF, P float64 } `json:"vanelteren_k"`
-	WelchShapiro struct{ W, P float64 }     `json:"welch_shapiro"`
-	WelchLevene  struct{ F, P float64 }     `json:"welch_levene"`
-	KruskalSW    struct{ W, P float64 }     `json:"kruskal_shapiro"`
-	KruskalBF    struct{ F, P float64 }     `json:"kruskal_bf"`
+	SignedOne    struct{ V, P float64 }        `json:"signed_one"`
+	SignedPaired struct{ V, P float64 }        `json:"signed_paired"`
+	SignedLess   struct{ P, Estimate float64 } `json:"signed_paired_less"`
+	VanEltK      struct{ Q, DF, P float64 }    `json:"vanelteren_k"`
+	WelchShapiro struct{ W, P float64 }        `json:"welch_shapiro"`
+	WelchLevene  struct{ F, P float64 }        `json:"welch_levene"`
+	KruskalSW    struct{ W, P float64 }        `json:"kruskal_shapiro"`
+	KruskalBF    struct{ F, P float64 }        `json:"kruskal_bf"`
 	VsRankSum    struct {
 		P, PHolm, Estimate []float64
 	} `json:"vs_control_ranksum"`
@@ -335,6 +336,24 @@ func TestFriedmanStepHypotheses(t *testing.T) {
 		near(t, c.Label+" p", c.P, ref.VsFriedman.P[i], tolRef)
 		near(t, c.Label+" bonferroni", c.PAdjusted, ref.VsFriedman.PBonferroni[i], tolRef)
 	}
+}
+
+// On a paired signed-rank step the comparison is the signed-rank test of
+// the paired differences (R 4.2.2 wilcox.test(harvest, before, paired =
+// TRUE, alternative = "less")), estimate their median.
+func TestPairedSignedRankHypotheses(t *testing.T) {
+	ref := loadRankRef(t)
+	r, _ := rankRun(t, false, "      - id: only\n        model: signed-rank\n        outcome: {derive: raw}\n        transform: {kind: log-offset, offset: 1}\n        compare: time\n        within: plot\n",
+		"      - id: over-time\n        kind: pairwise\n        factor: time\n        sides: less\n")
+	ep, _ := acceptedStep(t, r)
+	h := ep.Hypotheses[0]
+	if !h.Assessable || len(h.Comparisons) != 1 || h.Comparisons[0].Label != "harvest - before" {
+		t.Fatalf("pairwise %+v", h)
+	}
+	c := h.Comparisons[0]
+	near(t, "paired p", c.P, ref.SignedLess.P, tolRef)
+	near(t, "median paired difference", c.Estimate, ref.SignedLess.Estimate, 1e-12)
+	near(t, "unadjusted family of one", c.PAdjusted, ref.SignedLess.P, tolRef)
 }
 
 func TestWelchStepHypotheses(t *testing.T) {

@@ -100,6 +100,10 @@ bef <- log(w$juveniles.before + 1); har <- log(w$juveniles.harvest + 1)
 sp <- wilcox.test(bef, har, paired = TRUE)
 ref$signed_paired <- list(v = unname(sp$statistic), p = sp$p.value)
 
+# Pairwise harvest - before on the paired step, sides less (R's x - y).
+spl <- wilcox.test(har, bef, paired = TRUE, alternative = "less")
+ref$signed_paired_less <- list(p = spl$p.value, estimate = median(har - bef))
+
 vk <- vanElterenK(y, g, w$site)
 ref$vanelteren_k <- vk
 
