@@ -61,9 +61,9 @@ func rankHypothesis(p *plan.Plan, s *plan.Step, f *fitted, h *plan.Hypothesis, e
 	}
 	switch {
 	case h.Kind == plan.HypTerm:
-		return notAssessable(fmt.Sprintf("step %s (%s) fits no model terms; a term hypothesis is not assessable on it", s.ID, s.Model))
+		return notAssessable(fmt.Sprintf("step %s (%s) fits no model terms to test", s.ID, s.Model))
 	case !welch && (h.Kind == plan.HypEquivalence || h.Kind == plan.HypNonInferiority):
-		return notAssessable(fmt.Sprintf("%s needs an estimate with a confidence interval, which the rank test of step %s (%s) does not give; not assessable on it",
+		return notAssessable(fmt.Sprintf("%s needs an estimate with a confidence interval, which the rank test of step %s (%s) does not give",
 			h.Kind, s.ID, s.Model))
 	}
 	factor := h.Factor
@@ -73,7 +73,7 @@ func rankHypothesis(p *plan.Plan, s *plan.Step, f *fitted, h *plan.Hypothesis, e
 		}
 	}
 	if s.Compare != "" && factor != s.Compare {
-		return notAssessable(fmt.Sprintf("step %s compares the levels of %s, not of %s; not assessable on it", s.ID, s.Compare, factor))
+		return notAssessable(fmt.Sprintf("step %s compares the levels of %s, not of %s", s.ID, s.Compare, factor))
 	}
 	g, ok := f.ds.factors[factor]
 	if !ok {
