@@ -703,7 +703,7 @@ func (s *system) backsolve(theta, beta []float64, wk *work) ([][]float64, error)
 				b = s.par[jj-1][b]
 				sum -= wk.anc[j][a*na+ii] * u[jj][b]
 			}
-			u[j][a] = sum / wk.D[j][a]
+			u[j][a] = sum / (1 + wk.D[j][a])
 		}
 	}
 	return u, nil

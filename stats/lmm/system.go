@@ -71,7 +71,7 @@ type bucket struct {
 
 // work holds the per-evaluation arrays.
 type work struct {
-	D     [][]float64
+	D     [][]float64 // chain pivots minus one (exact for small theta)
 	anc   [][]float64
 	sv    [][]float64
 	dv    [][]float64
@@ -626,7 +626,7 @@ func (s *system) eliminateChain(theta []float64, w *work) float64 {
 		na := s.s - 1 - j
 		D, anc, dv := w.D[j], w.anc[j], w.dv[j]
 		for a, d := range s.d[j] {
-			D[a] = tj*tj*d + 1
+			D[a] = tj * tj * d // pivot minus one, kept exactly for the gradient
 			for i := 0; i < na; i++ {
 				anc[a*na+i] = tj * theta[j+1+i] * d
 			}
@@ -656,7 +656,7 @@ func (s *system) eliminateChain(theta []float64, w *work) float64 {
 			}
 		}
 		for a := 0; a < s.q[j]; a++ {
-			piv := D[a]
+			piv := 1 + D[a]
 			prod *= piv
 			if prod > 1e200 {
 				ld += math.Log(prod)

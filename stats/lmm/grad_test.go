@@ -1,0 +1,162 @@
+package lmm
+
+import (
+	"fmt"
+	"math"
+	"testing"
+
+	"gonum.org/v1/gonum/mat"
+)
+
+// fdGrad is a central-difference gradient with two Richardson
+// extrapolations (error of order h^6), the independent check of the
+// analytic gradient.
+func fdGrad(f func([]float64) float64, x []float64) []float64 {
+	g := make([]float64, len(x))
+	xx := make([]float64, len(x))
+	for i := range x {
+		h := 1e-2 * math.Max(math.Abs(x[i]), 0.1)
+		var d [3]float64
+		for lev := range d {
+			copy(xx, x)
+			xx[i] = x[i] + h
+			fp := f(xx)
+			xx[i] = x[i] - h
+			fm := f(xx)
+			d[lev] = (fp - fm) / (2 * h)
+			h /= 2
+		}
+		r1 := [2]float64{(4*d[1] - d[0]) / 3, (4*d[2] - d[1]) / 3}
+		g[i] = (16*r1[1] - r1[0]) / 15
+	}
+	return g
+}
+
+type gradCase struct {
+	name string
+	y    []float64
+	X    *mat.Dense
+	g    []Grouping
+	w    []float64
+}
+
+func gradCases(t *testing.T) []gradCase {
+	var cs []gradCase
+	for _, c := range loadRef(t) {
+		y, X, g := c.model()
+		cs = append(cs, gradCase{c.Label, y, X, g, c.Weights})
+	}
+	y, X, g, _ := crossedTrial(6, 9, 2)
+	cs = append(cs, gradCase{"crossed 6x9x2", y, X, g, nil})
+	// Unbalanced crossed trial with a covariate and weights.
+	keep := []int{}
+	for i := range y {
+		if i%5 != 3 && i%7 != 0 {
+			keep = append(keep, i)
+		}
+	}
+	n := len(keep)
+	ys := make([]float64, n)
+	ws := make([]float64, n)
+	Xs := mat.NewDense(n, 2, nil)
+	gs := make([]Grouping, len(g))
+	for k := range g {
+		gs[k] = Grouping{Name: g[k].Name, Index: make([]int, n), Levels: g[k].Levels}
+	}
+	for r, i := range keep {
+		ys[r] = y[i]
+		ws[r] = 0.5 + float64(i%4)
+		Xs.Set(r, 0, 1)
+		Xs.Set(r, 1, float64(i%3))
+		for k := range g {
+			gs[k].Index[r] = g[k].Index[i]
+		}
+	}
+	cs = append(cs, gradCase{"crossed unbalanced weighted", ys, Xs, gs, ws})
+	yr, Xr, gr, _ := repeatedMeasures(400)
+	cs = append(cs, gradCase{"repeated measures (buckets)", yr, Xr, gr, nil})
+	return cs
+}
+
+// TestAnalyticGradient: the analytic gradient of the profiled REML and ML
+// criteria, and of the unprofiled criterion at fixed sigma, equals an
+// extrapolated central difference of the criterion itself (sixth-order
+// scheme; independent of the selected inversion), at several theta.
+func TestAnalyticGradient(t *testing.T) {
+	for _, c := range gradCases(t) {
+		sys, err := newSystem(c.y, c.X, c.g, c.w)
+		if err != nil {
+			t.Fatal(err)
+		}
+		k := sys.nf
+		wk := sys.newWork()
+		sw := sys.newSel()
+		for _, base := range []float64{0.3, 1, 2.5} {
+			th := make([]float64, k)
+			for i := range th {
+				th[i] = base * (1 + 0.3*float64(i))
+			}
+			for _, crit := range []Criterion{REML, ML} {
+				for _, s2 := range []float64{0, 1.7} {
+					f := func(x []float64) float64 {
+						e, err := sys.eval(x, nil)
+						if err != nil {
+							t.Fatal(err)
+						}
+						if s2 > 0 {
+							return sys.deviance(e, math.Sqrt(s2), crit)
+						}
+						return sys.profiled(e, crit)
+					}
+					want := fdGrad(f, th)
+					pr, err := sys.gradParts(th, wk, sw, false)
+					if err != nil {
+						t.Fatal(err)
+					}
+					got := make([]float64, k)
+					sys.profGrad(th, pr, crit, s2, got)
+					for i := range got {
+						check(t, fmt.Sprintf("%s %v s2=%v theta=%v d/dtheta_%d", c.name, crit, s2, th, i), got[i], want[i], 1e-7, 1e-7)
+					}
+				}
+			}
+		}
+	}
+}
+
+// TestCovDerivative: the analytic derivative of (X'V^{-1}X)^{-1} in theta,
+// (2/theta_k) sum_a Sigma_aX Sigma_aX', equals an extrapolated central
+// difference of the covariance.
+func TestCovDerivative(t *testing.T) {
+	for _, c := range gradCases(t) {
+		sys, err := newSystem(c.y, c.X, c.g, c.w)
+		if err != nil {
+			t.Fatal(err)
+		}
+		k, p := sys.nf, sys.p
+		th := make([]float64, k)
+		for i := range th {
+			th[i] = 0.8 + 0.4*float64(i)
+		}
+		pr, err := sys.gradParts(th, sys.newWork(), sys.newSel(), true)
+		if err != nil {
+			t.Fatal(err)
+		}
+		for i := 0; i < k; i++ {
+			for a := 0; a < p; a++ {
+				for b := 0; b <= a; b++ {
+					f := func(x []float64) float64 {
+						e, err := sys.eval(x, nil)
+						if err != nil {
+							t.Fatal(err)
+						}
+						return covBeta(e, p, 1).At(a, b)
+					}
+					want := fdGrad(f, th)[i]
+					got := 2 / th[i] * pr.sux[i].At(a, b)
+					check(t, fmt.Sprintf("%s dCov[%d,%d]/dtheta_%d", c.name, a, b, i), got, want, 1e-6, 1e-9*math.Abs(covBeta(pr.e, p, 1).At(a, a)))
+				}
+			}
+		}
+	}
+}
