@@ -165,7 +165,7 @@ func acceptedStep(t *testing.T, r *Result) (*EndpointResult, *StepResult) {
 	return ep, s
 }
 
-func near(t *testing.T, what string, got Num, want, tol float64) {
+func nearRef(t *testing.T, what string, got Num, want, tol float64) {
 	t.Helper()
 	if !closeTo(float64(got), want, tol) {
 		t.Errorf("%s = %.12g, want %.12g (tol %g)", what, float64(got), want, tol)
@@ -219,13 +219,13 @@ func TestRankStepsAgainstR(t *testing.T) {
 			r, _ := rankRun(t, c.two, "      - id: only\n        "+c.step, "")
 			_, s := acceptedStep(t, r)
 			g := s.Results.Test
-			near(t, c.statName, g.Statistic, c.stat, tolRef)
-			near(t, "p", g.P, c.p, tolRef)
+			nearRef(t, c.statName, g.Statistic, c.stat, tolRef)
+			nearRef(t, "p", g.P, c.p, tolRef)
 			if len(g.DF) != len(c.df) {
 				t.Fatalf("df %v, want %v", g.DF, c.df)
 			}
 			for i := range c.df {
-				near(t, "df", g.DF[i], c.df[i], tolRef)
+				nearRef(t, "df", g.DF[i], c.df[i], tolRef)
 			}
 			if s.Fit.Method != c.method {
 				t.Errorf("fit method %q, want %q", s.Fit.Method, c.method)
@@ -249,19 +249,19 @@ func TestRankStepChecks(t *testing.T) {
 	checks := "        checks:\n          - test: shapiro-wilk\n            fail-below: 0.01\n          - test: %s\n            fail-below: 0.01\n"
 	r, _ := rankRun(t, false, "      - id: w\n        model: welch\n"+changeLog+"        compare: treatment\n"+fmt.Sprintf(checks, "levene"), "")
 	_, s := acceptedStep(t, r)
-	near(t, "welch shapiro W", s.Checks[0].Statistic, ref.WelchShapiro.W, 1e-6)
-	near(t, "welch shapiro p", s.Checks[0].P, ref.WelchShapiro.P, 1e-5)
-	near(t, "welch levene F", s.Checks[1].Statistic, ref.WelchLevene.F, tolRef)
-	near(t, "welch levene p", s.Checks[1].P, ref.WelchLevene.P, tolRef)
+	nearRef(t, "welch shapiro W", s.Checks[0].Statistic, ref.WelchShapiro.W, 1e-6)
+	nearRef(t, "welch shapiro p", s.Checks[0].P, ref.WelchShapiro.P, 1e-5)
+	nearRef(t, "welch levene F", s.Checks[1].Statistic, ref.WelchLevene.F, tolRef)
+	nearRef(t, "welch levene p", s.Checks[1].P, ref.WelchLevene.P, tolRef)
 	if s.Checks[1].Verdict != VerdictPass || s.Checks[1].N != 36 {
 		t.Errorf("levene %+v", s.Checks[1])
 	}
 	r, _ = rankRun(t, false, "      - id: k\n        model: kruskal-wallis\n"+changeLog+"        compare: treatment\n"+fmt.Sprintf(checks, "brown-forsythe"), "")
 	_, s = acceptedStep(t, r)
-	near(t, "kruskal shapiro W", s.Checks[0].Statistic, ref.KruskalSW.W, 1e-6)
-	near(t, "kruskal shapiro p", s.Checks[0].P, ref.KruskalSW.P, 1e-5)
-	near(t, "kruskal brown-forsythe F", s.Checks[1].Statistic, ref.KruskalBF.F, tolRef)
-	near(t, "kruskal brown-forsythe p", s.Checks[1].P, ref.KruskalBF.P, tolRef)
+	nearRef(t, "kruskal shapiro W", s.Checks[0].Statistic, ref.KruskalSW.W, 1e-6)
+	nearRef(t, "kruskal shapiro p", s.Checks[0].P, ref.KruskalSW.P, 1e-5)
+	nearRef(t, "kruskal brown-forsythe F", s.Checks[1].Statistic, ref.KruskalBF.F, tolRef)
+	nearRef(t, "kruskal brown-forsythe p", s.Checks[1].P, ref.KruskalBF.P, tolRef)
 }
 
 func TestRankStepHypotheses(t *testing.T) {
@@ -300,10 +300,10 @@ func TestRankStepHypotheses(t *testing.T) {
 				t.Fatalf("comparisons %+v", h.Comparisons)
 			}
 			for i, cm := range h.Comparisons {
-				near(t, cm.Label+" p", cm.P, c.want.P[i], tolRef)
-				near(t, cm.Label+" holm", cm.PAdjusted, c.want.PHolm[i], tolRef)
-				near(t, cm.Label+" median difference", cm.Estimate, c.want.Estimate[i], 1e-12)
-				near(t, cm.Label+" ratio", cm.Ratio, math.Exp(c.want.Estimate[i]), 1e-12)
+				nearRef(t, cm.Label+" p", cm.P, c.want.P[i], tolRef)
+				nearRef(t, cm.Label+" holm", cm.PAdjusted, c.want.PHolm[i], tolRef)
+				nearRef(t, cm.Label+" median difference", cm.Estimate, c.want.Estimate[i], 1e-12)
+				nearRef(t, cm.Label+" ratio", cm.Ratio, math.Exp(c.want.Estimate[i]), 1e-12)
 				if !math.IsNaN(float64(cm.Lower)) || !math.IsNaN(float64(cm.SE)) || !cm.Reject {
 					t.Errorf("%s: lower %v se %v reject %v", cm.Label, cm.Lower, cm.SE, cm.Reject)
 				}
@@ -333,8 +333,8 @@ func TestFriedmanStepHypotheses(t *testing.T) {
 		t.Fatalf("versus-control %+v", h)
 	}
 	for i, c := range h.Comparisons {
-		near(t, c.Label+" p", c.P, ref.VsFriedman.P[i], tolRef)
-		near(t, c.Label+" bonferroni", c.PAdjusted, ref.VsFriedman.PBonferroni[i], tolRef)
+		nearRef(t, c.Label+" p", c.P, ref.VsFriedman.P[i], tolRef)
+		nearRef(t, c.Label+" bonferroni", c.PAdjusted, ref.VsFriedman.PBonferroni[i], tolRef)
 	}
 }
 
@@ -351,9 +351,9 @@ func TestPairedSignedRankHypotheses(t *testing.T) {
 		t.Fatalf("pairwise %+v", h)
 	}
 	c := h.Comparisons[0]
-	near(t, "paired p", c.P, ref.SignedLess.P, tolRef)
-	near(t, "median paired difference", c.Estimate, ref.SignedLess.Estimate, 1e-12)
-	near(t, "unadjusted family of one", c.PAdjusted, ref.SignedLess.P, tolRef)
+	nearRef(t, "paired p", c.P, ref.SignedLess.P, tolRef)
+	nearRef(t, "median paired difference", c.Estimate, ref.SignedLess.Estimate, 1e-12)
+	nearRef(t, "unadjusted family of one", c.PAdjusted, ref.SignedLess.P, tolRef)
 }
 
 func TestWelchStepHypotheses(t *testing.T) {
@@ -383,12 +383,12 @@ func TestWelchStepHypotheses(t *testing.T) {
 		if cm.Label != w.Label[i] {
 			t.Fatalf("comparison %d is %q, want %q", i, cm.Label, w.Label[i])
 		}
-		near(t, cm.Label+" t", cm.Statistic, w.T[i], tolRef)
-		near(t, cm.Label+" df", cm.DF, w.DF[i], tolRef)
-		near(t, cm.Label+" p", cm.P, w.P[i], 1e-8)
-		near(t, cm.Label+" lower", cm.Lower, w.Lower[i], 1e-8)
-		near(t, cm.Label+" upper", cm.Upper, w.Upper[i], 1e-8)
-		near(t, cm.Label+" holm", cm.PAdjusted, w.PHolm[i], 1e-8)
+		nearRef(t, cm.Label+" t", cm.Statistic, w.T[i], tolRef)
+		nearRef(t, cm.Label+" df", cm.DF, w.DF[i], tolRef)
+		nearRef(t, cm.Label+" p", cm.P, w.P[i], 1e-8)
+		nearRef(t, cm.Label+" lower", cm.Lower, w.Lower[i], 1e-8)
+		nearRef(t, cm.Label+" upper", cm.Upper, w.Upper[i], 1e-8)
+		nearRef(t, cm.Label+" holm", cm.PAdjusted, w.PHolm[i], 1e-8)
 	}
 	eq := ep.Hypotheses[1]
 	if !eq.Assessable || len(eq.Comparisons) != 1 || eq.Comparisons[0].Equivalence == nil {
@@ -397,10 +397,10 @@ func TestWelchStepHypotheses(t *testing.T) {
 	e := eq.Comparisons[0]
 	// R 4.2.2 t.test(b, a, mu = log(0.5), alternative = "greater") and
 	// mu = log(2), alternative = "less"; 90% interval.
-	near(t, "tost p lower", e.Equivalence.PLower, ref.WelchTOST.PLower, 1e-8)
-	near(t, "tost p upper", e.Equivalence.PUpper, ref.WelchTOST.PUpper, 1e-8)
-	near(t, "tost lower", e.Lower, ref.WelchTOST.Lower, 1e-8)
-	near(t, "tost upper", e.Upper, ref.WelchTOST.Upper, 1e-8)
+	nearRef(t, "tost p lower", e.Equivalence.PLower, ref.WelchTOST.PLower, 1e-8)
+	nearRef(t, "tost p upper", e.Equivalence.PUpper, ref.WelchTOST.PUpper, 1e-8)
+	nearRef(t, "tost lower", e.Lower, ref.WelchTOST.Lower, 1e-8)
+	nearRef(t, "tost upper", e.Upper, ref.WelchTOST.Upper, 1e-8)
 	if e.Equivalence.Verdict != "equivalent" {
 		t.Errorf("verdict %q, want equivalent (both p < 0.05)", e.Equivalence.Verdict)
 	}
@@ -477,8 +477,8 @@ func TestSoilNematodesExample(t *testing.T) {
 		t.Fatalf("ranks-within-site: n %d %+v", ranks.N, ranks.Decision)
 	}
 	g := ranks.Results.Test
-	near(t, "example van elteren Q", g.Statistic, ref.Example.Q, tolRef)
-	near(t, "example van elteren p", g.P, ref.Example.P, tolRef)
+	nearRef(t, "example van elteren Q", g.Statistic, ref.Example.Q, tolRef)
+	nearRef(t, "example van elteren p", g.P, ref.Example.P, tolRef)
 	if len(g.DF) != 1 || g.DF[0] != 2 || !strings.Contains(g.Method, "3 levels") {
 		t.Errorf("global test %+v", g)
 	}
@@ -487,9 +487,9 @@ func TestSoilNematodesExample(t *testing.T) {
 		t.Fatalf("versus-untreated %+v", h)
 	}
 	for i, c := range h.Comparisons {
-		near(t, c.Label+" p", c.P, ref.Example.VsP[i], tolRef)
-		near(t, c.Label+" holm", c.PAdjusted, ref.Example.VsPHolm[i], tolRef)
-		near(t, c.Label+" median difference", c.Estimate, ref.Example.VsEstimate[i], 1e-12)
+		nearRef(t, c.Label+" p", c.P, ref.Example.VsP[i], tolRef)
+		nearRef(t, c.Label+" holm", c.PAdjusted, ref.Example.VsPHolm[i], tolRef)
+		nearRef(t, c.Label+" median difference", c.Estimate, ref.Example.VsEstimate[i], 1e-12)
 		if !c.Reject {
 			t.Errorf("%s not rejected at p %v", c.Label, c.PAdjusted)
 		}
