@@ -187,7 +187,17 @@ func Fit(y []float64, X mat.Matrix, groups []Grouping, opt *Options) (*Result, e
 	if maxIter <= 0 {
 		maxIter = 500
 	}
-	theta, status, iters, evals, err := minimize(obj, sys.nf, maxIter)
+	// Quasi-Newton on the analytic gradient; the derivative-free Newton
+	// search on differences of the criterion is the fallback.
+	theta, status, iters, evals, err := sys.minimizeAnalytic(crit, maxIter)
+	if err != nil || status != optimize.Success {
+		var ev0 int
+		if err == nil {
+			ev0 = evals
+		}
+		theta, status, iters, evals, err = minimize(obj, sys.nf, maxIter)
+		evals += ev0
+	}
 	if err != nil {
 		return nil, fmt.Errorf("fitting mixed model: %w", err)
 	}
@@ -201,7 +211,10 @@ func Fit(y []float64, X mat.Matrix, groups []Grouping, opt *Options) (*Result, e
 	}
 	r.Status, r.Iterations, r.Evaluations = status, iters, evals
 	r.fillFitted(y, X, groups)
-	sat, err := sys.satterthwaite(theta, r.Sigma, crit)
+	sat, err := sys.satterthwaiteAnalytic(theta, r.Sigma, crit, r.cov)
+	if err != nil {
+		sat, err = sys.satterthwaite(theta, r.Sigma, crit)
+	}
 	if err != nil {
 		return nil, fmt.Errorf("fitting mixed model: satterthwaite: %w", err)
 	}
