@@ -9,8 +9,6 @@ import (
 	"gonum.org/v1/gonum/optimize"
 )
 
-var traceOpt func(it int, x []float64, f float64, g []float64, t float64)
-
 // gradEvaluator evaluates the criterion and its analytic gradient with its
 // own work arrays, counting factorisations.
 type gradEvaluator struct {
@@ -181,9 +179,6 @@ func (s *system) minimizeAnalytic(crit Criterion, maxIter int) ([]float64, optim
 				}
 			}
 			t /= 2
-		}
-		if traceOpt != nil {
-			traceOpt(iters, xn, fn, gn, t)
 		}
 		if !accepted {
 			if !fresh {
