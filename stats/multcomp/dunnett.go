@@ -201,7 +201,7 @@ func DunnettCritical(alpha float64, corr mat.Symmetric, df float64, side Side) (
 	}
 	lam, _ := ProductFactors(corr)
 	two := side == TwoSided
-	c, err := solveTail(func(c float64) float64 { return maxTUpperProduct(c, lam, df, two) }, alpha, 2)
+	c, err := solveLogTail(func(c float64) float64 { return math.Log(maxTUpperProduct(c, lam, df, two)) }, alpha, 2)
 	if err != nil {
 		return math.NaN(), fmt.Errorf("dunnett critical value: %w", err)
 	}

@@ -29,17 +29,17 @@ func Tukey(est, se []float64, k int, df, level float64) (*Family, error) {
 			return nil, fmt.Errorf("tukey: comparison %d has estimate %v and standard error %v", i, est[i], se[i])
 		}
 	}
-	q, err := QTukeyUpper(1-level, k, df)
+	td := newTukeyDist(k, df)
+	q, err := td.quantile(1 - level)
 	if err != nil {
-		return nil, fmt.Errorf("tukey: %w", err)
+		return nil, fmt.Errorf("tukey: studentised range quantile for k=%d, df=%v: %w", k, df, err)
 	}
 	crit := q / math.Sqrt2
 	f := &Family{Method: "tukey", Side: TwoSided, Level: level, DF: df, Critical: crit}
-	ri := newRangeIntegral(k)
 	for i := range est {
 		t := est[i] / se[i]
 		qs := math.Sqrt2 * math.Abs(t)
-		p := chiMix(func(s float64) float64 { return ri.tail(qs*s, true) }, df, quadAbsTol, quadRelTol)
+		p := math.Exp(td.logUpper(qs))
 		f.Comparisons = append(f.Comparisons, Comparison{
 			Estimate: est[i], SE: se[i], T: t, PAdjusted: math.Min(1, math.Max(0, p)),
 			Lower: est[i] - crit*se[i], Upper: est[i] + crit*se[i],
