@@ -175,3 +175,23 @@ func BenchmarkCrossed(b *testing.B) {
 		})
 	}
 }
+
+// BenchmarkCrossedKR: site x genotype x 3 reps, fit + Kenward-Roger Type III.
+func BenchmarkCrossedKR(b *testing.B) {
+	for _, sz := range [][2]int{{50, 200}, {50, 1000}} {
+		b.Run(fmt.Sprintf("%dx%dx3", sz[0], sz[1]), func(b *testing.B) {
+			y, X, g, terms := crossedTrial(sz[0], sz[1], 3)
+			b.ReportAllocs()
+			b.ResetTimer()
+			for b.Loop() {
+				fit, err := Fit(y, X, g, nil)
+				if err != nil {
+					b.Fatal(err)
+				}
+				if _, err := fit.TermTests(terms, 3, KenwardRoger); err != nil {
+					b.Fatal(err)
+				}
+			}
+		})
+	}
+}

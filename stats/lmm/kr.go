@@ -105,7 +105,7 @@ func (s *system) kenwardRoger(theta []float64, s2 float64, phi *mat.SymDense) (*
 		frob.Set(0, 0, fr)
 		trZ[0] = tr
 	} else {
-		if err := s.krDense(theta, s2, Pk, Q, frob, trZ); err != nil {
+		if err := krPieces(s, theta, s2, Pk, Q, frob, trZ); err != nil {
 			return nil, err
 		}
 	}
@@ -235,6 +235,10 @@ func (s *system) kenwardRoger(theta []float64, s2 float64, phi *mat.SymDense) (*
 	}
 	return &krInfo{phi: phi, phiA: phiA, P: Pk, W: W}, nil
 }
+
+// krPieces selects the route for several grouping factors; tests swap it
+// to compare the block and the dense route.
+var krPieces = (*system).krBlock
 
 // krDense fills P_k, Q_kl, ||Zt_kl||^2 and tr(Zt_kk) with dense matrices
 // in the random-effects space (several grouping factors).
