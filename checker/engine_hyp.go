@@ -1,9 +1,13 @@
 package checker
 
 import (
+	"errors"
 	"fmt"
 	"math"
 	"slices"
+	"strings"
+
+	"gonum.org/v1/gonum/mat"
 
 	"furrow/plan"
 	"furrow/stats/dist"
@@ -60,9 +64,13 @@ func hypothesis(p *plan.Plan, ep *plan.Endpoint, s *plan.Step, f *fitted, h *pla
 		hr.Note = fmt.Sprintf("the model of step %s has no term %s (anova type %d)", s.ID, label, typ)
 		return hr
 	}
-	mms := f.detail.MarginalMeans
-	L, labels, err := lf.dm.MeansGrid([]string{factor})
-	if err != nil || len(mms) == 0 {
+	var L *mat.Dense
+	var labels []string
+	var err error
+	if lf.dm.TermIndex(factor) >= 0 {
+		L, labels, err = lf.dm.MeansGrid([]string{factor})
+	}
+	if err != nil || len(labels) == 0 {
 		hr.Assessable = false
 		hr.Note = fmt.Sprintf("no marginal means of %s on step %s", factor, s.ID)
 		return hr
@@ -72,8 +80,8 @@ func hypothesis(p *plan.Plan, ep *plan.Endpoint, s *plan.Step, f *fitted, h *pla
 		row[levelFromLabel(lab, factor)] = L.RawRowView(i)
 	}
 	var levels []string
-	for _, m := range mms {
-		levels = append(levels, m.Level)
+	for _, lab := range labels {
+		levels = append(levels, levelFromLabel(lab, factor))
 	}
 	var pairs [][2]string
 	switch h.Kind {
@@ -112,6 +120,7 @@ func hypothesis(p *plan.Plan, ep *plan.Endpoint, s *plan.Step, f *fitted, h *pla
 	}
 	tr := s.Transform
 	var ps []float64
+	ls := make([][]float64, 0, len(pairs)) // contrast vector per comparison (nil when a level is missing)
 	for _, pr := range pairs {
 		a, okA := row[pr[0]]
 		b, okB := row[pr[1]]
@@ -120,6 +129,7 @@ func hypothesis(p *plan.Plan, ep *plan.Endpoint, s *plan.Step, f *fitted, h *pla
 		if !okA || !okB {
 			hr.Comparisons = append(hr.Comparisons, c)
 			ps = append(ps, math.NaN())
+			ls = append(ls, nil)
 			continue
 		}
 		l := make([]float64, len(a))
@@ -167,36 +177,23 @@ func hypothesis(p *plan.Plan, ep *plan.Endpoint, s *plan.Step, f *fitted, h *pla
 		}
 		hr.Comparisons = append(hr.Comparisons, c)
 		ps = append(ps, float64(c.P))
+		ls = append(ls, l)
 	}
-	var adjP []float64
 	switch adj {
-	case plan.AdjustTukey:
-		adjP = make([]float64, len(ps))
-		for i, c := range hr.Comparisons {
-			// Tukey (1953) via the studentised range of the k compared means
-			// (Copenhaver & Holland 1988, stats/multcomp).
-			q := math.Abs(float64(c.Statistic)) * math.Sqrt2
-			v, err := multcomp.PTukeyUpper(q, len(levels), float64(c.DF))
-			if err != nil {
-				v = math.NaN()
-			}
-			adjP[i] = v
-		}
-		if sides != "two-sided" {
-			hr.Note = "tukey adjustment is two-sided; the p-values are two-sided"
-		}
-	case plan.AdjustDunnett:
-		adjP = make([]float64, len(ps))
-		for i := range adjP {
-			adjP[i] = math.NaN()
-		}
-		hr.Note = "the dunnett adjustment is not available in this build; adjusted p-values are not given"
+	case plan.AdjustTukey, plan.AdjustDunnett:
+		simultaneous(&hr, lf, ls, adj, sides, len(levels), alpha, tr)
 	default:
-		adjP = adjustP(ps, adj)
+		adjP, err := adjustP(ps, adj)
+		if err != nil {
+			hr.Note = fmt.Sprintf("the %s adjustment could not be computed: %v", adj, err)
+		}
+		for i := range hr.Comparisons {
+			hr.Comparisons[i].PAdjusted = Num(adjP[i])
+		}
 	}
 	for i := range hr.Comparisons {
-		hr.Comparisons[i].PAdjusted = Num(adjP[i])
-		hr.Comparisons[i].Reject = !math.IsNaN(adjP[i]) && adjP[i] < alpha
+		pa := float64(hr.Comparisons[i].PAdjusted)
+		hr.Comparisons[i].Reject = !math.IsNaN(pa) && pa < alpha
 	}
 	return hr
 }
@@ -288,56 +285,221 @@ func tost(h *plan.Hypothesis, tr plan.Transform, est, se, df, alpha float64) *Eq
 	return e
 }
 
-// adjustP applies a step-wise p-value adjustment; NaN entries are ignored
-// and stay NaN. Bonferroni; Holm (1979) Scand J Stat 6:65; Hochberg (1988)
-// Biometrika 75:800; Benjamini & Hochberg (1995) JRSS B 57:289.
-func adjustP(ps []float64, method string) []float64 {
+// adjustP applies a step-wise p-value adjustment through stats/multcomp
+// (Bonferroni; Holm 1979; Hochberg 1988; Benjamini & Hochberg 1995) over
+// the comparisons that have a p-value; NaN entries are left out of the
+// family and stay NaN. "none" returns the raw p-values.
+func adjustP(ps []float64, method string) ([]float64, error) {
 	out := make([]float64, len(ps))
 	var idx []int
+	var vals []float64
 	for i, p := range ps {
 		out[i] = math.NaN()
 		if !math.IsNaN(p) {
 			idx = append(idx, i)
+			vals = append(vals, p)
 		}
 	}
-	m := float64(len(idx))
-	slices.SortStableFunc(idx, func(a, b int) int {
-		switch {
-		case ps[a] < ps[b]:
-			return -1
-		case ps[a] > ps[b]:
-			return 1
-		}
-		return 0
-	})
-	switch method {
+	if len(vals) == 0 {
+		return out, nil
+	}
+	if method == plan.AdjustNone || method == "" {
+		copy(out, ps)
+		return out, nil
+	}
+	adj, err := multcomp.Adjust(vals, adjustMethod(method))
+	if err != nil {
+		return out, err
+	}
+	for k, i := range idx {
+		out[i] = adj[k]
+	}
+	return out, nil
+}
+
+// adjustMethod maps a plan adjustment name to the stats/multcomp method.
+func adjustMethod(name string) multcomp.Method {
+	switch name {
 	case plan.AdjustBonferroni:
-		for _, i := range idx {
-			out[i] = math.Min(1, ps[i]*m)
-		}
+		return multcomp.Bonferroni
 	case plan.AdjustHolm:
-		run := 0.0
-		for k, i := range idx {
-			run = math.Max(run, math.Min(1, (m-float64(k))*ps[i]))
-			out[i] = run
-		}
-	case plan.AdjustHochberg, plan.AdjustBH:
-		run := 1.0
-		for k := len(idx) - 1; k >= 0; k-- {
-			i := idx[k]
-			var v float64
-			if method == plan.AdjustHochberg {
-				v = (m - float64(k)) * ps[i]
-			} else {
-				v = m / float64(k+1) * ps[i]
-			}
-			run = math.Min(run, math.Min(1, v))
-			out[i] = run
-		}
-	default:
-		for _, i := range idx {
-			out[i] = ps[i]
+		return multcomp.Holm
+	case plan.AdjustHochberg:
+		return multcomp.Hochberg
+	case plan.AdjustBH:
+		return multcomp.BH
+	}
+	return multcomp.Method(name)
+}
+
+// simultaneous fills the adjusted p-values and replaces the intervals by
+// simultaneous ones for a Tukey (all pairs) or Dunnett (many-to-one)
+// family, computed through stats/multcomp:
+//
+//   - Tukey (1953), Tukey-Kramer for unequal standard errors (Kramer 1956
+//     Biometrics 12:307): the studentised range of the k means of the
+//     factor, always two-sided.
+//   - Dunnett (1955) JASA 50:1096: the multivariate t with the correlation
+//     of the contrasts from the model covariance, one- or two-sided. When
+//     that correlation is not of the one-factor form rho_ij = l_i l_j (an
+//     unbalanced model with further terms), the closest one-factor form in
+//     least squares is used, the factor-analytic approximation of Hsu (1992)
+//     J Comput Graph Stat 1:151, and the Note says how far it is.
+//
+// Both need one error df. A linear step has one residual df; a mixed step
+// gives each contrast its own Satterthwaite or Kenward-Roger df, and the
+// family uses the smallest of them (conservative), which the Note states.
+// Each comparison keeps its own df and unadjusted p-value.
+func simultaneous(hr *HypothesisResult, lf *linearFit, ls [][]float64, adj, sides string, k int, alpha float64, tr plan.Transform) {
+	var idx []int
+	for i, l := range ls {
+		c := hr.Comparisons[i]
+		if l != nil && !math.IsNaN(float64(c.Estimate)) && float64(c.SE) > 0 && !math.IsNaN(float64(c.DF)) {
+			idx = append(idx, i)
 		}
 	}
-	return out
+	fail := func(err error) {
+		hr.Note = fmt.Sprintf("the %s adjustment could not be computed: %v", adj, err)
+		for i := range hr.Comparisons {
+			hr.Comparisons[i].PAdjusted = NaN
+		}
+	}
+	if len(idx) == 0 {
+		fail(errors.New("no estimable comparison"))
+		return
+	}
+	est := make([]float64, len(idx))
+	se := make([]float64, len(idx))
+	df := math.Inf(1)
+	dfMax := 0.0
+	for a, i := range idx {
+		c := hr.Comparisons[i]
+		est[a], se[a] = float64(c.Estimate), float64(c.SE)
+		df = math.Min(df, float64(c.DF))
+		dfMax = math.Max(dfMax, float64(c.DF))
+	}
+	var notes []string
+	if dfMax-df > 1e-6*math.Max(1, df) {
+		notes = append(notes, fmt.Sprintf("the comparisons have df from %.4g to %.4g; the %s family uses the smallest, %.4g", df, dfMax, adj, df))
+	}
+	var fam *multcomp.Family
+	var err error
+	if adj == plan.AdjustTukey {
+		if sides != "two-sided" {
+			notes = append(notes, "the tukey family is two-sided; adjusted p-values and intervals are two-sided")
+		}
+		fam, err = multcomp.Tukey(est, se, k, df, 1-alpha)
+	} else {
+		corr := contrastCorr(lf, ls, idx)
+		if _, ok := multcomp.ProductFactors(corr); !ok {
+			var dev float64
+			corr, dev = oneFactorApprox(corr)
+			notes = append(notes, fmt.Sprintf("the comparisons' correlation is not of the one-factor form; the dunnett family uses its closest one-factor approximation (Hsu 1992), largest difference %.2g", dev))
+		}
+		side := multcomp.TwoSided
+		switch sides {
+		case "greater":
+			side = multcomp.Greater
+		case "less":
+			side = multcomp.Less
+		}
+		fam, err = multcomp.Dunnett(est, se, corr, df, side, 1-alpha)
+	}
+	if err != nil {
+		fail(err)
+		return
+	}
+	for i := range hr.Comparisons {
+		hr.Comparisons[i].PAdjusted = NaN
+	}
+	for a, i := range idx {
+		fc := fam.Comparisons[a]
+		c := &hr.Comparisons[i]
+		c.PAdjusted = Num(fc.PAdjusted)
+		c.Lower, c.Upper = Num(fc.Lower), Num(fc.Upper)
+		if isLogScale(tr) {
+			b := logBase(tr)
+			c.RatioLower, c.RatioUpper = Num(math.Exp(b*fc.Lower)), Num(math.Exp(b*fc.Upper))
+		}
+	}
+	notes = append(notes, fmt.Sprintf("intervals are simultaneous at %g%% (critical value %.6g on the t scale)", 100*(1-alpha), fam.Critical))
+	hr.Note = strings.Join(notes, "; ")
+}
+
+// contrastCorr is the correlation matrix of the contrasts ls[idx] under
+// the model covariance.
+func contrastCorr(lf *linearFit, ls [][]float64, idx []int) *mat.SymDense {
+	m := len(idx)
+	cv := make([]*mat.VecDense, m)
+	for a, i := range idx {
+		var v mat.VecDense
+		v.MulVec(lf.cov, mat.NewVecDense(len(ls[i]), slices.Clone(ls[i])))
+		cv[a] = &v
+	}
+	cov := mat.NewSymDense(m, nil)
+	for a := 0; a < m; a++ {
+		la := mat.NewVecDense(len(ls[idx[a]]), slices.Clone(ls[idx[a]]))
+		for b := 0; b <= a; b++ {
+			cov.SetSym(a, b, mat.Dot(la, cv[b]))
+		}
+	}
+	corr := mat.NewSymDense(m, nil)
+	for a := 0; a < m; a++ {
+		corr.SetSym(a, a, 1)
+		for b := 0; b < a; b++ {
+			corr.SetSym(a, b, cov.At(a, b)/math.Sqrt(cov.At(a, a)*cov.At(b, b)))
+		}
+	}
+	return corr
+}
+
+// oneFactorApprox returns the one-factor correlation matrix
+// rho_ij = l_i l_j (i != j) closest to corr in least squares over the
+// off-diagonal entries (Hsu 1992, the factor-analytic approach), found by
+// alternating least squares from the square roots of the row means, and
+// the largest absolute difference from corr. Each |l_i| is kept below 1.
+func oneFactorApprox(corr mat.Symmetric) (*mat.SymDense, float64) {
+	m := corr.SymmetricDim()
+	lam := make([]float64, m)
+	for i := 0; i < m; i++ {
+		s := 0.0
+		for j := 0; j < m; j++ {
+			if j != i {
+				s += corr.At(i, j)
+			}
+		}
+		lam[i] = math.Sqrt(math.Max(s/float64(max(m-1, 1)), 1e-6))
+	}
+	const limit = 1 - 1e-9
+	for it := 0; it < 500; it++ {
+		change := 0.0
+		for i := 0; i < m; i++ {
+			num, den := 0.0, 0.0
+			for j := 0; j < m; j++ {
+				if j != i {
+					num += corr.At(i, j) * lam[j]
+					den += lam[j] * lam[j]
+				}
+			}
+			v := lam[i]
+			if den > 0 {
+				v = math.Max(-limit, math.Min(limit, num/den))
+			}
+			change = math.Max(change, math.Abs(v-lam[i]))
+			lam[i] = v
+		}
+		if change < 1e-14 {
+			break
+		}
+	}
+	out := mat.NewSymDense(m, nil)
+	dev := 0.0
+	for i := 0; i < m; i++ {
+		out.SetSym(i, i, 1)
+		for j := 0; j < i; j++ {
+			out.SetSym(i, j, lam[i]*lam[j])
+			dev = math.Max(dev, math.Abs(lam[i]*lam[j]-corr.At(i, j)))
+		}
+	}
+	return out, dev
 }
