@@ -1,12 +1,14 @@
 ## Timing reference for the stats/lmm benchmarks: the same designs and models
 ## fitted with lme4 + lmerTest (+ pbkrtest for Kenward-Roger) when installed.
-## Run from stats/lmm:  Rscript testdata/bench_ref.R [max_n]
+## Run from stats/lmm:  Rscript testdata/bench_ref.R [max_n [go_bench_output]]
 ## Prints one line per case: case, rows, seconds for the REML fit, seconds for
 ## the Satterthwaite Type III table, seconds for the Kenward-Roger table (small
 ## cases only). Data generation is excluded from the timings. The data follow
 ## the same design as bench_test.go (seeded, invented) but R's generator, so
 ## the numbers differ; the fits have the same size and structure.
-## Compare with: go test -run XXX -bench . -benchtime=1x ./stats/lmm
+## Compare with: go test -run XXX -bench . -benchtime=1x ./stats/lmm > go.txt
+## and pass go.txt as the second argument: each line then also gives the Go
+## time of fit + Satterthwaite + Type III and the ratio (R fit + table) / Go.
 ok <- suppressWarnings(suppressPackageStartupMessages(
   requireNamespace("lme4", quietly = TRUE) && requireNamespace("lmerTest", quietly = TRUE)))
 if (!ok) { cat("lme4/lmerTest not installed: nothing to compare\n"); quit(status = 0) }
@@ -14,6 +16,13 @@ suppressPackageStartupMessages({ library(lme4); library(lmerTest) })
 options(contrasts = c("contr.sum", "contr.poly"))
 args <- commandArgs(trailingOnly = TRUE)
 max_n <- if (length(args)) as.numeric(args[1]) else 1e5
+go_s <- list()
+if (length(args) >= 2 && file.exists(args[2])) {
+  for (ln in readLines(args[2])) {
+    m <- regmatches(ln, regexec("^Benchmark([A-Za-z]+)/(\\S+?)-[0-9]+\\s+[0-9]+\\s+([0-9.]+) ns/op", ln, perl = TRUE))[[1]]
+    if (length(m) == 4) go_s[[paste(m[2], m[3])]] <- as.numeric(m[4]) / 1e9
+  }
+}
 
 rm_data <- function(n) {
   set.seed(n)
@@ -34,8 +43,13 @@ cr_data <- function(sites, genos, reps) {
   d
 }
 tm <- function(expr) unname(system.time(expr)["elapsed"])
-report <- function(name, n, fit_s, sat_s, kr_s) cat(sprintf("%-22s %9d  fit %8.3f s  sat-typeIII %8.3f s  kr-typeIII %s\n",
-  name, n, fit_s, sat_s, if (is.na(kr_s)) "      -" else sprintf("%8.3f s", kr_s)))
+report <- function(name, n, fit_s, sat_s, kr_s, go_key) {
+  cat(sprintf("%-22s %9d  fit %8.3f s  sat-typeIII %8.3f s  kr-typeIII %s",
+    name, n, fit_s, sat_s, if (is.na(kr_s)) "      -" else sprintf("%8.3f s", kr_s)))
+  g <- go_s[[go_key]]
+  if (!is.null(g)) cat(sprintf("  go %7.3f s  ratio %6.1f", g, (fit_s + sat_s) / g))
+  cat("\n")
+}
 
 for (n in c(1e3, 1e4, 1e5, 1e6)) {
   if (n > max_n) break
@@ -44,7 +58,7 @@ for (n in c(1e3, 1e4, 1e5, 1e6)) {
   t_fit <- tm(fit <- lmerTest::lmer(y ~ site + trt * time + (1 | plot), data = d))
   t_sat <- tm(anova(fit, type = 3, ddf = "Satterthwaite"))
   t_kr <- if (n <= 1e4 && requireNamespace("pbkrtest", quietly = TRUE)) tm(anova(fit, type = 3, ddf = "Kenward-Roger")) else NA
-  report("repeated-measures", n, t_fit, t_sat, t_kr)
+  report("repeated-measures", n, t_fit, t_sat, t_kr, sprintf("RepeatedMeasures N=%d", as.integer(n)))
 }
 for (g in c(200, 1000)) {
   d <- cr_data(50, g, 3)
@@ -52,5 +66,5 @@ for (g in c(200, 1000)) {
   fit <- NULL
   t_fit <- tm(fit <- lmerTest::lmer(y ~ rep + (1 | site) + (1 | geno) + (1 | sg), data = d))
   t_sat <- tm(anova(fit, type = 3, ddf = "Satterthwaite"))
-  report(sprintf("crossed-50x%dx3", g), nrow(d), t_fit, t_sat, NA)
+  report(sprintf("crossed-50x%dx3", g), nrow(d), t_fit, t_sat, NA, sprintf("Crossed 50x%dx3", as.integer(g)))
 }
