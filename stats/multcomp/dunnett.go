@@ -6,6 +6,8 @@ import (
 	"math"
 
 	"gonum.org/v1/gonum/mat"
+
+	"furrow/stats/dist"
 )
 
 // productTol is the largest deviation |ρ_ij - λ_i λ_j| accepted for the
@@ -74,77 +76,264 @@ func ProductFactors(corr mat.Symmetric) ([]float64, bool) {
 	return lam, true
 }
 
+// maxNormal evaluates tails of the largest of X_i, or of |X_i|, for a
+// normal vector with unit variances and correlations λ_i λ_j. Writing
+// X_i = λ_i Z + sqrt(1-λ_i²) Y_i with independent standard normals Z, Y_i
+// (Dunnett 1955 JASA 50:1096; Genz & Bretz 2009, Computation of
+// Multivariate Normal and t Probabilities, §2.2.1), conditional on Z = z
+// the X_i are independent, so
+//
+//	P(max |X_i| > x) = ∫ φ(z) [1 - Π_i (1 - e_i(x, z))] dz
+//
+// with e_i the conditional exceedance probability of component i; the
+// bracket is evaluated as -expm1(Σ log1p(-e_i)) so that a small tail keeps
+// its relative accuracy, and in log space beyond x = 30. Equal λ_i are
+// grouped. The z integral uses fixed 16-point Gauss-Legendre panels on
+// |z| <= sqrt(x² + 80): outside it φ alone bounds the integrand below
+// 1e-17 of the tail. The panel width is 1.5 times the narrowest scale of
+// the integrand, min(1, σ_i/|λ_i|) with σ_i = sqrt(1-λ_i²).
+type maxNormal struct {
+	lam, sig, mult []float64
+	width, negW    float64
+	q              float64
+	buf            []float64
+}
+
+func newMaxNormal(lam []float64) *maxNormal {
+	mn := &maxNormal{width: dunW}
+	for _, l := range lam {
+		found := false
+		for g, gl := range mn.lam {
+			if gl == l {
+				mn.mult[g]++
+				found = true
+				break
+			}
+		}
+		if !found {
+			mn.lam = append(mn.lam, l)
+			mn.mult = append(mn.mult, 1)
+			s := math.Sqrt((1 - l) * (1 + l))
+			mn.sig = append(mn.sig, s)
+			if al := math.Abs(l); al > s {
+				mn.width = math.Min(mn.width, dunW*s/al)
+			}
+		}
+	}
+	// The lower form's integrand Π Φ(·) φ(z) narrows as components are
+	// added: its log curvature is up to 1 + Σ λ_i²/σ_i².
+	curv := 1.0
+	for g, l := range mn.lam {
+		curv += mn.mult[g] * l * l / (mn.sig[g] * mn.sig[g])
+	}
+	mn.negW = math.Min(mn.width, dunNegW/math.Sqrt(curv))
+	// P(max X_i <= x) falls like exp(-q x²/2) with q = 1ᵀR⁻¹1, which for
+	// R = D + λλᵀ is Σ 1/σ_i² - (Σ λ_i/σ_i²)²/(1 + Σ λ_i²/σ_i²); the lower
+	// form's z range grows with it.
+	var a, b float64
+	for g, l := range mn.lam {
+		a += mn.mult[g] / (mn.sig[g] * mn.sig[g])
+		b += mn.mult[g] * l / (mn.sig[g] * mn.sig[g])
+	}
+	mn.q = math.Max(1, a-b*b/curv)
+	return mn
+}
+
+// logUpper returns log P(max X_i > x) (one-sided) or log P(max |X_i| > x)
+// for x >= 0.
+func (mn *maxNormal) logUpper(x float64, two bool) float64 {
+	if x <= 0 && two {
+		return 0
+	}
+	zmax := math.Sqrt(x*x + 80 + 2*math.Log1p(math.Abs(x)))
+	n := int(math.Ceil(2 * zmax / mn.width))
+	h := zmax / float64(n)
+	r := gaussLegendre()
+	fast := x < 30
+	nx := -x
+	mn.buf = mn.buf[:0]
+	top := math.Inf(-1)
+	var sum kahan
+	for p := 0; p < n; p++ {
+		c := -zmax + h*(2*float64(p)+1)
+		var ps float64
+		for i, t := range r.x {
+			z := c + h*t
+			lw := math.Log(h*r.w[i]) - 0.5*z*z - 0.5*math.Log(2*math.Pi)
+			if fast {
+				var lin float64
+				for g, l := range mn.lam {
+					lz := l * z
+					is := 1 / mn.sig[g]
+					e := normCDF((lz - x) * is)
+					if two {
+						if lo := (nx - lz) * is; lo > -38.5 {
+							e += normCDF(lo)
+						}
+					}
+					if e < 1e-9 {
+						lin -= mn.mult[g] * e * (1 + 0.5*e)
+					} else {
+						lin += mn.mult[g] * math.Log1p(-e)
+					}
+				}
+				ps += math.Exp(lw) * -math.Expm1(lin)
+				continue
+			}
+			// Deep tail: 1 - Π(1 - e_i) = Σ e_i to within the e_i.
+			le := math.Inf(-1)
+			for g, l := range mn.lam {
+				lz := l * z
+				v := dist.LogNormalUpper((x - lz) / mn.sig[g])
+				if two {
+					v = logAddExp(v, dist.LogNormalUpper((x+lz)/mn.sig[g]))
+				}
+				le = logAddExp(le, math.Log(mn.mult[g])+v)
+			}
+			lv := lw + le
+			mn.buf = append(mn.buf, lv)
+			top = math.Max(top, lv)
+		}
+		sum.add(ps)
+	}
+	if fast {
+		return math.Log(sum.value())
+	}
+	return logSumExp(mn.buf, top)
+}
+
+// logLowerNeg returns log P(max X_i <= x) for x < 0, in log space.
+func (mn *maxNormal) logLowerNeg(x float64) float64 {
+	zmax := math.Sqrt(mn.q*x*x + 80 + 2*math.Log1p(math.Abs(x)))
+	n := int(math.Ceil(2 * zmax / mn.negW))
+	h := zmax / float64(n)
+	r := gaussLegendre()
+	mn.buf = mn.buf[:0]
+	top := math.Inf(-1)
+	for p := 0; p < n; p++ {
+		c := -zmax + h*(2*float64(p)+1)
+		for i, t := range r.x {
+			z := c + h*t
+			lv := math.Log(h*r.w[i]) - 0.5*z*z - 0.5*math.Log(2*math.Pi)
+			for g, l := range mn.lam {
+				lv += mn.mult[g] * dist.LogNormalUpper((l*z-x)/mn.sig[g])
+			}
+			mn.buf = append(mn.buf, lv)
+			top = math.Max(top, lv)
+		}
+	}
+	return logSumExp(mn.buf, top)
+}
+
+// logAddExp returns log(e^a + e^b).
+func logAddExp(a, b float64) float64 {
+	if a < b {
+		a, b = b, a
+	}
+	if math.IsInf(b, -1) {
+		return a
+	}
+	return a + math.Log1p(math.Exp(b-a))
+}
+
+// logSumExp returns log Σ e^{v_i} given top = max v_i.
+func logSumExp(v []float64, top float64) float64 {
+	if math.IsInf(top, -1) {
+		return top
+	}
+	var s kahan
+	for _, x := range v {
+		s.add(math.Exp(x - top))
+	}
+	return top + math.Log(s.value())
+}
+
+// maxT evaluates P(max T_i >= c) (or of |T_i|) for T_i = X_i/S, X as in
+// maxNormal and S² = χ²_ν/ν independent, by mixing the normal tails over
+// S (logMix). The normal tails are held in Chebyshev tables built on first
+// use, so all the p-values of a family and the iterations for its critical
+// value share the inner integrals.
+type maxT struct {
+	mn       *maxNormal
+	df       float64
+	two      bool
+	m        float64
+	up, negT *logTable
+}
+
+func newMaxT(lam []float64, df float64, two bool) *maxT {
+	mn := newMaxNormal(lam)
+	t := &maxT{mn: mn, df: df, two: two, m: float64(len(lam))}
+	t.up = newLogTable(func(x float64) float64 { return mn.logUpper(x, two) }, quadShape(0.5))
+	t.negT = newLogTable(mn.logLowerNeg, quadShape(0.5))
+	return t
+}
+
+// logSingle returns log P(|X| > x) or log P(X > x) for one component.
+func (t *maxT) logSingle(x float64) float64 {
+	v := dist.LogNormalUpper(x)
+	if t.two {
+		v += math.Ln2
+	}
+	return v
+}
+
+// upper returns P(max T_i >= c) (one-sided) or P(max |T_i| >= c).
+func (t *maxT) upper(c float64) float64 {
+	return math.Exp(t.logUpper(c))
+}
+
+// logUpper returns the log of upper(c).
+func (t *maxT) logUpper(c float64) float64 {
+	if c <= 0 && t.two {
+		return 0
+	}
+	if c < 0 {
+		// One-sided with c < 0: 1 - P(max T_i < c), the latter small.
+		var l float64
+		if math.IsInf(t.df, 1) {
+			l = t.mn.logLowerNeg(c)
+		} else {
+			sp := mixSpec{
+				logT: t.negT.log,
+				// Independent components give the lower bound for
+				// positive correlations (Slepian 1962 Bell Syst Tech J
+				// 41:463); any one component bounds it from above.
+				lo: func(x float64) float64 { return t.m * dist.LogNormalUpper(-x) },
+				hi: func(x float64) float64 { return dist.LogNormalUpper(-x) },
+			}
+			l = logMix(sp, c, t.df)
+		}
+		return math.Log1p(-math.Exp(l))
+	}
+	if c == 0 {
+		return math.Log1p(-math.Exp(t.mn.logLowerNegAt0()))
+	}
+	if math.IsInf(t.df, 1) {
+		return math.Min(0, t.mn.logUpper(c, t.two))
+	}
+	lm := math.Log(t.m)
+	sp := mixSpec{
+		logT: t.up.log,
+		// The most extreme of the components exceeds c at least as often
+		// as any one, and at most m times as often (union bound).
+		lo: t.logSingle,
+		hi: func(x float64) float64 { return math.Min(0, lm+t.logSingle(x)) },
+	}
+	return math.Min(0, logMix(sp, c, t.df))
+}
+
+// logLowerNegAt0 returns log P(max X_i <= 0).
+func (mn *maxNormal) logLowerNegAt0() float64 { return mn.logLowerNeg(0) }
+
 // maxTUpperProduct returns the probability that the largest of T_i = X_i/S
 // exceeds c, where X is multivariate normal with unit variances and
 // correlations λ_i λ_j, and S² = χ²_ν/ν independent of X:
 //
 //	two-sided:  P(max |T_i| >= c)
 //	one-sided:  P(max T_i >= c)
-//
-// Writing X_i = λ_i Z + sqrt(1-λ_i²) Y_i with independent standard normals
-// Z, Y_i (Dunnett 1955 JASA 50:1096; Genz & Bretz 2009, Computation of
-// Multivariate Normal and t Probabilities, §2.2.1), conditional on S = s and
-// Z = z the X_i are independent, so
-//
-//	P = ∫ f_ν(s) ∫ φ(z) [1 - Π_i (1 - e_i(s, z))] dz ds
-//
-// with e_i the conditional exceedance probability of component i. The
-// bracket is evaluated as -expm1(Σ log(1 - e_i)), so a small P keeps its
-// relative accuracy. Both integrals use adaptive Gauss-Legendre panels.
 func maxTUpperProduct(c float64, lam []float64, df float64, twoSided bool) float64 {
-	if twoSided && c <= 0 {
-		return 1
-	}
-	sig := make([]float64, len(lam))
-	lmax := 0.0
-	for i, l := range lam {
-		sig[i] = math.Sqrt((1 - l) * (1 + l))
-		lmax = math.Max(lmax, math.Abs(l))
-	}
-	inner := func(s float64) float64 {
-		cs := c * s
-		h := func(z float64) float64 {
-			var logIn float64
-			for i, l := range lam {
-				lz := l * z
-				var e, pin float64
-				if twoSided {
-					lo := (-cs - lz) / sig[i]
-					up := (cs - lz) / sig[i]
-					e = normCDF(lo) + normCDF(-up)
-					if e < 0.5 {
-						logIn += math.Log1p(-e)
-						continue
-					}
-					switch {
-					case lo > 0:
-						pin = normCDF(-lo) - normCDF(-up)
-					case up < 0:
-						pin = normCDF(up) - normCDF(lo)
-					default:
-						pin = 1 - e
-					}
-				} else {
-					up := (cs - lz) / sig[i]
-					e = normCDF(-up)
-					if e < 0.5 {
-						logIn += math.Log1p(-e)
-						continue
-					}
-					pin = normCDF(up)
-				}
-				if pin <= 0 {
-					return normPDF(z)
-				}
-				logIn += math.Log(pin)
-			}
-			return normPDF(z) * -math.Expm1(logIn)
-		}
-		w := lmax * math.Abs(cs)
-		return integrate(h, span(-w-9, w+9, 1.5), quadAbsTol*1e-3, quadRelTol)
-	}
-	v := chiMix(inner, df, quadAbsTol, quadRelTol)
-	return math.Min(1, math.Max(0, v))
+	return newMaxT(lam, df, twoSided).upper(c)
 }
 
 // checkCorr validates a correlation matrix of the test statistics.
@@ -189,6 +378,18 @@ func MaxTUpper(c float64, corr mat.Symmetric, df float64, side Side) (float64, e
 	return maxTUpperProduct(c, lam, df, side == TwoSided), nil
 }
 
+// quantile returns the c with P(max T >= c) = alpha.
+//
+// The root lies between the single-comparison quantile and the Bonferroni
+// quantile, which bracket the search.
+func (t *maxT) quantile(alpha float64) (float64, error) {
+	a1, am := alpha, alpha/t.m
+	if t.two {
+		a1, am = alpha/2, am/2
+	}
+	return solveLogTailIn(t.logUpper, alpha, dist.TUpperQuantile(a1, t.df), dist.TUpperQuantile(am, t.df))
+}
+
 // DunnettCritical returns the c with MaxTUpper(c) = alpha, the multiplier
 // of the simultaneous (1 - alpha) intervals, by root finding on the
 // quadrature.
@@ -200,8 +401,7 @@ func DunnettCritical(alpha float64, corr mat.Symmetric, df float64, side Side) (
 		return math.NaN(), err
 	}
 	lam, _ := ProductFactors(corr)
-	two := side == TwoSided
-	c, err := solveLogTail(func(c float64) float64 { return math.Log(maxTUpperProduct(c, lam, df, two)) }, alpha, 2)
+	c, err := newMaxT(lam, df, side == TwoSided).quantile(alpha)
 	if err != nil {
 		return math.NaN(), fmt.Errorf("dunnett critical value: %w", err)
 	}
@@ -228,24 +428,28 @@ func Dunnett(est, se []float64, corr mat.Symmetric, df float64, side Side, level
 			return nil, fmt.Errorf("dunnett: comparison %d has estimate %v and standard error %v", i, est[i], se[i])
 		}
 	}
-	crit, err := DunnettCritical(1-level, corr, df, side)
-	if err != nil {
+	if _, err := MaxTUpper(1, corr, df, side); err != nil {
 		return nil, fmt.Errorf("dunnett: %w", err)
 	}
 	lam, _ := ProductFactors(corr)
+	mt := newMaxT(lam, df, side == TwoSided)
+	crit, err := mt.quantile(1 - level)
+	if err != nil {
+		return nil, fmt.Errorf("dunnett: dunnett critical value: %w", err)
+	}
 	f := &Family{Method: "dunnett", Side: side, Level: level, DF: df, Critical: crit}
 	for i := range est {
 		t := est[i] / se[i]
 		c := Comparison{Estimate: est[i], SE: se[i], T: t}
 		switch side {
 		case TwoSided:
-			c.PAdjusted = maxTUpperProduct(math.Abs(t), lam, df, true)
+			c.PAdjusted = mt.upper(math.Abs(t))
 			c.Lower, c.Upper = est[i]-crit*se[i], est[i]+crit*se[i]
 		case Greater:
-			c.PAdjusted = maxTUpperProduct(t, lam, df, false)
+			c.PAdjusted = mt.upper(t)
 			c.Lower, c.Upper = est[i]-crit*se[i], math.Inf(1)
 		case Less:
-			c.PAdjusted = maxTUpperProduct(-t, lam, df, false)
+			c.PAdjusted = mt.upper(-t)
 			c.Lower, c.Upper = math.Inf(-1), est[i]+crit*se[i]
 		default:
 			return nil, fmt.Errorf("dunnett: unknown alternative %v", side)
@@ -254,3 +458,4 @@ func Dunnett(est, se []float64, corr mat.Symmetric, df float64, side Side, level
 	}
 	return f, nil
 }
+var dunW, dunNegW = 2.5, 1.5

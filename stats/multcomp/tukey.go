@@ -357,8 +357,15 @@ func QTukeyUpper(alpha float64, k int, df float64) (float64, error) {
 }
 
 // quantile returns the q with P(Q > q) = alpha.
+//
+// The root is bracketed by the single-pair quantile √2·t_{α/2} (the range
+// exceeds any one pair's difference) and the Bonferroni quantile
+// √2·t_{α/k(k-1)} (union over the pairs).
 func (td *tukeyDist) quantile(alpha float64) (float64, error) {
-	return solveLogTail(td.logUpper, alpha, 3)
+	np := float64(td.k) * float64(td.k-1) / 2
+	lo := math.Sqrt2 * dist.TUpperQuantile(alpha/2, td.df)
+	hi := math.Sqrt2 * dist.TUpperQuantile(alpha/(2*np), td.df)
+	return solveLogTailIn(td.logUpper, alpha, lo, hi)
 }
 
 // solveLogTail finds x > 0 with tail(x) = alpha for a tail function
@@ -367,6 +374,13 @@ func (td *tukeyDist) quantile(alpha float64) (float64, error) {
 // Illinois variant of regula falsi to log tail(x) - log alpha, ending with
 // bisection safeguards (Dowell & Jarratt 1971 BIT 11:168).
 func solveLogTail(logTail func(float64) float64, alpha, start float64) (float64, error) {
+	return solveLogTailIn(logTail, alpha, 0, start)
+}
+
+// solveLogTailIn is solveLogTail with a bracket guess [lo, hi]; lo is used
+// when tail(lo) >= alpha (else 0), and hi is doubled until tail(hi) <=
+// alpha.
+func solveLogTailIn(logTail func(float64) float64, alpha, lo0, start float64) (float64, error) {
 	la := math.Log(alpha)
 	g := func(x float64) float64 {
 		v := logTail(x)
@@ -377,6 +391,14 @@ func solveLogTail(logTail func(float64) float64, alpha, start float64) (float64,
 	}
 	lo, hi := 0.0, start
 	glo := -la // log 1 - log alpha > 0
+	if lo0 > 0 && lo0 < start && !math.IsNaN(lo0) {
+		if gl := g(lo0); gl >= 0 {
+			lo, glo = lo0, gl
+		}
+	}
+	if !(hi > lo) || math.IsNaN(hi) {
+		hi = math.Max(2*lo, 2)
+	}
 	ghi := g(hi)
 	for i := 0; ghi > 0; i++ {
 		if i > 60 {
