@@ -1,6 +1,7 @@
 package checker
 
 import (
+	"bytes"
 	"encoding/json"
 	"math"
 	"os"
@@ -186,6 +187,27 @@ func TestOatsSplitPlotEndToEnd(t *testing.T) {
 			}
 			if fs := ep.Steps[0].Fit; fs.Method != "reml" || !fs.Converged || !closeTo(float64(fs.Sigma), math.Sqrt(177.083333333333), 1e-6) {
 				t.Errorf("fit summary %+v", *fs)
+			}
+			// The record of a mixed step meets the published schema, and a
+			// second run gives the same bytes.
+			if m == "satterthwaite" {
+				var recs [2][]byte
+				for k, res := range []*Result{r, publishedRun(t, "oats.yaml", filepath.Join(refDir, "agri", "oats_MASS.csv"), "oats.csv", "DFMETHOD", m)} {
+					if err := Seal(res, nil); err != nil {
+						t.Fatal(err)
+					}
+					b, err := EncodeRecord(res)
+					if err != nil {
+						t.Fatal(err)
+					}
+					if err := ValidateRecord(b); err != nil {
+						t.Fatalf("record: %v", err)
+					}
+					recs[k] = b
+				}
+				if !bytes.Equal(recs[0], recs[1]) {
+					t.Error("two runs of the mixed step gave different records")
+				}
 			}
 			// The same fit in R (ref.R: lme4 1.1-31, lmerTest 3.1-3 anova type 3 with
 			// this ddf; pbkrtest 0.5.2 for Kenward-Roger): F 1e-6, df 1e-3 relative.
