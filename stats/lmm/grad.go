@@ -56,13 +56,17 @@ type selWork struct {
 	vs   []float64
 	vx   []float64
 	bs   []int
-	pos  []int // na x nnz positions of a level's entries in its ancestors' rows
+	pos  []int     // na x nnz positions of a level's entries in its ancestors' rows
+	lb   []float64 // dense-row factors: the columns of L as rows, q_j x (m+p)
+	vb   []float64 // and their products with the tail inverse
+	// needML asks for the ML trace pieces tzv (the REML search skips them).
+	needML bool
 }
 
 func (s *system) newSel() *selWork {
 	p := s.p
 	tt := s.m + p
-	sw := &selWork{st: make([]float64, tt*tt)}
+	sw := &selWork{st: make([]float64, tt*tt), needML: true}
 	if s.buckets != nil {
 		return sw
 	}
@@ -165,7 +169,9 @@ func (s *system) gradParts(theta []float64, w *work, sw *selWork, wantJ bool) (*
 		for c := 0; c < p; c++ {
 			vx[c] = st[i*tt+m+c]
 		}
-		pr.tzv[k] += g + lxxNorm(vx)
+		if sw.needML {
+			pr.tzv[k] += g + lxxNorm(vx)
+		}
 		if wantJ {
 			addOuter(pr.sux[k], vx)
 		}
@@ -175,6 +181,10 @@ func (s *system) gradParts(theta []float64, w *work, sw *selWork, wantJ bool) (*
 	for j := s.s - 1; j >= 0; j-- {
 		na := s.s - 1 - j
 		D, anc, dv := w.D[j], w.anc[j], w.dv[j]
+		if na == 0 && m > 0 && s.denseRows[j] {
+			s.denseSel(j, w, sw, pr, wantJ, lxxNorm)
+			continue
+		}
 		for a := 0; a < s.q[j]; a++ {
 			if s.d[j][a] == 0 {
 				sw.diag[j][a] = 1
@@ -301,13 +311,85 @@ func (s *system) gradParts(theta []float64, w *work, sw *selWork, wantJ bool) (*
 			for c := 0; c < p; c++ {
 				sw.sx[j][a*p+c] = -vx[c]
 			}
-			pr.tzv[j] += g + lxxNorm(vx)
+			if sw.needML {
+				pr.tzv[j] += g + lxxNorm(vx)
+			}
 			if wantJ {
 				addOuter(pr.sux[j], vx)
 			}
 		}
 	}
 	return pr, nil
+}
+
+// denseSel is the selected inversion of a chain factor without ancestors
+// whose rows are mostly full: the products of its L columns with the tail
+// inverse are one matrix product.
+func (s *system) denseSel(j int, w *work, sw *selWork, pr *parts, wantJ bool, lxxNorm func([]float64) float64) {
+	p, m := s.p, s.m
+	p1 := p + 1
+	tt := m + p
+	q := s.q[j]
+	if len(sw.lb) < q*tt {
+		sw.lb = make([]float64, q*tt)
+		sw.vb = make([]float64, q*tt)
+	}
+	lb, vb := sw.lb[:q*tt], sw.vb[:q*tt]
+	for i := range lb {
+		lb[i] = 0
+	}
+	D, dv := w.D[j], w.dv[j]
+	for a := 0; a < q; a++ {
+		if s.d[j][a] == 0 {
+			continue
+		}
+		piv := 1 + D[a]
+		row := lb[a*tt : (a+1)*tt]
+		for e := s.ptr[j][a]; e < s.ptr[j][a+1]; e++ {
+			row[s.col[j][e]] = w.sv[j][e] / piv
+		}
+		for c := 0; c < p; c++ {
+			row[m+c] = dv[a*p1+c] / piv
+		}
+	}
+	blas64.Gemm(blas.NoTrans, blas.NoTrans, 1,
+		blas64.General{Rows: q, Cols: tt, Stride: tt, Data: lb},
+		blas64.General{Rows: tt, Cols: tt, Stride: tt, Data: sw.st},
+		0, blas64.General{Rows: q, Cols: tt, Stride: tt, Data: vb})
+	for a := 0; a < q; a++ {
+		if s.d[j][a] == 0 {
+			sw.diag[j][a] = 1
+			for c := 0; c < p; c++ {
+				sw.sx[j][a*p+c] = 0
+			}
+			for e := s.ptr[j][a]; e < s.ptr[j][a+1]; e++ {
+				sw.sv[j][e] = 0
+			}
+			continue
+		}
+		piv := 1 + D[a]
+		lr, vr := lb[a*tt:(a+1)*tt], vb[a*tt:(a+1)*tt]
+		var lv float64
+		for i, v := range lr {
+			lv += v * vr[i]
+		}
+		sw.diag[j][a] = 1/piv + lv
+		g := D[a]/piv - lv
+		pr.tz[j] += g
+		for e := s.ptr[j][a]; e < s.ptr[j][a+1]; e++ {
+			sw.sv[j][e] = -vr[s.col[j][e]]
+		}
+		vx := vr[m : m+p]
+		for c := 0; c < p; c++ {
+			sw.sx[j][a*p+c] = -vx[c]
+		}
+		if sw.needML {
+			pr.tzv[j] += g + lxxNorm(vx)
+		}
+		if wantJ {
+			addOuter(pr.sux[j], vx)
+		}
+	}
 }
 
 // bucketParts fills the pieces for a single grouping factor whose levels

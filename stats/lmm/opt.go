@@ -20,7 +20,9 @@ type gradEvaluator struct {
 }
 
 func (s *system) newGradEvaluator(crit Criterion) *gradEvaluator {
-	return &gradEvaluator{s: s, crit: crit, wk: s.newWork(), sw: s.newSel()}
+	sw := s.newSel()
+	sw.needML = crit == ML
+	return &gradEvaluator{s: s, crit: crit, wk: s.newWork(), sw: sw}
 }
 
 // at returns the profiled criterion and fills g with its gradient; with
@@ -211,7 +213,7 @@ func (s *system) minimizeAnalytic(crit Criterion, maxIter int) ([]float64, optim
 			status = optimize.Success
 			break
 		}
-		if gRatio > 0.25 {
+		if gRatio > 1 {
 			if H, err = ge.fwdHessian(x, g); err != nil {
 				return nil, 0, iters, ge.evals, err
 			}
