@@ -27,7 +27,9 @@ func exampleRun(t *testing.T, name string) (*Result, string) {
 		t.Fatal(err)
 	}
 	for _, e := range entries {
-		if e.IsDir() || strings.HasSuffix(e.Name(), ".md") || strings.HasSuffix(e.Name(), ".png") {
+		// The committed registration is checked by TestExampleRegistrations;
+		// the copy is registered afresh with a fixed clock.
+		if e.IsDir() || strings.HasSuffix(e.Name(), ".md") || strings.HasSuffix(e.Name(), ".png") || strings.HasSuffix(e.Name(), ".registration.json") {
 			continue
 		}
 		b, err := os.ReadFile(filepath.Join(src, e.Name()))
@@ -161,5 +163,28 @@ func TestExampleReportsInBrowser(t *testing.T) {
 			probe, errs := probeReport(t, page, shot)
 			checkRenderedReport(t, probe, errs, want)
 		})
+	}
+}
+
+// TestExampleRegistrations checks that each example's committed
+// registration record has an intact chain whose head registers the plan as
+// it is now, so "furrow run" on a fresh checkout needs no --unregistered.
+func TestExampleRegistrations(t *testing.T) {
+	for _, name := range exampleNames {
+		pp := filepath.Join("..", "examples", name, "plan.yaml")
+		p, ds, err := plan.Load(pp)
+		if err != nil || ds.HasErrors() {
+			t.Fatalf("%s: %v %v", name, err, ds)
+		}
+		reg, _, err := ReadRegistration(RegistrationPath(pp))
+		if err != nil {
+			t.Fatalf("%s: %v (register the example with: go run ./cmd/furrow register %s)", name, err, filepath.ToSlash(pp)[3:])
+		}
+		if errs := reg.CheckChain(); len(errs) > 0 {
+			t.Errorf("%s: registration chain broken: %v", name, errs)
+		}
+		if h := reg.Head(); h == nil || h.PlanHash != plan.Hash(p) {
+			t.Errorf("%s: the registration does not register the current plan (re-register after an amendment)", name)
+		}
 	}
 }

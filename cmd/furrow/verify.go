@@ -5,6 +5,8 @@ import (
 	"fmt"
 	"os"
 	"runtime"
+	"sort"
+	"strings"
 
 	"furrow/checker"
 )
@@ -78,8 +80,69 @@ func runVerify(e *env, c *command, args []string) int {
 	} else if rep.OK() {
 		fmt.Fprintf(e.stdout, "%s: no undeclared deviation\n", e.rel(pos[0]))
 	} else {
-		n := 0
-		for _, d := range rep.Deviations {
+		writeDeviations(e, pos[0], rep.Deviations)
+	}
+	if !rep.OK() {
+		return exitFindings
+	}
+	return exitOK
+}
+
+func goVersion() string { return runtime.Version() }
+
+// maxShownPerCode is how many deviations of one code the text output lists
+// before it summarises the rest; --json lists all.
+const maxShownPerCode = 6
+
+// codeOrder is the order in which deviation codes are printed: what
+// invalidates the record first, informational last.
+var codeOrder = []checker.DeviationCode{
+	checker.DevRecordEdited, checker.DevPlanChanged, checker.DevAmendmentAfterLock, checker.DevDataChanged,
+	checker.DevUnregisteredRun, checker.DevStepNotDeclared, checker.DevResultsDiffer, checker.DevToolVersion,
+}
+
+// fieldWeight orders differing fields so that decisions and verdicts come
+// before statistics, and the data behind figures last.
+func fieldWeight(field string) int {
+	switch {
+	case strings.Contains(field, "decision") || strings.Contains(field, "verdict") ||
+		strings.HasSuffix(field, ".status") || strings.HasSuffix(field, ".reported"):
+		return 0
+	case strings.Contains(field, ".checks["):
+		return 1
+	case strings.Contains(field, ".figures") || strings.Contains(field, ".observed"):
+		return 3
+	}
+	return 2
+}
+
+// writeDeviations prints the deviations grouped by code, each group's
+// most telling fields first, at most maxShownPerCode lines per code.
+func writeDeviations(e *env, dir string, devs []checker.Deviation) {
+	byCode := map[checker.DeviationCode][]checker.Deviation{}
+	seen := map[string]bool{}
+	for _, d := range devs {
+		key := string(d.Code) + "\x00" + d.Field
+		if seen[key] {
+			continue
+		}
+		seen[key] = true
+		byCode[d.Code] = append(byCode[d.Code], d)
+	}
+	n := 0
+	for _, code := range codeOrder {
+		list := byCode[code]
+		sort.SliceStable(list, func(i, j int) bool { return fieldWeight(list[i].Field) < fieldWeight(list[j].Field) })
+		for i, d := range list {
+			if !code.Informational() {
+				n++
+			}
+			if i == maxShownPerCode {
+				fmt.Fprintf(e.stdout, "%s: and %d more fields (all of them with --json)\n", code, len(list)-maxShownPerCode)
+			}
+			if i >= maxShownPerCode {
+				continue
+			}
 			where := d.Field
 			if where == "" {
 				where = "-"
@@ -89,16 +152,7 @@ func runVerify(e *env, c *command, args []string) int {
 				line += fmt.Sprintf(" (recorded %s, now %s)", d.Recorded, d.Now)
 			}
 			fmt.Fprintln(e.stdout, line)
-			if !d.Code.Informational() {
-				n++
-			}
 		}
-		fmt.Fprintf(e.stdout, "%s: %d deviations\n", e.rel(pos[0]), n)
 	}
-	if !rep.OK() {
-		return exitFindings
-	}
-	return exitOK
+	fmt.Fprintf(e.stdout, "%s: %s\n", e.rel(dir), plural(n, "deviation"))
 }
-
-func goVersion() string { return runtime.Version() }
