@@ -101,6 +101,9 @@ func (s *system) newSel() *selWork {
 // wantJ asks for the sums Sigma_{aX} Sigma_{aX}' per factor, which give the
 // derivatives of Cov(beta).
 func (s *system) gradParts(theta []float64, w *work, sw *selWork, wantJ bool) (*parts, error) {
+	if s.m > 0 && len(w.pre) != (s.m+s.p)*s.m {
+		w.pre = make([]float64, (s.m+s.p)*s.m)
+	}
 	e, err := s.eval(theta, w)
 	if err != nil {
 		return nil, err
@@ -160,11 +163,29 @@ func (s *system) gradParts(theta []float64, w *work, sw *selWork, wantJ bool) (*
 		}
 		pr.uu[k] = ss
 	}
-	// Rest levels: read off the tail inverse.
+	// Rest levels: read off the tail inverse. With the tail block S and
+	// its inverse Sigma, Sigma S = I gives 1 - Sigma_ii =
+	// sum_j Sigma_ij (S - I)_ji + sum_c Sigma_{i,c} S_{c,i} (c over X),
+	// whose terms are all of order theta^2: no cancellation for small
+	// theta (eval keeps S - I of the rest block in w.pre).
 	vx := sw.vx
+	pre := w.pre
 	for i := 0; i < m; i++ {
 		k := s.facOf[i]
-		g := 1 - st[i*tt+i]
+		var g float64
+		row := st[i*tt : (i+1)*tt]
+		for j := 0; j < m; j++ {
+			var e float64
+			if j >= i {
+				e = pre[j*m+i]
+			} else {
+				e = pre[i*m+j]
+			}
+			g += row[j] * e
+		}
+		for c := 0; c < p; c++ {
+			g += row[m+c] * pre[(m+c)*m+i]
+		}
 		pr.tz[k] += g
 		for c := 0; c < p; c++ {
 			vx[c] = st[i*tt+m+c]

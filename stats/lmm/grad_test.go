@@ -3,6 +3,7 @@ package lmm
 import (
 	"fmt"
 	"math"
+	"math/rand/v2"
 	"testing"
 
 	"gonum.org/v1/gonum/mat"
@@ -73,6 +74,21 @@ func gradCases(t *testing.T) []gradCase {
 		}
 	}
 	cs = append(cs, gradCase{"crossed unbalanced weighted", ys, Xs, gs, ws})
+	// Boundary: genotype means of the response made exactly equal, so the
+	// genotype variance is estimated as zero.
+	yb, Xb, gb, _ := crossedTrial(8, 12, 2)
+	gm := make([]float64, 12)
+	cnt := make([]float64, 12)
+	for i, v := range yb {
+		gm[gb[1].Index[i]] += v
+		cnt[gb[1].Index[i]]++
+	}
+	yb2 := make([]float64, len(yb))
+	for i, v := range yb {
+		a := gb[1].Index[i]
+		yb2[i] = v - gm[a]/cnt[a]
+	}
+	cs = append(cs, gradCase{"crossed boundary genotype", yb2, Xb, gb, nil})
 	yr, Xr, gr, _ := repeatedMeasures(400)
 	cs = append(cs, gradCase{"repeated measures (buckets)", yr, Xr, gr, nil})
 	return cs
@@ -236,6 +252,134 @@ func TestAnalyticSatterthwaite(t *testing.T) {
 				t.Fatal(err)
 			}
 			check(t, fmt.Sprintf("%s %v multi-df F df", c.name, crit), an.DenDF, nu.DenDF, 1e-6, 0)
+		}
+	}
+}
+
+// TestAnalyticOptimumRandomDesigns: on seeded random designs (two or three
+// crossed or nested factors, missing cells, some true variances zero) the
+// analytic search converges and agrees with the difference-based search.
+func TestAnalyticOptimumRandomDesigns(t *testing.T) {
+	rng := rand.New(rand.NewPCG(11, 12))
+	checked, maxEv := 0, 0
+	defer func() { t.Logf("%d designs checked, at most %d evaluations", checked, maxEv) }()
+	for rep := 0; rep < 30; rep++ {
+		na, nb := 3+rng.IntN(6), 3+rng.IntN(8)
+		nested := rng.IntN(3) == 0
+		sds := []float64{rng.Float64() * 2, rng.Float64() * 2, rng.Float64()}
+		for i := range sds {
+			if rng.IntN(4) == 0 {
+				sds[i] = 0
+			}
+		}
+		ua := make([]float64, na)
+		ub := make([]float64, na*nb)
+		uab := make([]float64, na*nb)
+		for i := range ua {
+			ua[i] = sds[0] * rng.NormFloat64()
+		}
+		for i := range ub {
+			ub[i] = sds[1] * rng.NormFloat64()
+			uab[i] = sds[2] * rng.NormFloat64()
+		}
+		var y []float64
+		var ia, ib, iab []int
+		var xs []float64
+		for a := 0; a < na; a++ {
+			for b := 0; b < nb; b++ {
+				if rng.IntN(5) == 0 {
+					continue // missing cell
+				}
+				bl := b
+				if nested {
+					bl = a*nb + b
+				}
+				for r := 0; r < 1+rng.IntN(3); r++ {
+					x := rng.NormFloat64()
+					xs = append(xs, x)
+					ia, ib, iab = append(ia, a), append(ib, bl), append(iab, a*nb+b)
+					y = append(y, 3+0.5*x+ua[a]+ub[bl%len(ub)]+uab[a*nb+b]+rng.NormFloat64())
+				}
+			}
+		}
+		n := len(y)
+		X := mat.NewDense(n, 2, nil)
+		for i := 0; i < n; i++ {
+			X.Set(i, 0, 1)
+			X.Set(i, 1, xs[i])
+		}
+		nbl := nb
+		if nested {
+			nbl = na * nb
+		}
+		g := []Grouping{{Name: "a", Index: ia, Levels: na}, {Name: "b", Index: ib, Levels: nbl}}
+		if !nested && rng.IntN(2) == 0 {
+			g = append(g, Grouping{Name: "a:b", Index: iab, Levels: na * nb})
+		}
+		sys, err := newSystem(y, X, g, nil)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if err := sys.checkGroupings(g); err != nil {
+			continue
+		}
+		obj := func(th []float64) float64 {
+			e, err := sys.eval(th, nil)
+			if err != nil {
+				return math.Inf(1)
+			}
+			return sys.profiled(e, REML)
+		}
+		ta, st, _, ev, err := sys.minimizeAnalytic(REML, 500)
+		if err != nil || st.String() != "Success" {
+			t.Errorf("design %d: analytic search: status %v after %d evaluations, %v", rep, st, ev, err)
+			continue
+		}
+		checked++
+		maxEv = max(maxEv, ev)
+		tn, _, _, _, err := minimize(obj, sys.nf, 500)
+		if err != nil {
+			t.Fatal(err)
+		}
+		fa, fn := obj(ta), obj(tn)
+		if fa > fn+1e-9*math.Abs(fn) {
+			t.Errorf("design %d: analytic optimum %.12g worse than %.12g", rep, fa, fn)
+		}
+		for i := range ta {
+			check(t, fmt.Sprintf("design %d theta_%d", rep, i), ta[i], tn[i], 1e-5, 1e-6)
+		}
+	}
+}
+
+// TestGradientSmallTheta: near a boundary the gradient in theta_k is
+// theta_k f''(0) to first order, so g_k/theta_k at theta_k = 1e-9 must
+// equal its value at 1e-5 (they differ by O(1e-10) relative). This catches
+// cancellation in the trace terms, which the difference check above cannot
+// resolve at such small theta.
+func TestGradientSmallTheta(t *testing.T) {
+	for _, c := range gradCases(t) {
+		sys, err := newSystem(c.y, c.X, c.g, c.w)
+		if err != nil {
+			t.Fatal(err)
+		}
+		for _, crit := range []Criterion{REML, ML} {
+			ge := sys.newGradEvaluator(crit)
+			for k := 0; k < sys.nf; k++ {
+				var ratio [2]float64
+				for i, v := range []float64{1e-9, 1e-5} {
+					x := make([]float64, sys.nf)
+					for j := range x {
+						x[j] = 0.7 + 0.1*float64(j)
+					}
+					x[k] = v
+					g := make([]float64, sys.nf)
+					if _, _, err := ge.at(x, g, 0, false); err != nil {
+						t.Fatal(err)
+					}
+					ratio[i] = g[k] / v
+				}
+				check(t, fmt.Sprintf("%s %v g_%d/theta_%d near zero", c.name, crit, k, k), ratio[0], ratio[1], 1e-6, 1e-9)
+			}
 		}
 	}
 }

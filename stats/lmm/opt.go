@@ -157,14 +157,25 @@ func (s *system) minimizeAnalytic(crit Criterion, maxIter int) ([]float64, optim
 		// or flips its sign: the quadratic model is poor there (the
 		// criterion is even, flat near zero). Close to zero Newton steps
 		// are reliable and boundary fits converge quadratically.
-		t := 1.0
+		// The offending components are cut back; if that spoils the
+		// descent, the whole step is shortened instead.
+		clamped := append([]float64(nil), step...)
+		tmax := 1.0
 		for i := range x {
 			if math.Abs(x[i]) >= 1e-3 && step[i] != 0 {
 				if r := (x[i] - step[i]) / x[i]; r < 0.25 {
-					t = math.Min(t, 0.75*x[i]/step[i])
+					clamped[i] = 0.75 * x[i]
+					tmax = math.Min(tmax, 0.75*x[i]/step[i])
 				}
 			}
 		}
+		if cs := floats.Dot(g, clamped); cs > 0.1*slope {
+			step, slope = clamped, cs
+		} else {
+			floats.Scale(tmax, step)
+			slope *= tmax
+		}
+		t := 1.0
 		accepted := false
 		var fn float64
 		for ls := 0; ls < 40; ls++ {
@@ -213,7 +224,24 @@ func (s *system) minimizeAnalytic(crit Criterion, maxIter int) ([]float64, optim
 			status = optimize.Success
 			break
 		}
-		if gRatio > 1 {
+		// Boundary probe: a small theta whose gradient points to zero is
+		// tried at zero. Where the criterion is flat to fourth order at
+		// the boundary, Newton steps only shrink theta geometrically.
+		probed := false
+		for i := range x {
+			if x[i] == 0 || math.Abs(x[i]) >= 1e-3 || x[i]*g[i] <= 0 {
+				continue
+			}
+			copy(xn, x)
+			xn[i] = 0
+			if fp, _, err := ge.at(xn, gn, 0, false); err == nil && fp <= f+1e-12*math.Max(1, math.Abs(f)) {
+				copy(x, xn)
+				copy(g, gn)
+				f = fp
+				probed = true
+			}
+		}
+		if probed || t < 1 || gRatio > 0.5 {
 			if H, err = ge.fwdHessian(x, g); err != nil {
 				return nil, 0, iters, ge.evals, err
 			}

@@ -80,6 +80,9 @@ type work struct {
 	ridx  []int
 	rval  []float64
 	batch []float64
+	// pre, when non-nil, receives the first m columns of rows 0..m+p-1 of
+	// the tail block before its factorisation (for the gradient).
+	pre []float64
 }
 
 // evalOut is the result of one evaluation of the factorisation at theta.
@@ -528,7 +531,6 @@ func (s *system) eval(theta []float64, keep *work) (evalOut, error) {
 		for j := 0; j <= i; j++ {
 			T[i*t+j] = ti * theta[s.facOf[j]] * s.restC[i*m+j]
 		}
-		T[i*t+i]++
 	}
 	if m > 0 {
 		i := 0
@@ -560,6 +562,18 @@ func (s *system) eval(theta []float64, keep *work) (evalOut, error) {
 		}
 	} else {
 		out.ldL2 += s.eliminateChain(theta, w)
+	}
+	// The identity of the rest block is added only now, so that the
+	// copy for the gradient holds S - I exactly.
+	if w.pre != nil {
+		for i := 0; i < m+p; i++ {
+			for j := 0; j < m && j <= i; j++ {
+				w.pre[i*m+j] = T[i*t+j]
+			}
+		}
+	}
+	for i := 0; i < m; i++ {
+		T[i*t+i]++
 	}
 	// Dense Cholesky of the tail (lower, in place).
 	for j := 0; j < t; j++ {
