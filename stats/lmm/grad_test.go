@@ -352,7 +352,7 @@ func TestAnalyticOptimumRandomDesigns(t *testing.T) {
 }
 
 // TestGradientSmallTheta: near a boundary the gradient in theta_k is
-// theta_k f”(0) to first order, so g_k/theta_k at theta_k = 1e-9 must
+// theta_k times the second derivative at zero, so g_k/theta_k at 1e-9 must
 // equal its value at 1e-5 (they differ by O(1e-10) relative). This catches
 // cancellation in the trace terms, which the difference check above cannot
 // resolve at such small theta.
