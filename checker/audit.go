@@ -43,7 +43,7 @@ func Seal(r *Result, key ed25519.PrivateKey) error {
 	}
 	r.Integrity.ContentHash = h
 	if key != nil {
-		r.Integrity.Signature = signContentHash(key, h)
+		r.Integrity.Signature = signContentHash(key, h, r.RunAt)
 	}
 	return nil
 }
@@ -69,8 +69,10 @@ func Seal(r *Result, key ed25519.PrivateKey) error {
 //  4. The hash is "sha256:" followed by the lower-case hex SHA-256 of those bytes.
 //
 // A signature (furrow run --sign) is ed25519 over the bytes
-// "furrow audit record v1\n" followed by the content-hash string
-// ("sha256:..."), stored base64-encoded with the signer's public key.
+// "furrow audit record v1\n", the content-hash string ("sha256:..."),
+// "\nrun_at " and the record's run_at value, stored base64-encoded with
+// the signer's public key. The run time is not in the content hash (two
+// runs give identical content) but the signature covers it.
 func ContentHash(record []byte) (string, error) {
 	dec := json.NewDecoder(bytes.NewReader(record))
 	dec.UseNumber()

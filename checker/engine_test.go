@@ -3,6 +3,7 @@ package checker
 import (
 	"bytes"
 	"crypto/ed25519"
+	"encoding/json"
 	"fmt"
 	"math"
 	"math/rand/v2"
@@ -427,6 +428,21 @@ func TestSignature(t *testing.T) {
 	b, _ := os.ReadFile(filepath.Join(out, AuditFileName))
 	if !bytes.Contains(b, []byte(PublicKeyPrefix)) {
 		t.Fatal("signature block has no public key")
+	}
+	// The run time is outside the content hash but inside the signature:
+	// moving it (say, to after an amendment) breaks the signature.
+	var rec map[string]any
+	if err := json.Unmarshal(b, &rec); err != nil {
+		t.Fatal(err)
+	}
+	moved := strings.Replace(string(b), `"run_at": "`+rec["run_at"].(string)+`"`, `"run_at": "2026-01-01T00:00:00Z"`, 1)
+	if moved == string(b) {
+		t.Fatal("run_at not found in the record")
+	}
+	write(t, filepath.Join(out, AuditFileName), moved)
+	rep, m = verifyCodes(t, VerifyOptions{Dir: out, PublicKey: k1, Tool: ToolInfo{Version: "test"}})
+	if rep.OK() || !strings.Contains(strings.Join(m[DevRecordEdited], " "), "integrity.signature") {
+		t.Fatalf("a signed record with a moved run time passed: %+v", rep.Deviations)
 	}
 }
 

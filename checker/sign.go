@@ -76,9 +76,18 @@ func formatPublicKey(pub ed25519.PublicKey) string {
 	return PublicKeyPrefix + base64.StdEncoding.EncodeToString(pub)
 }
 
-// signContentHash signs the content-hash string.
-func signContentHash(priv ed25519.PrivateKey, contentHash string) *Signature {
-	sig := ed25519.Sign(priv, []byte(signatureDomain+contentHash))
+// signedBytes is what a signature covers: the domain line, the content
+// hash and the run time. The run time is kept out of the content hash so
+// that two runs give identical records; the signature binds it, so a signed
+// record's time (which verify compares with the registration) cannot be
+// moved without showing.
+func signedBytes(contentHash, runAt string) []byte {
+	return []byte(signatureDomain + contentHash + "\nrun_at " + runAt)
+}
+
+// signContentHash signs the content-hash string and the run time.
+func signContentHash(priv ed25519.PrivateKey, contentHash, runAt string) *Signature {
+	sig := ed25519.Sign(priv, signedBytes(contentHash, runAt))
 	return &Signature{
 		Algorithm: "ed25519",
 		PublicKey: formatPublicKey(priv.Public().(ed25519.PublicKey)),
@@ -86,9 +95,9 @@ func signContentHash(priv ed25519.PrivateKey, contentHash string) *Signature {
 	}
 }
 
-// verifySignature checks sig over contentHash. When want is non-nil the
-// signature must have been made by that key.
-func verifySignature(sig *Signature, contentHash string, want ed25519.PublicKey) error {
+// verifySignature checks sig over contentHash and runAt. When want is
+// non-nil the signature must have been made by that key.
+func verifySignature(sig *Signature, contentHash, runAt string, want ed25519.PublicKey) error {
 	if sig.Algorithm != "ed25519" {
 		return fmt.Errorf("unknown signature algorithm %q", sig.Algorithm)
 	}
@@ -103,8 +112,8 @@ func verifySignature(sig *Signature, contentHash string, want ed25519.PublicKey)
 	if err != nil {
 		return errors.New("malformed signature value")
 	}
-	if !ed25519.Verify(pub, []byte(signatureDomain+contentHash), raw) {
-		return errors.New("signature does not match the record's content hash")
+	if !ed25519.Verify(pub, signedBytes(contentHash, runAt), raw) {
+		return errors.New("signature does not match the record's content hash and run time")
 	}
 	return nil
 }

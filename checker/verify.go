@@ -127,7 +127,7 @@ func Verify(opt VerifyOptions) (*VerifyReport, error) {
 		add(DevRecordEdited, "integrity.content_hash", rec.Integrity.ContentHash, h, "the record's content does not match its hash: it was edited after it was written")
 	}
 	if sig := rec.Integrity.Signature; sig != nil {
-		if err := verifySignature(sig, rec.Integrity.ContentHash, opt.PublicKey); err != nil {
+		if err := verifySignature(sig, rec.Integrity.ContentHash, rec.RunAt, opt.PublicKey); err != nil {
 			add(DevRecordEdited, "integrity.signature", "", "", err.Error())
 		}
 	} else if opt.PublicKey != nil {
