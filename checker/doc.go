@@ -66,6 +66,35 @@
 // across the trial: a unit that appears with two sites is reported, not
 // taken as two units.
 //
+// # The cascade
+//
+// For each endpoint the steps run in plan order starting with the first.
+// A step derives its outcome (the transform is applied to each measured
+// value before a change or baseline derivation, after averaging for a unit
+// mean), fits, and runs each declared check against its threshold. All
+// checks passing accepts the step; a failing check (or a check that
+// cannot be computed) moves to the check's on-fail, else the step's; a
+// step that cannot be fitted moves to the step's on-fail. A failing last
+// step is reported with status assumptions-unmet. Every decision is
+// recorded with a Reason code and the plan position of the rule that
+// caused it; nothing the plan does not declare is run.
+//
+// # Linear and mixed steps
+//
+// The fixed part uses sum-to-zero coding, so Type III tests are the
+// marginal tests of each term. Linear steps are fitted by pivoted QR
+// (stats/lm); mixed steps by REML or ML (stats/lmm) with one random
+// intercept per random term: a term of several columns groups by the
+// combination of their levels (nesting), separate terms are crossed.
+// Fixed columns aliased by empty cells are found by the least-squares QR,
+// left out and reported. Checks use the conditional residuals. Marginal
+// means weight the other factors' levels equally. Single contrasts use
+// their own Satterthwaite or Kenward-Roger df; a Dunnett or Tukey family
+// on a mixed step uses the smallest df of its comparisons (the Note says
+// so), and when the contrasts' correlation is not of the one-factor form
+// Dunnett uses the closest one-factor fit (Hsu 1992) and the Note gives
+// the largest deviation.
+//
 // # Rank and Welch steps
 //
 // Steps of kind kruskal-wallis, friedman (blocks: within), signed-rank,
