@@ -18,8 +18,9 @@ type krInfo struct {
 	W         *mat.SymDense
 }
 
-// maxDenseKR bounds the number of random levels of the dense path used for
-// more than one grouping factor.
+// maxDenseKR bounds the dense matrices of the Kenward-Roger pieces with
+// more than one grouping factor: the levels outside the largest factor
+// (krBlock), or all levels (krDense, the test oracle).
 const maxDenseKR = 2500
 
 func (r *Result) krInfo() (*krInfo, error) {
