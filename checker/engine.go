@@ -200,42 +200,54 @@ func modelSpec(ep *plan.Endpoint, s *plan.Step) ModelSpec {
 	for _, t := range s.Random {
 		m.Random = append(m.Random, t.Columns)
 	}
+	// The text is furrow's own one-line description (no formula syntax of
+	// any package): kind, estimator, analysed quantity, then the terms.
 	lhs := scaleText(ep.Response, s.Outcome, s.Transform)
 	var b strings.Builder
-	b.WriteString(s.Model + ": " + lhs)
 	switch s.Model {
 	case plan.ModelLinear, plan.ModelMixed:
-		var terms []string
-		for _, t := range m.Fixed {
-			terms = append(terms, strings.Join(t, ":"))
-		}
-		terms = append(terms, s.Covariates...)
-		if s.Outcome.Derive == plan.DeriveBaseline {
-			terms = append(terms, baselineName(ep.Response, s.Outcome.From))
-		}
-		for _, t := range m.Random {
-			terms = append(terms, "(1|"+strings.Join(t, ":")+")")
-		}
-		if len(terms) == 0 {
-			terms = []string{"1"}
-		}
-		b.WriteString(" ~ " + strings.Join(terms, " + "))
+		b.WriteString(s.Model)
 		if s.Model == plan.ModelMixed {
 			est := s.Estimation
 			if est == "" {
 				est = "reml"
 			}
-			b.WriteString(", " + est)
+			b.WriteString(" (" + strings.ToUpper(est) + ")")
+		}
+		b.WriteString(" of " + lhs)
+		var terms []string
+		for _, t := range m.Fixed {
+			terms = append(terms, strings.Join(t, " × "))
+		}
+		terms = append(terms, s.Covariates...)
+		if s.Outcome.Derive == plan.DeriveBaseline {
+			terms = append(terms, baselineName(ep.Response, s.Outcome.From))
+		}
+		if len(terms) == 0 {
+			terms = []string{"mean only"}
+		}
+		b.WriteString("; fixed: " + strings.Join(terms, ", "))
+		if len(m.Random) > 0 {
+			var rnd []string
+			for _, t := range m.Random {
+				if len(t) == 1 {
+					rnd = append(rnd, t[0])
+					continue
+				}
+				rnd = append(rnd, t[len(t)-1]+" within "+strings.Join(t[:len(t)-1], " × "))
+			}
+			b.WriteString("; random: " + strings.Join(rnd, ", "))
 		}
 		if s.DF != "" {
-			b.WriteString(", df " + s.DF)
+			b.WriteString("; " + s.DF + " df")
 		}
 		if s.Anova != 0 {
-			fmt.Fprintf(&b, ", anova type %d", s.Anova)
+			fmt.Fprintf(&b, "; type %s tests", [...]string{"", "I", "II", "III"}[min(max(s.Anova, 0), 3)])
 		}
 	default:
+		b.WriteString(s.Model + " of " + lhs)
 		if s.Compare != "" {
-			b.WriteString(" by " + s.Compare)
+			b.WriteString(" between levels of " + s.Compare)
 		}
 		if s.Within != "" {
 			b.WriteString(" within " + s.Within)

@@ -21,7 +21,7 @@ func syntheticResult() *Result {
 		Endpoints: []EndpointResult{{
 			ID: "yield", Response: "y", Primary: true, Alpha: 0.05, Status: EndpointAccepted, Reported: "ranks",
 			Steps: []StepResult{
-				{ID: "ols", Executed: true, N: 12, Model: ModelSpec{Text: "linear: y ~ g", Kind: "linear"},
+				{ID: "ols", Executed: true, N: 12, Model: ModelSpec{Text: "linear of y; fixed: g", Kind: "linear"},
 					Checks:   []CheckResult{{Test: "shapiro-wilk", Statistic: 0.81, P: 0.012, FailBelow: 0.05, Verdict: VerdictFail, OnFail: "ranks", Pos: "plan.yaml:20:11"}},
 					Decision: Decision{Action: ActionFallBack, Reason: ReasonCheckFailed, Next: "ranks", Rule: "plan.yaml:20:11", Detail: "shapiro-wilk p = 0.012 < 0.05"},
 					Figures:  &DiagnosticData{Fitted: fitted, Residuals: resid, Groups: groups, Values: fitted}},

@@ -212,7 +212,7 @@ type StepResult struct {
 // ModelSpec is the model of a step, as text and structured.
 type ModelSpec struct {
 	// Text is a one-line description, e.g.
-	// "mixed: log(juveniles + 1) ~ site + treatment + time + treatment:time + (1|site:block) + (1|plot), reml, satterthwaite".
+	// "mixed (REML) of log(juveniles + 1); fixed: site, treatment, time, treatment × time; random: block within site, plot; satterthwaite df; type III tests".
 	Text       string     `json:"text"`
 	Kind       string     `json:"kind"`
 	Derive     string     `json:"derive"`

@@ -37,7 +37,7 @@ func sampleResult() *Result {
 			Status: EndpointAccepted, Reported: "anova",
 			Steps: []StepResult{
 				{ID: "anova", Pos: "plan.yaml:64:9", Executed: true,
-					Model: ModelSpec{Text: "linear: y ~ treatment", Kind: "linear", Derive: "raw", Transform: "none",
+					Model: ModelSpec{Text: "linear of y; fixed: treatment", Kind: "linear", Derive: "raw", Transform: "none",
 						Fixed: [][]string{{"treatment"}}, DF: "residual", Anova: 3},
 					N:      12,
 					Fit:    &FitSummary{Method: "ols", Params: 3, ResidualDF: 9, Sigma: 1.5, RSquared: 0.6, Criterion: NaN, Converged: true},
