@@ -24,7 +24,8 @@ type satInfo struct {
 	J []*mat.SymDense
 }
 
-// satterthwaite differentiates the unprofiled criterion D(theta, sigma) and
+// satterthwaite is the fallback of satterthwaiteAnalytic (and its check in
+// the tests). It differentiates the unprofiled criterion D(theta, sigma) and
 // Cov(beta)(theta, sigma) = sigma^2 (Lxx Lxx')^{-1}. Derivatives in theta are
 // central differences with one Richardson extrapolation; those in sigma are
 // analytic. This is the observed-information form used for Satterthwaite

@@ -313,7 +313,8 @@ func (s *system) deviance(e evalOut, sigma float64, crit Criterion) float64 {
 	return e.ldL2 + e.ldRX2 + np*math.Log(2*math.Pi*s2) + e.r2/s2 - s.sumLogW
 }
 
-// minimize optimises the profiled criterion over theta. The criterion is an
+// minimize is the fallback of minimizeAnalytic, using only values of the
+// criterion. It optimises the profiled criterion over theta. The criterion is an
 // even function of each theta, so the search is unconstrained and the
 // absolute values are returned: the bound theta >= 0 holds by symmetry.
 // A damped Newton search on central-difference derivatives (gonum's BFGS
