@@ -83,41 +83,9 @@ func hypothesis(p *plan.Plan, ep *plan.Endpoint, s *plan.Step, f *fitted, h *pla
 	for _, lab := range labels {
 		levels = append(levels, levelFromLabel(lab, factor))
 	}
-	var pairs [][2]string
-	switch h.Kind {
-	case plan.HypVersusControl:
-		ctrl := ""
-		if c := planColumn(p, factor); c != nil {
-			ctrl = c.Control
-		}
-		lv := h.Levels
-		if len(lv) == 0 {
-			for _, l := range levels {
-				if l != ctrl {
-					lv = append(lv, l)
-				}
-			}
-		}
-		for _, l := range lv {
-			pairs = append(pairs, [2]string{l, ctrl})
-		}
-	case plan.HypPairwise:
-		if len(h.Pairs) > 0 {
-			for _, pr := range h.Pairs {
-				if len(pr) == 2 {
-					pairs = append(pairs, [2]string{pr[0], pr[1]})
-				}
-			}
-		} else {
-			for i := 0; i < len(levels); i++ {
-				for j := i + 1; j < len(levels); j++ {
-					pairs = append(pairs, [2]string{levels[j], levels[i]})
-				}
-			}
-		}
-	case plan.HypEquivalence, plan.HypNonInferiority:
-		pairs = append(pairs, [2]string{h.Test, h.Against})
-	}
+	// The same comparisons as on a rank step; a missing control shows up
+	// below as a comparison whose level has no marginal mean.
+	pairs, _ := hypothesisPairs(p, h, factor, levels)
 	tr := s.Transform
 	var ps []float64
 	ls := make([][]float64, 0, len(pairs)) // contrast vector per comparison (nil when a level is missing)
