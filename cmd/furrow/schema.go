@@ -4,28 +4,46 @@ import (
 	"furrow/schema"
 )
 
-const schemaUsage = `usage: furrow schema [plan]
+const schemaUsage = `usage: furrow schema [plan | audit | registration]
 
-Prints the JSON Schema (draft 2020-12) of the plan language, as embedded
-in this furrow. Editors that read the "# yaml-language-server: $schema=..."
-comment at the top of a plan use it to check and complete the plan while
-it is written. "plan" is the only schema name so far and the default.
+Prints one of the JSON Schemas (draft 2020-12) embedded in this furrow:
+
+  plan          the plan language (the default). Editors that read the
+                "# yaml-language-server: $schema=..." comment at the top of
+                a plan use it to check and complete the plan as it is written.
+  audit         the audit record a run writes (DIR/audit.json)
+  registration  the registration record "furrow register" writes
 
 Example:
   furrow schema > plan.schema.json
+  furrow schema audit > audit.schema.json
 
 ` + exitCodesHelp
 
 var schemaCommand = &command{
 	name:    "schema",
-	summary: "print the JSON Schema of the plan language",
+	summary: "print a JSON Schema (plan language, audit or registration record)",
 	usage:   schemaUsage,
 	run:     runSchema,
 }
 
 // schemas maps the names "furrow schema" accepts to their embedded text.
 var schemas = map[string]func() []byte{
-	"plan": schema.PlanJSON,
+	"plan":         schema.PlanJSON,
+	"audit":        embedded("audit.schema.json"),
+	"registration": embedded("registration.schema.json"),
+}
+
+// embedded returns the text of an embedded schema file. The files are part
+// of the build, so a missing one is a build defect.
+func embedded(file string) func() []byte {
+	return func() []byte {
+		s, err := schema.ByName(file)
+		if err != nil {
+			panic("furrow: " + err.Error())
+		}
+		return s.JSON()
+	}
 }
 
 func runSchema(e *env, c *command, args []string) int {
@@ -40,7 +58,7 @@ func runSchema(e *env, c *command, args []string) int {
 	}
 	get, ok := schemas[name]
 	if !ok {
-		return usageError(e, c, "unknown schema "+quote(name)+"; known: plan")
+		return usageError(e, c, "unknown schema "+quote(name)+"; known: plan, audit, registration")
 	}
 	b := get()
 	if len(b) > 0 && b[len(b)-1] != '\n' {
