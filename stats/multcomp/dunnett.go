@@ -360,7 +360,8 @@ func checkCorr(corr mat.Symmetric) error {
 // of freedom; +Inf for normal) reaches c: P(max |T_i| >= c) for TwoSided,
 // P(max T_i >= c) for Greater and P(min T_i <= -c) for Less (equal to the
 // Greater value by symmetry). corr must have the one-factor structure of
-// ProductFactors; other structures return an error.
+// ProductFactors for the deterministic quadrature; other structures are
+// computed by MaxTUpperQMC, whose result also gives the error estimate.
 func MaxTUpper(c float64, corr mat.Symmetric, df float64, side Side) (float64, error) {
 	if err := checkCorr(corr); err != nil {
 		return math.NaN(), err
@@ -373,7 +374,11 @@ func MaxTUpper(c float64, corr mat.Symmetric, df float64, side Side) (float64, e
 	}
 	lam, ok := ProductFactors(corr)
 	if !ok {
-		return math.NaN(), errors.New("correlation matrix is not of the one-factor form ρ_ij = λ_i λ_j; no deterministic quadrature for it")
+		r, err := MaxTUpperQMC(c, corr, df, side)
+		if err != nil {
+			return math.NaN(), err
+		}
+		return r.P, nil
 	}
 	return maxTUpperProduct(c, lam, df, side == TwoSided), nil
 }
@@ -400,8 +405,17 @@ func DunnettCritical(alpha float64, corr mat.Symmetric, df float64, side Side) (
 	if _, err := MaxTUpper(1, corr, df, side); err != nil {
 		return math.NaN(), err
 	}
-	lam, _ := ProductFactors(corr)
-	c, err := newMaxT(lam, df, side == TwoSided).quantile(alpha)
+	var c float64
+	var err error
+	if lam, ok := ProductFactors(corr); ok {
+		c, err = newMaxT(lam, df, side == TwoSided).quantile(alpha)
+	} else {
+		var tl tailer
+		tl, err = newTailer(corr, df, side)
+		if err == nil {
+			c, err = tl.quantile(alpha)
+		}
+	}
 	if err != nil {
 		return math.NaN(), fmt.Errorf("dunnett critical value: %w", err)
 	}
@@ -428,28 +442,42 @@ func Dunnett(est, se []float64, corr mat.Symmetric, df float64, side Side, level
 			return nil, fmt.Errorf("dunnett: comparison %d has estimate %v and standard error %v", i, est[i], se[i])
 		}
 	}
-	if _, err := MaxTUpper(1, corr, df, side); err != nil {
+	if side != TwoSided && side != Greater && side != Less {
+		return nil, fmt.Errorf("dunnett: unknown alternative %v", side)
+	}
+	if err := checkCorr(corr); err != nil {
 		return nil, fmt.Errorf("dunnett: %w", err)
 	}
-	lam, _ := ProductFactors(corr)
-	mt := newMaxT(lam, df, side == TwoSided)
+	if math.IsNaN(df) || df <= 0 {
+		return nil, fmt.Errorf("dunnett: multivariate t needs positive degrees of freedom, got %v", df)
+	}
+	mt, err := newTailer(corr, df, side)
+	if err != nil {
+		return nil, fmt.Errorf("dunnett: %w", err)
+	}
 	crit, err := mt.quantile(1 - level)
 	if err != nil {
 		return nil, fmt.Errorf("dunnett: dunnett critical value: %w", err)
 	}
-	f := &Family{Method: "dunnett", Side: side, Level: level, DF: df, Critical: crit}
+	f := &Family{Method: "dunnett", Side: side, Level: level, DF: df, Critical: crit, Algorithm: AlgQuadrature}
+	if q, ok := mt.(*qmcTailer); ok {
+		f.Algorithm = AlgQMC
+		r := q.q.upper(crit)
+		f.AbsError = r.AbsError
+		f.QMC = &r
+	}
 	for i := range est {
 		t := est[i] / se[i]
 		c := Comparison{Estimate: est[i], SE: se[i], T: t}
 		switch side {
 		case TwoSided:
-			c.PAdjusted = mt.upper(math.Abs(t))
+			c.PAdjusted = f.track(mt, math.Abs(t))
 			c.Lower, c.Upper = est[i]-crit*se[i], est[i]+crit*se[i]
 		case Greater:
-			c.PAdjusted = mt.upper(t)
+			c.PAdjusted = f.track(mt, t)
 			c.Lower, c.Upper = est[i]-crit*se[i], math.Inf(1)
 		case Less:
-			c.PAdjusted = mt.upper(-t)
+			c.PAdjusted = f.track(mt, -t)
 			c.Lower, c.Upper = math.Inf(-1), est[i]+crit*se[i]
 		default:
 			return nil, fmt.Errorf("dunnett: unknown alternative %v", side)
@@ -458,4 +486,58 @@ func Dunnett(est, se []float64, corr mat.Symmetric, df float64, side Side, level
 	}
 	return f, nil
 }
+
 var dunW, dunNegW = 2.5, 1.5
+
+// tailer is a family's tail function: the product-form quadrature or the
+// quasi-Monte Carlo fallback.
+type tailer interface {
+	upper(c float64) float64
+	quantile(alpha float64) (float64, error)
+}
+
+// newTailer returns the quadrature when corr has the one-factor form and
+// the quasi-Monte Carlo rule otherwise.
+func newTailer(corr mat.Symmetric, df float64, side Side) (tailer, error) {
+	if lam, ok := ProductFactors(corr); ok {
+		return newMaxT(lam, df, side == TwoSided), nil
+	}
+	// The variables are ordered for a bound near the 95% critical value.
+	m := float64(corr.SymmetricDim())
+	c0 := dist.TUpperQuantile(0.025/m, df)
+	q, err := newMVTQMC(corr, c0, df, side == TwoSided)
+	if err != nil {
+		return nil, err
+	}
+	return &qmcTailer{q: q}, nil
+}
+
+// qmcTailer adapts mvtQMC, remembering the largest error estimate.
+type qmcTailer struct {
+	q      *mvtQMC
+	maxErr float64
+}
+
+func (t *qmcTailer) upper(c float64) float64 {
+	r := t.q.upper(c)
+	t.maxErr = math.Max(t.maxErr, r.AbsError)
+	return r.P
+}
+
+func (t *qmcTailer) quantile(alpha float64) (float64, error) {
+	a1, am := alpha/2, alpha/(2*float64(t.q.m))
+	if !t.q.two {
+		a1, am = alpha, alpha/float64(t.q.m)
+	}
+	lt := func(c float64) float64 { return math.Log(t.upper(c)) }
+	return solveLogTailIn(lt, alpha, dist.TUpperQuantile(a1, t.q.df), dist.TUpperQuantile(am, t.q.df))
+}
+
+// track returns the family's p-value at c and records the error estimate.
+func (f *Family) track(t tailer, c float64) float64 {
+	p := t.upper(c)
+	if q, ok := t.(*qmcTailer); ok {
+		f.AbsError = math.Max(f.AbsError, q.maxErr)
+	}
+	return p
+}

@@ -50,4 +50,20 @@ type Family struct {
 	// the t scale (for Tukey it is the studentised-range quantile over √2).
 	Critical    float64
 	Comparisons []Comparison
+	// Algorithm names how the simultaneous probabilities were computed:
+	// AlgQuadrature (deterministic, about 1e-10 relative or better) or
+	// AlgQMC (randomised quasi-Monte Carlo, see MaxTUpperQMC).
+	Algorithm string
+	// AbsError is the largest estimated absolute error of the adjusted
+	// p-values and of the critical value's tail probability; 0 for
+	// quadrature.
+	AbsError float64
+	// QMC describes the rule when Algorithm is AlgQMC.
+	QMC *QMCResult
 }
+
+// Algorithms recorded in Family.Algorithm.
+const (
+	AlgQuadrature = "quadrature"
+	AlgQMC        = "randomised quasi-Monte Carlo"
+)

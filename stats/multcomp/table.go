@@ -1,6 +1,9 @@
 package multcomp
 
-import "math"
+import (
+	"math"
+	"sync"
+)
 
 // chebN is the number of Chebyshev nodes per table piece.
 const chebMax = 40
@@ -108,6 +111,7 @@ var pieceW = 2.0
 // integral at many points). Pieces are built on first use from the direct
 // evaluation logT, which must be accurate to rounding.
 type logTable struct {
+	mu       sync.Mutex // guards pos, neg and builds; pieces are immutable
 	logT     func(x float64) float64
 	shape    func(x float64) float64
 	pos, neg []*chebPiece
@@ -129,6 +133,8 @@ func (t *logTable) piece(x float64) *chebPiece {
 	if !(math.Abs(x) < tableMax) {
 		return nil
 	}
+	t.mu.Lock()
+	defer t.mu.Unlock()
 	list := &t.pos
 	ax := x
 	if x < 0 {

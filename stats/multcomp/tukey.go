@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"sync"
 
 	"furrow/stats/dist"
 )
@@ -214,13 +215,42 @@ type tukeyDist struct {
 }
 
 func newTukeyDist(k int, df float64) *tukeyDist {
-	ri := newRangeIntegral(k)
-	td := &tukeyDist{k: k, df: df, ri: ri, lk2: math.Log(float64(k) * float64(k-1) / 2)}
-	td.up = newLogTable(func(w float64) float64 { return ri.logTail(w, true) }, quadShape(0.25))
+	rt := rangeTablesFor(k)
+	return &tukeyDist{k: k, df: df, ri: newRangeIntegral(k), up: rt[0], lo: rt[1],
+		lk2: math.Log(float64(k) * float64(k-1) / 2)}
+}
+
+// rangeTables holds, per k, the tables of log P(R > w) and log P(R <= w).
+// They do not depend on df, so they are kept for the life of the process
+// (for up to rangeCacheMax values of k) and shared by all callers; each
+// piece is a fixed function of k and its interval, so results do not
+// depend on the order of calls.
+var rangeTables = struct {
+	sync.Mutex
+	m map[int]*[2]*logTable
+}{m: map[int]*[2]*logTable{}}
+
+const rangeCacheMax = 64
+
+func rangeTablesFor(k int) *[2]*logTable {
+	rangeTables.Lock()
+	defer rangeTables.Unlock()
+	if t, ok := rangeTables.m[k]; ok {
+		return t
+	}
+	// Each table has its own inner integrator: the tables are built under
+	// their own locks and the integrator reuses buffers.
+	riU, riL := newRangeIntegral(k), newRangeIntegral(k)
 	km1 := float64(k - 1)
-	td.lo = newLogTable(func(w float64) float64 { return ri.logTail(w, false) },
-		func(w float64) float64 { return km1 * math.Log(w) })
-	return td
+	t := &[2]*logTable{
+		newLogTable(func(w float64) float64 { return riU.logTail(w, true) }, quadShape(0.25)),
+		newLogTable(func(w float64) float64 { return riL.logTail(w, false) },
+			func(w float64) float64 { return km1 * math.Log(w) }),
+	}
+	if len(rangeTables.m) < rangeCacheMax {
+		rangeTables.m[k] = t
+	}
+	return t
 }
 
 // logPairUpper returns log P(|X1 - X2| > w) = log 2Φ̄(w/√2).
