@@ -90,7 +90,7 @@ func ProductFactors(corr mat.Symmetric) ([]float64, bool) {
 // its relative accuracy, and in log space beyond x = 30. Equal λ_i are
 // grouped. The z integral uses fixed 16-point Gauss-Legendre panels on
 // |z| <= sqrt(x² + 80): outside it φ alone bounds the integrand below
-// 1e-17 of the tail. The panel width is 1.5 times the narrowest scale of
+// 1e-17 of the tail. The panel width is dunW times the narrowest scale of
 // the integrand, min(1, σ_i/|λ_i|) with σ_i = sqrt(1-λ_i²).
 type maxNormal struct {
 	lam, sig, mult []float64
@@ -307,7 +307,7 @@ func (t *maxT) logUpper(c float64) float64 {
 		return math.Log1p(-math.Exp(l))
 	}
 	if c == 0 {
-		return math.Log1p(-math.Exp(t.mn.logLowerNegAt0()))
+		return math.Log1p(-math.Exp(t.mn.logLowerNeg(0)))
 	}
 	if math.IsInf(t.df, 1) {
 		return math.Min(0, t.mn.logUpper(c, t.two))
@@ -322,9 +322,6 @@ func (t *maxT) logUpper(c float64) float64 {
 	}
 	return math.Min(0, logMix(sp, c, t.df))
 }
-
-// logLowerNegAt0 returns log P(max X_i <= 0).
-func (mn *maxNormal) logLowerNegAt0() float64 { return mn.logLowerNeg(0) }
 
 // maxTUpperProduct returns the probability that the largest of T_i = X_i/S
 // exceeds c, where X is multivariate normal with unit variances and
@@ -487,7 +484,10 @@ func Dunnett(est, se []float64, corr mat.Symmetric, df float64, side Side, level
 	return f, nil
 }
 
-var dunW, dunNegW = 2.5, 1.5
+// dunW and dunNegW scale the panel widths of the upper and lower forms;
+// compared with panels five times narrower they agree to 1e-12 in the log
+// tail for factors from 0.3 to 0.99 and up to 15 comparisons.
+const dunW, dunNegW = 2.5, 1.5
 
 // tailer is a family's tail function: the product-form quadrature or the
 // quasi-Monte Carlo fallback.

@@ -6,8 +6,13 @@ import "math"
 //
 //	g_ν(u) = log f_ν(e^u) + u = log 2 + h log h - log Γ(h) + ν u - h e^{2u},  h = ν/2,
 //
-// with f_ν as in logChiScaledDensity; for h >= 20 the Stirling form of that
-// function is used, which keeps the density's relative accuracy for large ν.
+// where f_ν(s) = 2 h^h / Γ(h) · s^{ν-1} exp(-h s²) is the density of s. For
+// h >= 20 the leading terms cancel; with d = e^u - 1 and Stirling's series
+// log Γ(h) = (h-1/2) log h - h + log(2π)/2 + δ(h) it is rewritten as
+//
+//	log 2 + log(h)/2 - log(2π)/2 - δ(h) + h(2(log1p(d) - d) - d²)
+//
+// which keeps the density's relative accuracy for ν in the millions.
 type chiLog struct {
 	nu, h, c float64
 	big      bool

@@ -65,20 +65,6 @@ func glPanel(f func(float64) float64, a, b float64) float64 {
 // accepted without refinement.
 const negligible = 1e-2
 
-// fixedPanels integrates f with one Gauss-Legendre panel per interval and no
-// error control; callers use it only where the panels are narrow compared
-// with the scale on which f changes (a 16-point panel is then exact to
-// rounding).
-func fixedPanels(f func(float64) float64, breaks []float64) float64 {
-	var sum kahan
-	for i := 0; i+1 < len(breaks); i++ {
-		if breaks[i+1] > breaks[i] {
-			sum.add(glPanel(f, breaks[i], breaks[i+1]))
-		}
-	}
-	return sum.value()
-}
-
 // maxDepth bounds the bisection of one panel.
 const maxDepth = 40
 
@@ -146,55 +132,11 @@ func (k *kahan) add(x float64) {
 
 func (k *kahan) value() float64 { return k.s + k.c }
 
-// span returns breakpoints from lo to hi in steps of about width.
-func span(lo, hi, width float64) []float64 {
-	if !(hi > lo) {
-		return []float64{lo, lo}
-	}
-	n := int(math.Ceil((hi - lo) / width))
-	if n < 1 {
-		n = 1
-	}
-	b := make([]float64, n+1)
-	for i := range b {
-		b[i] = lo + (hi-lo)*float64(i)/float64(n)
-	}
-	b[n] = hi
-	return b
-}
-
 // normCDF returns Φ(x), accurate in relative terms in the lower tail.
 func normCDF(x float64) float64 { return 0.5 * math.Erfc(-x/math.Sqrt2) }
 
 // normPDF returns φ(x).
 func normPDF(x float64) float64 { return math.Exp(-0.5*x*x) / math.Sqrt(2*math.Pi) }
-
-// logChiScaledDensity returns log f_ν(s), the density of s = sqrt(χ²_ν/ν):
-//
-//	f_ν(s) = 2 (ν/2)^{ν/2} / Γ(ν/2) · s^{ν-1} exp(-ν s²/2)
-//
-// For large ν the leading terms cancel; with h = ν/2, d = s - 1 and
-// Stirling's series log Γ(h) = (h-1/2) log h - h + log(2π)/2 + δ(h) it is
-// rewritten as
-//
-//	log 2 + log(h)/2 - log(2π)/2 - δ(h) + h(2(log1p(d) - d) - d²) - log s
-//
-// which keeps full relative accuracy of the density for ν in the millions.
-func logChiScaledDensity(s, nu float64) float64 {
-	if s <= 0 {
-		if nu == 1 && s == 0 {
-			return math.Log(2) + 0.5*math.Log(0.5) - lgamma(0.5)
-		}
-		return math.Inf(-1)
-	}
-	h := 0.5 * nu
-	if h < 20 {
-		return math.Ln2 + h*math.Log(h) - lgamma(h) + (nu-1)*math.Log(s) - h*s*s
-	}
-	d := s - 1
-	return math.Ln2 + 0.5*math.Log(h) - 0.5*math.Log(2*math.Pi) - stirlingDelta(h) +
-		h*(2*log1pMinus(d)-d*d) - math.Log(s)
-}
 
 // stirlingDelta returns δ(h) = log Γ(h) - (h-1/2) log h + h - log(2π)/2 for
 // h >= 20 from the asymptotic series 1/(12h) - 1/(360h³) + 1/(1260h⁵) -
@@ -231,51 +173,4 @@ func log1pMinus(d float64) float64 {
 func lgamma(x float64) float64 {
 	v, _ := math.Lgamma(x)
 	return v
-}
-
-// chiMix returns ∫ f_ν(s) g(s) ds over s > 0, the mixture over the
-// studentising variable s = sqrt(χ²_ν/ν); for ν = +Inf it returns g(1).
-// The panels are laid out in units of the approximate standard deviation of
-// s around its mode, from 10 units below to 14 units above it; extra panels near zero
-// capture the mass that matters for extreme upper tails at small ν.
-func chiMix(g func(float64) float64, nu, abstol, reltol float64) float64 {
-	if math.IsInf(nu, 1) {
-		return g(1)
-	}
-	mode := 0.0
-	if nu > 1 {
-		mode = math.Sqrt((nu - 1) / nu)
-	}
-	sd := 1 / math.Sqrt(2*nu)
-	if sd > 1 {
-		sd = 1
-	}
-	breaks := []float64{0}
-	for j := -5; j <= 7; j++ {
-		x := mode + 2*float64(j)*sd
-		if x > breaks[len(breaks)-1] {
-			breaks = append(breaks, x)
-		}
-	}
-	// Subdivide the first interval geometrically towards zero.
-	if first := breaks[1]; first > 0 {
-		var head []float64
-		for x := first / 4; x > first*1e-4; x /= 8 {
-			head = append(head, x)
-		}
-		out := make([]float64, 0, len(breaks)+len(head))
-		out = append(out, 0)
-		for i := len(head) - 1; i >= 0; i-- {
-			out = append(out, head[i])
-		}
-		breaks = append(out, breaks[1:]...)
-	}
-	f := func(s float64) float64 {
-		v := g(s)
-		if v == 0 {
-			return 0
-		}
-		return v * math.Exp(logChiScaledDensity(s, nu))
-	}
-	return integrate(f, breaks, abstol, reltol)
 }

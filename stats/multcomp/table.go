@@ -6,29 +6,26 @@ import (
 )
 
 // chebN is the number of Chebyshev nodes per table piece.
-const chebMax = 40
-
-var chebN = 32
+const chebN = 32
 
 // chebPiece is the Chebyshev interpolant of degree chebN-1 of a function on
 // [lo, hi].
 type chebPiece struct {
 	lo, hi float64
-	c      [chebMax]float64
+	c      [chebN]float64
 }
 
 // chebNodes holds cos(π(j+1/2)/n), the Chebyshev points of the first kind,
 // and the cosines needed for the coefficients, computed once.
-var chebCos = chebTab(32)
-
-func chebTab(n int) (t [chebMax][chebMax]float64) {
+var chebCos = func() (t [chebN][chebN]float64) {
+	const n = chebN
 	for k := 0; k < n; k++ {
 		for j := 0; j < n; j++ {
 			t[k][j] = math.Cos(math.Pi * float64(k) * (float64(j) + 0.5) / float64(n))
 		}
 	}
 	return t
-}
+}()
 
 // newChebPiece interpolates f at the Chebyshev points of [lo, hi]:
 //
@@ -40,7 +37,7 @@ func chebTab(n int) (t [chebMax][chebMax]float64) {
 // with n.
 func newChebPiece(f func(float64) float64, lo, hi float64) *chebPiece {
 	p := &chebPiece{lo: lo, hi: hi}
-	var fx [chebMax]float64
+	var fx [chebN]float64
 	h, m := 0.5*(hi-lo), 0.5*(hi+lo)
 	for j := 0; j < chebN; j++ {
 		fx[j] = f(m + h*chebCos[1][j])
@@ -50,7 +47,7 @@ func newChebPiece(f func(float64) float64, lo, hi float64) *chebPiece {
 		for j := 0; j < chebN; j++ {
 			s += fx[j] * chebCos[k][j]
 		}
-		p.c[k] = 2 * s / float64(chebN)
+		p.c[k] = 2 * s / chebN
 	}
 	p.c[0] *= 0.5
 	return p
@@ -65,18 +62,6 @@ func (p *chebPiece) eval(x float64) float64 {
 		b1, b2 = t2*b1-b2+p.c[k], b1
 	}
 	return t*b1 - b2 + p.c[0]
-}
-
-// deriv returns the derivative of the interpolant at x.
-func (p *chebPiece) deriv(x float64) float64 {
-	// d/dt Σ c_k T_k(t) = Σ k c_k U_{k-1}(t), evaluated by the U recurrence.
-	t := (2*x - p.lo - p.hi) / (p.hi - p.lo)
-	t2 := 2 * t
-	var b1, b2 float64
-	for k := chebN - 1; k >= 1; k-- {
-		b1, b2 = t2*b1-b2+float64(k)*p.c[k], b1
-	}
-	return b1 * 2 / (p.hi - p.lo)
 }
 
 // Piece layout: unit width on |x| < tableMid, width 2 beyond, up to
@@ -99,7 +84,10 @@ func pieceIndex(x float64) (int, float64, float64) {
 	return j0 + j, lo, lo + 4*pieceW
 }
 
-var pieceW = 2.0
+// pieceW is the piece width below tableMid; beyond it pieces are 4·pieceW
+// wide. With 32 nodes this reproduces the tail logarithms to about 3e-13
+// for up to 100 means (the range) or 15 comparisons (the maximum).
+const pieceW = 2.0
 
 // logTable is a lazily built piecewise Chebyshev interpolant of
 // r(x) = log T(x) - shape(x) for a tail function T, on -tableMax < x <

@@ -86,7 +86,7 @@ func TestPTukeyTwoMeansIsT(t *testing.T) {
 			}
 			abs := 0.0
 			if want < 1e-15 {
-				abs = 1e-9 * want // quadrature is absolute below 1e-15; see quadAbsTol
+				abs = 1e-9 * want // kept from the former absolute floor of 1e-15
 			}
 			if !relClose(got, want, 1e-10, abs+1e-17) {
 				t.Errorf("PTukeyUpper(%v, 2, %v) = %.15g, two-sided t %.15g (rel %.2g)", q, df, got, want, math.Abs(got-want)/want)
