@@ -92,8 +92,8 @@
 // their own Satterthwaite or Kenward-Roger df; a Dunnett or Tukey family
 // on a mixed step uses the smallest df of its comparisons (the Note says
 // so), and when the contrasts' correlation is not of the one-factor form
-// Dunnett uses the closest one-factor fit (Hsu 1992) and the Note gives
-// the largest deviation.
+// the Dunnett probabilities come from randomised quasi-Monte Carlo with a
+// fixed seed, whose seed and error the Note records.
 //
 // # Rank and Welch steps
 //

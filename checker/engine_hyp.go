@@ -308,11 +308,10 @@ func adjustMethod(name string) multcomp.Method {
 //     Biometrics 12:307): the studentised range of the k means of the
 //     factor, always two-sided.
 //   - Dunnett (1955) JASA 50:1096: the multivariate t with the correlation
-//     of the contrasts from the model covariance, one- or two-sided. When
-//     that correlation is not of the one-factor form rho_ij = l_i l_j (an
-//     unbalanced model with further terms), the closest one-factor form in
-//     least squares is used, the factor-analytic approximation of Hsu (1992)
-//     J Comput Graph Stat 1:151, and the Note says how far it is.
+//     of the contrasts from the model covariance, one- or two-sided, by
+//     deterministic quadrature when that correlation is of the one-factor
+//     form rho_ij = l_i l_j, else by randomised quasi-Monte Carlo with a
+//     fixed seed (Genz & Bretz 2002), whose seed and error the Note records.
 //
 // Both need one error df. A linear step has one residual df; a mixed step
 // gives each contrast its own Satterthwaite or Kenward-Roger df, and the
@@ -359,11 +358,6 @@ func simultaneous(hr *HypothesisResult, lf *linearFit, ls [][]float64, adj, side
 		fam, err = multcomp.Tukey(est, se, k, df, 1-alpha)
 	} else {
 		corr := contrastCorr(lf, ls, idx)
-		if _, ok := multcomp.ProductFactors(corr); !ok {
-			var dev float64
-			corr, dev = oneFactorApprox(corr)
-			notes = append(notes, fmt.Sprintf("the comparisons' correlation is not of the one-factor form; the dunnett family uses its closest one-factor approximation (Hsu 1992), largest difference %.2g", dev))
-		}
 		side := multcomp.TwoSided
 		switch sides {
 		case "greater":
@@ -376,6 +370,10 @@ func simultaneous(hr *HypothesisResult, lf *linearFit, ls [][]float64, adj, side
 	if err != nil {
 		fail(err)
 		return
+	}
+	if fam.QMC != nil {
+		notes = append(notes, fmt.Sprintf("the comparisons' correlation is not of the one-factor form, so the %s probabilities are computed by randomised quasi-Monte Carlo (Genz & Bretz 2002; seed %d, %d points x %d shifts), absolute error about %.1g",
+			adj, fam.QMC.Seed, fam.QMC.Points, fam.QMC.Shifts, fam.AbsError))
 	}
 	for i := range hr.Comparisons {
 		hr.Comparisons[i].PAdjusted = NaN
@@ -419,55 +417,4 @@ func contrastCorr(lf *linearFit, ls [][]float64, idx []int) *mat.SymDense {
 		}
 	}
 	return corr
-}
-
-// oneFactorApprox returns the one-factor correlation matrix
-// rho_ij = l_i l_j (i != j) closest to corr in least squares over the
-// off-diagonal entries (Hsu 1992, the factor-analytic approach), found by
-// alternating least squares from the square roots of the row means, and
-// the largest absolute difference from corr. Each |l_i| is kept below 1.
-func oneFactorApprox(corr mat.Symmetric) (*mat.SymDense, float64) {
-	m := corr.SymmetricDim()
-	lam := make([]float64, m)
-	for i := 0; i < m; i++ {
-		s := 0.0
-		for j := 0; j < m; j++ {
-			if j != i {
-				s += corr.At(i, j)
-			}
-		}
-		lam[i] = math.Sqrt(math.Max(s/float64(max(m-1, 1)), 1e-6))
-	}
-	const limit = 1 - 1e-9
-	for it := 0; it < 500; it++ {
-		change := 0.0
-		for i := 0; i < m; i++ {
-			num, den := 0.0, 0.0
-			for j := 0; j < m; j++ {
-				if j != i {
-					num += corr.At(i, j) * lam[j]
-					den += lam[j] * lam[j]
-				}
-			}
-			v := lam[i]
-			if den > 0 {
-				v = math.Max(-limit, math.Min(limit, num/den))
-			}
-			change = math.Max(change, math.Abs(v-lam[i]))
-			lam[i] = v
-		}
-		if change < 1e-14 {
-			break
-		}
-	}
-	out := mat.NewSymDense(m, nil)
-	dev := 0.0
-	for i := 0; i < m; i++ {
-		out.SetSym(i, i, 1)
-		for j := 0; j < i; j++ {
-			out.SetSym(i, j, lam[i]*lam[j])
-			dev = math.Max(dev, math.Abs(lam[i]*lam[j]-corr.At(i, j)))
-		}
-	}
-	return out, dev
 }

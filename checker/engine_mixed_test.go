@@ -11,9 +11,7 @@ import (
 	"strings"
 	"testing"
 
-	"gonum.org/v1/gonum/mat"
 
-	"furrow/stats/multcomp"
 )
 
 // rnum is a number in ref.json, where R writes non-finite values as
@@ -614,67 +612,5 @@ func TestMixedStepFallsBack(t *testing.T) {
 	}
 	if h := ep.Hypotheses[0]; h.Step != "means" || len(h.Comparisons) != 2 || math.IsNaN(float64(h.Comparisons[0].PAdjusted)) {
 		t.Errorf("hypothesis on the accepted step: %+v", h)
-	}
-}
-
-// sseOffDiag is the sum of squared off-diagonal differences of two matrices.
-func sseOffDiag(a, b mat.Symmetric) float64 {
-	s := 0.0
-	for i := 0; i < a.SymmetricDim(); i++ {
-		for j := 0; j < i; j++ {
-			d := a.At(i, j) - b.At(i, j)
-			s += d * d
-		}
-	}
-	return s
-}
-
-// TestOneFactorApprox: an exact one-factor correlation is returned as is
-// (closed form: rho_ij = l_i l_j); for another correlation the result is a
-// least-squares optimum of the off-diagonal fit (Hsu 1992): no perturbed
-// factor vector fits better.
-func TestOneFactorApprox(t *testing.T) {
-	lam := []float64{0.5, 0.6, 0.7, 0.3}
-	exact := mat.NewSymDense(4, nil)
-	for i := range lam {
-		exact.SetSym(i, i, 1)
-		for j := 0; j < i; j++ {
-			exact.SetSym(i, j, lam[i]*lam[j])
-		}
-	}
-	got, dev := oneFactorApprox(exact)
-	if dev > 1e-12 || sseOffDiag(got, exact) > 1e-24 {
-		t.Errorf("exact one-factor matrix changed: dev %v", dev)
-	}
-	other := mat.NewSymDense(4, []float64{
-		1, 0.5, 0.2, 0.4,
-		0.5, 1, 0.6, 0.1,
-		0.2, 0.6, 1, 0.3,
-		0.4, 0.1, 0.3, 1,
-	})
-	if _, ok := multcomp.ProductFactors(other); ok {
-		t.Fatal("test matrix is of the one-factor form")
-	}
-	approx, dev := oneFactorApprox(other)
-	l, ok := multcomp.ProductFactors(approx)
-	if !ok || dev <= 0 {
-		t.Fatalf("approximation is not one-factor (ok %v) or has no deviation %v", ok, dev)
-	}
-	best := sseOffDiag(approx, other)
-	for i := range l {
-		for _, h := range []float64{-1e-3, 1e-3} {
-			p := slices.Clone(l)
-			p[i] += h
-			m := mat.NewSymDense(4, nil)
-			for a := range p {
-				m.SetSym(a, a, 1)
-				for b := 0; b < a; b++ {
-					m.SetSym(a, b, p[a]*p[b])
-				}
-			}
-			if s := sseOffDiag(m, other); s < best-1e-15 {
-				t.Errorf("perturbing factor %d by %v fits better: %v < %v", i, h, s, best)
-			}
-		}
 	}
 }
