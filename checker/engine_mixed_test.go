@@ -10,8 +10,6 @@ import (
 	"slices"
 	"strings"
 	"testing"
-
-
 )
 
 // rnum is a number in ref.json, where R writes non-finite values as
