@@ -401,6 +401,15 @@ var reportFuncs = template.FuncMap{
 	},
 	"inc": func(i int) int { return i + 1 },
 	"peq": pEq,
+	"sides": func(s string) string {
+		switch s {
+		case "less":
+			return "one-sided, alternative: less than"
+		case "greater":
+			return "one-sided, alternative: greater than"
+		}
+		return "two-sided"
+	},
 	"ci": func(lo, hi Num) string {
 		if math.IsNaN(float64(lo)) && math.IsNaN(float64(hi)) {
 			return "-"
