@@ -98,7 +98,7 @@ func Run(opt RunOptions) (*Result, error) {
 	// Data.
 	t, ddiags, err := ReadTable(p, opt.DataPath)
 	if err != nil {
-		return nil, fmt.Errorf("reading data: %w", err)
+		return nil, err // ReadTable errors already say "reading data FILE: ..."
 	}
 	if ddiags.HasErrors() {
 		return nil, &DataError{Diagnostics: ddiags.Sort()}
