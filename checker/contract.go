@@ -1,12 +1,13 @@
 package checker
 
 import (
+	"furrow/schema"
+
 	"fmt"
 	"math"
 	"slices"
 	"strconv"
 	"strings"
-	"unicode/utf8"
 
 	"furrow/plan"
 )
@@ -104,7 +105,7 @@ func (c *contractCheck) columns() {
 	for _, name := range missing {
 		pc := c.decl[name]
 		s := fmt.Sprintf("column %q (%s) declared in the plan is not in the data", name, pc.Role)
-		if g := suggest(name, undeclared); g != "" {
+		if g := schema.Suggest(name, undeclared); g != "" {
 			s += fmt.Sprintf("; did you mean %q?", g)
 		}
 		c.diags = append(c.diags, plan.Diagnostic{
@@ -115,7 +116,7 @@ func (c *contractCheck) columns() {
 	for _, name := range undeclared {
 		tc := c.t.Column(name)
 		s := fmt.Sprintf("column %q is not declared in the plan; it is carried along unchecked", name)
-		if g := suggest(name, missing); g != "" {
+		if g := schema.Suggest(name, missing); g != "" {
 			s += fmt.Sprintf(" (is it the declared %q?)", g)
 		}
 		c.diags = append(c.diags, plan.Diagnostic{
@@ -215,7 +216,7 @@ func (c *contractCheck) levels(pc *plan.Column, tc *Column) {
 			continue
 		}
 		msg := fmt.Sprintf("%scolumn %q: level %q is not declared (declared: %s)", c.at(i, tc.Index), pc.Name, s, strings.Join(pc.Levels, ", "))
-		if g := suggest(s, pc.Levels); g != "" {
+		if g := schema.Suggest(s, pc.Levels); g != "" {
 			msg += fmt.Sprintf("; did you mean %q?", g)
 		}
 		c.add(pc.Name, plan.Diagnostic{Severity: plan.Error, Code: "data-level-undeclared",
@@ -557,64 +558,4 @@ func (l *limiter) summaries() plan.Diagnostics {
 			Summary: fmt.Sprintf("and %d more %s findings%s from here on", more, d.Code, where)})
 	}
 	return out
-}
-
-// suggest returns the candidate closest to s: equal ignoring case, else
-// within a small edit distance (none below 3 characters, 1 up to 4, 2 from
-// 5 on). It returns "" when nothing is close.
-func suggest(s string, candidates []string) string {
-	ls := strings.ToLower(s)
-	for _, c := range candidates {
-		if strings.ToLower(c) == ls && c != s {
-			return c
-		}
-	}
-	n := utf8.RuneCountInString(s)
-	limit := 0
-	switch {
-	case n >= 5:
-		limit = 2
-	case n >= 3:
-		limit = 1
-	}
-	best, bestD := "", limit+1
-	for _, c := range candidates {
-		if c == s {
-			continue
-		}
-		if d := editDistance(ls, strings.ToLower(c)); d < bestD {
-			best, bestD = c, d
-		}
-	}
-	return best
-}
-
-// editDistance counts the insertions, deletions, substitutions and
-// transpositions of adjacent runes that turn a into b: the restricted
-// (optimal string alignment) form of Damerau's distance (Damerau 1964,
-// Communications of the ACM 7:171; Levenshtein 1966, Soviet Physics
-// Doklady 10:707), computed with three rows.
-func editDistance(a, b string) int {
-	ra, rb := []rune(a), []rune(b)
-	prev2 := make([]int, len(rb)+1)
-	prev := make([]int, len(rb)+1)
-	cur := make([]int, len(rb)+1)
-	for j := range prev {
-		prev[j] = j
-	}
-	for i := 1; i <= len(ra); i++ {
-		cur[0] = i
-		for j := 1; j <= len(rb); j++ {
-			cost := 1
-			if ra[i-1] == rb[j-1] {
-				cost = 0
-			}
-			cur[j] = min(prev[j]+1, cur[j-1]+1, prev[j-1]+cost)
-			if i > 1 && j > 1 && ra[i-1] == rb[j-2] && ra[i-2] == rb[j-1] {
-				cur[j] = min(cur[j], prev2[j-2]+1)
-			}
-		}
-		prev2, prev, cur = prev, cur, prev2
-	}
-	return prev[len(rb)]
 }

@@ -1,6 +1,8 @@
 package checker
 
 import (
+	"furrow/schema"
+
 	"bytes"
 	"fmt"
 	"math"
@@ -48,7 +50,7 @@ func readXLSX(name string, data []byte, o *readOptions) (*Table, plan.Diagnostic
 			quoted[i] = strconv.Quote(s)
 		}
 		summary := fmt.Sprintf("sheet %q is not in the workbook; its sheets are %s", sheet, strings.Join(quoted, ", "))
-		if s := suggest(sheet, sheets); s != "" {
+		if s := schema.Suggest(sheet, sheets); s != "" {
 			summary += fmt.Sprintf("; did you mean %q?", s)
 		}
 		return nil, plan.Diagnostics{{

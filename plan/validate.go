@@ -1,6 +1,8 @@
 package plan
 
 import (
+	"furrow/schema"
+
 	"fmt"
 	"math"
 	"slices"
@@ -65,7 +67,7 @@ func (v *validator) ref(path, what, name string, roles ...string) *Column {
 			names = append(names, col.Name)
 		}
 		msg := fmt.Sprintf("%s names %q, which is not a declared column", what, name)
-		if s := closest(name, names); s != "" {
+		if s := schema.Suggest(name, names); s != "" {
 			msg += fmt.Sprintf(" (did you mean %q?)", s)
 		}
 		v.add(Error, "unknown-column", path, msg)
@@ -93,7 +95,7 @@ func (v *validator) level(path, what string, c *Column, lv string) bool {
 	}
 	if !slices.Contains(c.Levels, lv) {
 		msg := fmt.Sprintf("%s %q is not a declared level of %s; its levels are %s", what, lv, c.Name, strings.Join(c.Levels, ", "))
-		if s := closest(lv, c.Levels); s != "" {
+		if s := schema.Suggest(lv, c.Levels); s != "" {
 			msg += fmt.Sprintf(" (did you mean %q?)", s)
 		}
 		v.add(Error, "level-undeclared", path, msg, c.Pos)
@@ -609,7 +611,7 @@ func (v *validator) fallbacks(e *Endpoint, path string, ids map[string]int) {
 					names = append(names, s.ID)
 				}
 				msg := fmt.Sprintf("on-fail names step %q, which endpoint %q does not have", t.id, e.ID)
-				if sug := closest(t.id, names); sug != "" {
+				if sug := schema.Suggest(t.id, names); sug != "" {
 					msg += fmt.Sprintf(" (did you mean %q?)", sug)
 				}
 				v.add(Error, "unknown-step", t.path, msg)
@@ -900,36 +902,3 @@ func (v *validator) termHypothesis(e *Endpoint, h *Hypothesis, hp string) {
 
 // fnum formats a number for a message: shortest exact form.
 func fnum(x float64) string { return strconv.FormatFloat(x, 'g', -1, 64) }
-
-// closest returns the candidate nearest to s by edit distance when it is
-// close enough to be a likely misspelling, else "".
-func closest(s string, candidates []string) string {
-	best, bestD := "", len(s)/3+2
-	for _, c := range candidates {
-		if d := editDistance(s, c); d < bestD && c != s {
-			best, bestD = c, d
-		}
-	}
-	return best
-}
-
-// editDistance is the Levenshtein (1966) distance between a and b, bytes.
-func editDistance(a, b string) int {
-	prev := make([]int, len(b)+1)
-	cur := make([]int, len(b)+1)
-	for j := range prev {
-		prev[j] = j
-	}
-	for i := 1; i <= len(a); i++ {
-		cur[0] = i
-		for j := 1; j <= len(b); j++ {
-			cost := 1
-			if a[i-1] == b[j-1] {
-				cost = 0
-			}
-			cur[j] = min(prev[j]+1, cur[j-1]+1, prev[j-1]+cost)
-		}
-		prev, cur = cur, prev
-	}
-	return prev[len(b)]
-}

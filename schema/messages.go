@@ -170,7 +170,7 @@ func (s *Schema) word(e *jsonschema.ValidationError, root any, ix Index) []Probl
 		allowed, _ := sch["enum"].([]any)
 		msg := fmt.Sprintf("%s must be one of %s; got %s", subj, joinValues(allowed), describe(val))
 		if str, ok := val.(string); ok {
-			if sug := suggest(str, stringsOf(allowed)); sug != "" {
+			if sug := Suggest(str, stringsOf(allowed)); sug != "" {
 				msg += fmt.Sprintf(" (did you mean %q?)", sug)
 			}
 		}
@@ -215,7 +215,7 @@ func (s *Schema) word(e *jsonschema.ValidationError, root any, ix Index) []Probl
 				where = "in " + displayPath(ptr)
 			}
 			msg := fmt.Sprintf("unknown key %q %s; allowed keys are %s", k, where, strings.Join(known, ", "))
-			if sug := suggest(k, known); sug != "" {
+			if sug := Suggest(k, known); sug != "" {
 				msg = fmt.Sprintf("unknown key %q %s (did you mean %q?)", k, where, sug)
 			}
 			out = append(out, Problem{Line: kl, Column: kc, Path: displayPath(kp), Code: "unknown-key", Summary: msg})
@@ -379,42 +379,4 @@ func lowerFirst(s string) string {
 		return s
 	}
 	return strings.ToLower(s[:1]) + s[1:]
-}
-
-// suggest returns the candidate closest to s by edit distance when it is
-// close enough to be a likely misspelling, else "".
-func suggest(s string, candidates []string) string {
-	best, bestD := "", len(s)/3+2
-	for _, c := range candidates {
-		if d := editDistance(s, c); d < bestD || (d == bestD && best != "" && c < best) {
-			if d < bestD {
-				best, bestD = c, d
-			}
-		}
-	}
-	if best == s {
-		return ""
-	}
-	return best
-}
-
-// editDistance is the Levenshtein distance between a and b (bytes).
-func editDistance(a, b string) int {
-	prev := make([]int, len(b)+1)
-	cur := make([]int, len(b)+1)
-	for j := range prev {
-		prev[j] = j
-	}
-	for i := 1; i <= len(a); i++ {
-		cur[0] = i
-		for j := 1; j <= len(b); j++ {
-			cost := 1
-			if a[i-1] == b[j-1] {
-				cost = 0
-			}
-			cur[j] = min(prev[j]+1, cur[j-1]+1, prev[j-1]+cost)
-		}
-		prev, cur = cur, prev
-	}
-	return prev[len(b)]
 }
