@@ -2,6 +2,7 @@ package checker
 
 import (
 	"bytes"
+	"encoding/json"
 	"os"
 	"path/filepath"
 	"strconv"
@@ -186,5 +187,30 @@ func TestExampleRegistrations(t *testing.T) {
 		if h := reg.Head(); h == nil || h.PlanHash != plan.Hash(p) {
 			t.Errorf("%s: the registration does not register the current plan (re-register after an amendment)", name)
 		}
+	}
+}
+
+// TestExampleCSVAndXLSXAgree runs each example on its CSV and on its XLSX
+// copy (given on the command line, so read by extension): the table hash
+// and every endpoint result are the same.
+func TestExampleCSVAndXLSXAgree(t *testing.T) {
+	for _, name := range exampleNames {
+		t.Run(name, func(t *testing.T) {
+			csvRes, out := exampleRun(t, name)
+			dir := filepath.Dir(out)
+			xr, err := Run(RunOptions{PlanPath: filepath.Join(dir, "plan.yaml"), DataPath: filepath.Join(dir, "plots.xlsx"),
+				OutDir: filepath.Join(dir, "run-xlsx"), Now: t0.Add(49 * 3600e9), Tool: ToolInfo{Name: "furrow", Version: "test"}})
+			if err != nil {
+				t.Fatal(err)
+			}
+			if xr.Inputs.TableHash != csvRes.Inputs.TableHash {
+				t.Errorf("table hash: csv %s, xlsx %s", csvRes.Inputs.TableHash, xr.Inputs.TableHash)
+			}
+			a, _ := json.Marshal(csvRes.Endpoints)
+			b, _ := json.Marshal(xr.Endpoints)
+			if !bytes.Equal(a, b) {
+				t.Errorf("endpoint results differ between the CSV and the XLSX data")
+			}
+		})
 	}
 }

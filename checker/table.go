@@ -299,7 +299,9 @@ func trimCell(s string) string {
 // ReadTable reads the data file a plan names. dataPath "" means p.Data.File
 // relative to the directory of the plan file (p.Path); any other value is
 // used as given. The format, sheet, delimiter, decimal mark and missing
-// codes come from p.Data; an empty format is taken from the file extension.
+// codes come from p.Data; the format is taken from the file extension when
+// the plan gives none, or when dataPath is given and its extension (.csv,
+// .txt, .xlsx, .xlsm) names a format.
 //
 // The error is for unreadable input: a missing, empty or binary file, or a
 // file that is not CSV or XLSX. Problems with the content (ragged rows, an
@@ -331,13 +333,21 @@ func ReadTable(p *plan.Plan, dataPath string) (*Table, plan.Diagnostics, error) 
 		return nil, nil, fmt.Errorf("reading data %s: the file is empty", name)
 	}
 	format := strings.ToLower(p.Data.Format)
+	byExt := ""
+	switch strings.ToLower(filepath.Ext(path)) {
+	case ".xlsx", ".xlsm":
+		byExt = FormatXLSX
+	case ".csv", ".txt":
+		byExt = FormatCSV
+	}
+	// A data file given explicitly whose extension names the other format
+	// (the plan says csv, the file is plots.xlsx) is read as its extension
+	// says: the same data kept in both forms check and run alike.
+	if format == "" || (dataPath != "" && byExt != "") {
+		format = byExt
+	}
 	if format == "" {
-		switch strings.ToLower(filepath.Ext(path)) {
-		case ".xlsx", ".xlsm":
-			format = FormatXLSX
-		default:
-			format = FormatCSV
-		}
+		format = FormatCSV
 	}
 	opts, err := newReadOptions(p)
 	if err != nil {

@@ -3,7 +3,6 @@ package main
 import (
 	"fmt"
 	"path/filepath"
-	"strings"
 
 	"furrow/checker"
 	"furrow/plan"
@@ -69,14 +68,13 @@ func runCheck(e *env, c *command, args []string) int {
 	var sum *checker.DesignSummary
 	planErrs := ds.HasErrors()
 	if !planErrs {
-		q := withFormatOf(p, dataPath)
-		t, dds, err := checker.ReadTable(q, dataPath)
+		t, dds, err := checker.ReadTable(p, dataPath)
 		if err != nil {
 			return fail(e, c, err)
 		}
 		ds = append(ds, dds...)
 		if t != nil {
-			cds, s := checker.CheckData(q, t)
+			cds, s := checker.CheckData(p, t)
 			ds = append(ds, cds...)
 			sum = s
 		}
@@ -113,30 +111,6 @@ func runCheck(e *env, c *command, args []string) int {
 	}
 	fmt.Fprintf(e.stdout, "%s: data match plan %s: %s\n", e.rel(shown), planName(p), dataShape(sum, warns))
 	return exitOK
-}
-
-// withFormatOf returns p itself, or a copy whose data format is the one
-// the extension of dataPath names when that differs from the plan's. The
-// plan is never modified.
-func withFormatOf(p *plan.Plan, dataPath string) *plan.Plan {
-	if p == nil || dataPath == "" {
-		return p
-	}
-	var format string
-	switch strings.ToLower(filepath.Ext(dataPath)) {
-	case ".csv", ".txt":
-		format = "csv"
-	case ".xlsx", ".xlsm":
-		format = "xlsx"
-	default:
-		return p
-	}
-	if strings.EqualFold(p.Data.Format, format) {
-		return p
-	}
-	q := *p
-	q.Data.Format = format
-	return &q
 }
 
 // dataShape counts what the data hold: "144 rows, 72 units, 0 warnings".
