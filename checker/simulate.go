@@ -84,9 +84,10 @@ const DefaultSimRuns = 200
 //     log(100).
 //   - ResidualSD: (max - min) / 20 on the identity scale when both bounds
 //     are declared, else 1; 0.4 on the log scale.
-//   - SiteSD = ResidualSD, BlockSD = 0.5 * ResidualSD, UnitSD = 0.5 *
-//     ResidualSD when a unit has more than one row (repeat levels or
-//     sub-samples), else 0 (it would only add to the residual).
+//   - SiteSD = ResidualSD when there is a site column, BlockSD = 0.5 *
+//     ResidualSD when there is a block column, UnitSD = 0.5 * ResidualSD
+//     when a unit has more than one row (repeat levels or sub-samples);
+//     each is 0 otherwise (an explicit value is used as given).
 //
 // # The simulated layout
 //
@@ -227,10 +228,11 @@ type SimCheck struct {
 
 // SimHypothesis tallies one hypothesis.
 type SimHypothesis struct {
-	ID    string `json:"id"`
-	Kind  string `json:"kind"`
-	Sides string `json:"sides"`
-	// Adjust is the declared multiplicity adjustment.
+	ID   string `json:"id"`
+	Kind string `json:"kind"`
+	// Sides and Adjust are the declared sides and multiplicity adjustment
+	// ("" for term, equivalence and non-inferiority hypotheses).
+	Sides  string `json:"sides"`
 	Adjust string `json:"adjust"`
 	// Assessable: share of runs in which the reported step could answer it.
 	Assessable SimRate `json:"assessable"`
@@ -296,45 +298,45 @@ type simCov struct {
 // same plan and options give the same result.
 func Simulate(p *plan.Plan, opt SimOptions) (*SimResult, error) {
 	if p == nil {
-		return nil, errors.New("simulate: no plan")
+		return nil, errors.New("no plan")
 	}
 	if len(p.Endpoints) == 0 {
-		return nil, errors.New("simulate: the plan declares no endpoints")
+		return nil, errors.New("the plan declares no endpoints")
 	}
 	runs := opt.Runs
 	if runs == 0 {
 		runs = DefaultSimRuns
 	}
 	if runs < 0 || runs > 1_000_000 {
-		return nil, fmt.Errorf("simulate: runs %d is outside 1 to 1000000", opt.Runs)
+		return nil, fmt.Errorf("runs %d is outside 1 to 1000000", opt.Runs)
 	}
 	shape := opt.Errors
 	if shape == "" {
 		shape = SimNormal
 	}
 	if !slices.Contains(SimErrorShapes, shape) {
-		return nil, fmt.Errorf("simulate: unknown error shape %q (want %s)", opt.Errors, strings.Join(SimErrorShapes, ", "))
+		return nil, fmt.Errorf("unknown error shape %q (want %s)", opt.Errors, strings.Join(SimErrorShapes, ", "))
 	}
 	switch opt.Scale {
 	case "", SimScaleIdentity, SimScaleLog:
 	default:
-		return nil, fmt.Errorf("simulate: unknown scale %q (want identity or log)", opt.Scale)
+		return nil, fmt.Errorf("unknown scale %q (want identity or log)", opt.Scale)
 	}
 	lay, err := buildLayout(p)
 	if err != nil {
-		return nil, fmt.Errorf("simulate: %w", err)
+		return nil, fmt.Errorf("%w", err)
 	}
 	trt := columnByRole(p, plan.RoleTreatment)
 	var effects []SimEffect
 	for lev, d := range opt.Effects {
 		if trt == nil {
-			return nil, errors.New("simulate: effects given but the plan declares no treatment column")
+			return nil, errors.New("effects given but the plan declares no treatment column")
 		}
 		if !slices.Contains(trt.Levels, lev) {
-			return nil, fmt.Errorf("simulate: effect level %q is not a declared level of %s (%s)", lev, trt.Name, strings.Join(trt.Levels, ", "))
+			return nil, fmt.Errorf("effect level %q is not a declared level of %s (%s)", lev, trt.Name, strings.Join(trt.Levels, ", "))
 		}
 		if math.IsNaN(d) || math.IsInf(d, 0) {
-			return nil, fmt.Errorf("simulate: effect of %s is not a finite number", lev)
+			return nil, fmt.Errorf("effect of %s is not a finite number", lev)
 		}
 		effects = append(effects, SimEffect{Level: lev, Delta: d})
 	}
@@ -351,7 +353,7 @@ func Simulate(p *plan.Plan, opt SimOptions) (*SimResult, error) {
 		}
 		m, err := responseModel(p, c, opt, lay)
 		if err != nil {
-			return nil, fmt.Errorf("simulate: response %s: %w", c.Name, err)
+			return nil, fmt.Errorf("response %s: %w", c.Name, err)
 		}
 		models = append(models, m)
 	}
@@ -362,7 +364,7 @@ func Simulate(p *plan.Plan, opt SimOptions) (*SimResult, error) {
 	if diags, _ := CheckData(p, first); diags.HasErrors() {
 		for _, d := range diags.Sort() {
 			if d.Severity == plan.Error {
-				return nil, fmt.Errorf("simulate: the simulated data do not meet the plan (%s); this design cannot be simulated", d.Summary)
+				return nil, fmt.Errorf("the simulated data do not meet the plan (%s); this design cannot be simulated", d.Summary)
 			}
 		}
 	}
@@ -390,7 +392,7 @@ func Simulate(p *plan.Plan, opt SimOptions) (*SimResult, error) {
 	wg.Wait()
 	for i := range out {
 		if out[i].err != nil {
-			return nil, fmt.Errorf("simulate: data set %d: %w", i+1, out[i].err)
+			return nil, fmt.Errorf("data set %d: %w", i+1, out[i].err)
 		}
 	}
 	for k := range models {
@@ -608,7 +610,12 @@ func responseModel(p *plan.Plan, c *plan.Column, opt SimOptions, lay *simLayout)
 	if opt.Mean != nil {
 		m.Mean = *opt.Mean
 	}
-	m.SiteSD, m.BlockSD = m.ResidualSD, m.ResidualSD/2
+	if lay.nSite > 1 || columnByRole(p, plan.RoleSite) != nil {
+		m.SiteSD = m.ResidualSD
+	}
+	if lay.nBlock > 0 {
+		m.BlockSD = m.ResidualSD / 2
+	}
 	if lay.multiRow {
 		m.UnitSD = m.ResidualSD / 2
 	}
@@ -893,8 +900,11 @@ func tallyEndpoint(p *plan.Plan, ep *plan.Endpoint, k int, runs []simRun, delta 
 	for h := range ep.Hypotheses {
 		hyp := &ep.Hypotheses[h]
 		st := SimHypothesis{ID: hyp.ID, Kind: hyp.Kind, Sides: cmp.Or(hyp.Sides, "two-sided"), Adjust: cmp.Or(hyp.Adjust, plan.AdjustNone)}
-		if hyp.Kind == plan.HypEquivalence || hyp.Kind == plan.HypNonInferiority {
-			st.Adjust = ""
+		switch hyp.Kind {
+		case plan.HypEquivalence, plan.HypNonInferiority:
+			st.Adjust, st.Sides = "", ""
+		case plan.HypTerm:
+			st.Adjust, st.Sides = "", ""
 		}
 		factor := hyp.Factor
 		if factor == "" && trt != nil {

@@ -44,6 +44,7 @@ var commands = []*command{
 	runCommand,
 	verifyCommand,
 	explainCommand,
+	simulateCommand,
 	keygenCommand,
 	versionCommand,
 }
