@@ -85,7 +85,7 @@ func hypothesis(p *plan.Plan, ep *plan.Endpoint, s *plan.Step, f *fitted, h *pla
 	}
 	// The same comparisons as on a rank step; a missing control shows up
 	// below as a comparison whose level has no marginal mean.
-	pairs, _ := hypothesisPairs(p, h, factor, levels)
+	pairs, pairNote := hypothesisPairs(p, h, factor, levels)
 	tr := s.Transform
 	var ps []float64
 	ls := make([][]float64, 0, len(pairs)) // contrast vector per comparison (nil when a level is missing)
@@ -163,6 +163,7 @@ func hypothesis(p *plan.Plan, ep *plan.Endpoint, s *plan.Step, f *fitted, h *pla
 		pa := float64(hr.Comparisons[i].PAdjusted)
 		hr.Comparisons[i].Reject = !math.IsNaN(pa) && pa < alpha
 	}
+	hr.Note = joinNotes(pairNote, hr.Note)
 	return hr
 }
 

@@ -31,6 +31,8 @@ package checker
 import (
 	"fmt"
 	"math"
+	"slices"
+	"strings"
 
 	"furrow/plan"
 	"furrow/stats/dist"
@@ -123,6 +125,15 @@ func rankHypothesis(p *plan.Plan, s *plan.Step, f *fitted, h *plan.Hypothesis, e
 func hypothesisPairs(p *plan.Plan, h *plan.Hypothesis, factor string, levels []string) ([][2]string, string) {
 	var pairs [][2]string
 	note := ""
+	// The family is the declared one: a declared level left without data
+	// (every unit excluded) stays in it as a comparison that cannot be made,
+	// instead of disappearing from the record.
+	if c := planColumn(p, factor); c != nil && len(c.Levels) > 0 {
+		if missing := missingLevels(c.Levels, levels); len(missing) > 0 {
+			levels = c.Levels
+			note = fmt.Sprintf("%s %s has no analysed data; its comparisons are not assessable", factor, strings.Join(missing, ", "))
+		}
+	}
 	switch h.Kind {
 	case plan.HypVersusControl:
 		ctrl := ""
@@ -130,7 +141,7 @@ func hypothesisPairs(p *plan.Plan, h *plan.Hypothesis, factor string, levels []s
 			ctrl = c.Control
 		}
 		if ctrl == "" {
-			note = fmt.Sprintf("%s declares no control level", factor)
+			note = joinNotes(note, fmt.Sprintf("%s declares no control level", factor))
 		}
 		lv := h.Levels
 		if len(lv) == 0 {
@@ -161,6 +172,29 @@ func hypothesisPairs(p *plan.Plan, h *plan.Hypothesis, factor string, levels []s
 		pairs = append(pairs, [2]string{h.Test, h.Against})
 	}
 	return pairs, note
+}
+
+// missingLevels returns the declared levels that are not in present, in
+// declared order.
+func missingLevels(declared, present []string) []string {
+	var out []string
+	for _, l := range declared {
+		if !slices.Contains(present, l) {
+			out = append(out, l)
+		}
+	}
+	return out
+}
+
+// joinNotes joins two note sentences with "; ", skipping empty ones.
+func joinNotes(a, b string) string {
+	switch {
+	case a == "":
+		return b
+	case b == "":
+		return a
+	}
+	return a + "; " + b
 }
 
 // adjustFinite applies a stats/multcomp adjustment to the p-values that
