@@ -115,6 +115,13 @@ func (e *engine) runCheck(f *fitted, s *plan.Step, c *plan.Check) CheckResult {
 		cr.Verdict, cr.Error = VerdictError, "the step has no residuals to check"
 		return cr
 	}
+	if perfectFit(f) {
+		// Residuals that are rounding noise around an exact fit would give
+		// the tests a p-value of no meaning (input: a response constant
+		// within every group).
+		cr.Verdict, cr.Error = VerdictError, "the residuals are zero up to rounding, so the model fits the data exactly and the check cannot be computed"
+		return cr
+	}
 	out, err := safeCheck(fn, f, s, c, by)
 	cr.On, cr.N, cr.Statistic, cr.DF, cr.P = out.on, out.n, Num(out.statistic), nums(out.df), Num(out.p)
 	switch {
@@ -129,6 +136,21 @@ func (e *engine) runCheck(f *fitted, s *plan.Step, c *plan.Check) CheckResult {
 		cr.Verdict = VerdictPass
 	}
 	return cr
+}
+
+// perfectFit reports whether a model's residuals are all zero up to
+// rounding: no residual exceeds 1e-12 times the largest fitted value in
+// magnitude (QR rounding leaves residuals of order n·eps times the data).
+func perfectFit(f *fitted) bool {
+	if f.residOnly || len(f.fit) == 0 || len(f.fit) != len(f.resid) {
+		return false
+	}
+	scale, big := 0.0, 0.0
+	for i := range f.resid {
+		scale = math.Max(scale, math.Abs(f.fit[i]))
+		big = math.Max(big, math.Abs(f.resid[i]))
+	}
+	return big <= 1e-12*scale
 }
 
 func safeCheck(fn checkFunc, f *fitted, s *plan.Step, c *plan.Check, by []string) (out checkOutcome, err error) {
