@@ -1,8 +1,11 @@
 package checker
 
 import (
+	"encoding/json"
 	"math"
 	"math/rand/v2"
+	"os"
+	"path/filepath"
 	"reflect"
 	"strings"
 	"testing"
@@ -109,7 +112,7 @@ func TestSimulateDeterministic(t *testing.T) {
 // (Dunnett 1955, JASA 50:1096-1121). Tolerance: 4 binomial MC SE.
 func TestSimulateNullTypeIError(t *testing.T) {
 	p := loadSimPlan(t, simPlan)
-	const runs = 1500
+	const runs = 1000
 	r, err := Simulate(p, SimOptions{Runs: runs, Seed: 3})
 	if err != nil {
 		t.Fatal(err)
@@ -322,5 +325,49 @@ func TestSimulateRefusesBadOptions(t *testing.T) {
 	}
 	if _, err := Simulate(nil, SimOptions{}); err == nil {
 		t.Error("nil plan: no error")
+	}
+}
+
+// The check tallies agree with a direct simulation in R: the size of
+// Levene's and the Brown-Forsythe test for 8 groups of 4 normal values
+// (checker/testdata/simulate/ref.R, R 4.2.2; Levene's mean-centred test
+// is far above its nominal 0.05 at this group size). Tolerance: 4
+// combined binomial standard errors of the two simulations.
+func TestSimulateCheckSizeMatchesR(t *testing.T) {
+	b, err := os.ReadFile(filepath.Join("testdata", "simulate", "ref.json"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	var ref struct {
+		Source     string  `json:"source"`
+		Replicates int     `json:"replicates"`
+		Levene     float64 `json:"levene_mean_size"`
+		BF         float64 `json:"brown_forsythe_size"`
+	}
+	if err := json.Unmarshal(b, &ref); err != nil {
+		t.Fatal(err)
+	}
+	src := strings.Replace(simPlan, "replicates: 5", "replicates: 4", 1)
+	src = strings.Replace(src, "levels: [C, A, B]", "levels: [C, A, B, D, E, F, G, H]", 1)
+	src = strings.Replace(src, "        fixed: [trt]\n", "        fixed: [trt]\n        checks:\n          - {test: levene, by: [trt], fail-below: 0.05}\n          - {test: brown-forsythe, by: [trt], fail-below: 0.05}\n", 1)
+	src = src[:strings.Index(src, "    hypotheses:")] + "    hypotheses:\n      - {id: t, kind: term, term: [trt]}\n"
+	p := loadSimPlan(t, src)
+	const runs = 1000
+	r, err := Simulate(p, SimOptions{Runs: runs, Seed: 4})
+	if err != nil {
+		t.Fatal(err)
+	}
+	checks := r.Endpoints[0].Steps[0].Checks
+	for i, want := range []float64{ref.Levene, ref.BF} {
+		got := checks[i].NotMet
+		se := math.Sqrt(want * (1 - want) * (1/float64(runs) + 1/float64(ref.Replicates)))
+		if got.Of != runs || math.Abs(got.Rate-want) > 4*se {
+			t.Errorf("%s not met in %.4f of %d runs, want %.4f ± %.4f (%s)", checks[i].Test, got.Rate, got.Of, want, 4*se, ref.Source)
+		}
+	}
+	// the F test of the treatment term has exact size alpha under the null
+	// (Fisher's F distribution of the ANOVA ratio)
+	if f := r.Endpoints[0].Hypotheses[0].Any; !nearRate(f, 0.05, 4) {
+		t.Errorf("F test size %.4f ± %.4f, want 0.05", f.Rate, f.SE)
 	}
 }
