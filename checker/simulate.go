@@ -177,7 +177,8 @@ type SimResponse struct {
 	UnitSD     float64  `json:"unit_sd"`
 	Min        *float64 `json:"min"`
 	Max        *float64 `json:"max"`
-	// Redrawn is the share of errors drawn again to stay in the declared range.
+	// Redrawn is the number of errors drawn again to stay in the declared
+	// range, per simulated value.
 	Redrawn float64 `json:"redrawn"`
 }
 
@@ -385,7 +386,7 @@ func Simulate(p *plan.Plan, opt SimOptions) (*SimResult, error) {
 			for i := w; i < runs; i += workers {
 				t, rd := simTable(p, lay, models, delta, shape, simStream(opt.Seed, uint64(i)))
 				redraws[i] = rd
-				out[i] = simOne(eng, p, t, delta)
+				out[i] = simOne(eng, p, t)
 			}
 		}()
 	}
@@ -776,7 +777,7 @@ func draws(r *rand.Rand, n int, sd float64) []float64 {
 }
 
 // simOne runs every endpoint on one data set.
-func simOne(eng *engine, p *plan.Plan, t *Table, delta map[string]float64) simRun {
+func simOne(eng *engine, p *plan.Plan, t *Table) simRun {
 	kept, _, _, err := applyExclusions(p, t)
 	if err != nil {
 		return simRun{err: err}
