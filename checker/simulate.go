@@ -62,10 +62,13 @@ const DefaultSimRuns = 200
 // within s, unit u, repeat level r, sub-sample k) is, on the generating
 // scale,
 //
-//	eta = Mean + a_s + b_sb + u_u + delta(treatment of u, r) + e
+//	eta = Mean + a_s + b_sb + u_u + sum_g w_g + delta(treatment of u, r) + e
 //
-// with a_s ~ N(0, SiteSD^2), b_sb ~ N(0, BlockSD^2), u_u ~ N(0, UnitSD^2)
-// independent and e drawn from the Errors shape with standard deviation
+// with a_s ~ N(0, SiteSD^2), b_sb ~ N(0, BlockSD^2), u_u ~ N(0, UnitSD^2),
+// and one w_g ~ N(0, GroupSD^2) per group of each further random term the
+// plan's steps declare (a term of several columns beyond block within site,
+// such as the whole plot block x irrigation of a split-plot), independent,
+// and e drawn from the Errors shape with standard deviation
 // ResidualSD. On the identity scale the response is eta, on the log scale
 // exp(eta). delta is Effects[level] (0 for levels not named) at every
 // level of the repeat factor except its first, which is taken as the
@@ -86,7 +89,8 @@ const DefaultSimRuns = 200
 //     are declared, else 1; 0.4 on the log scale.
 //   - SiteSD = ResidualSD when there is a site column, BlockSD = 0.5 *
 //     ResidualSD when there is a block column, UnitSD = 0.5 * ResidualSD
-//     when a unit has more than one row (repeat levels or sub-samples);
+//     when a unit has more than one row (repeat levels or sub-samples),
+//     GroupSD = 0.5 * ResidualSD when there are further random terms;
 //     each is 0 otherwise (an explicit value is used as given).
 //
 // # The simulated layout
@@ -118,7 +122,7 @@ type SimOptions struct {
 	Scale string
 	// Mean, ResidualSD, SiteSD, BlockSD, UnitSD override the defaults for
 	// every response column; nil keeps the default.
-	Mean, ResidualSD, SiteSD, BlockSD, UnitSD *float64
+	Mean, ResidualSD, SiteSD, BlockSD, UnitSD, GroupSD *float64
 	// Workers is the number of goroutines (0: up to 2, never more than
 	// GOMAXPROCS).
 	Workers int
@@ -168,15 +172,20 @@ type SimEffect struct {
 
 // SimResponse is the generating model of one response column.
 type SimResponse struct {
-	Column     string   `json:"column"`
-	Scale      string   `json:"scale"`
-	Mean       float64  `json:"mean"`
-	ResidualSD float64  `json:"residual_sd"`
-	SiteSD     float64  `json:"site_sd"`
-	BlockSD    float64  `json:"block_sd"`
-	UnitSD     float64  `json:"unit_sd"`
-	Min        *float64 `json:"min"`
-	Max        *float64 `json:"max"`
+	Column     string  `json:"column"`
+	Scale      string  `json:"scale"`
+	Mean       float64 `json:"mean"`
+	ResidualSD float64 `json:"residual_sd"`
+	SiteSD     float64 `json:"site_sd"`
+	BlockSD    float64 `json:"block_sd"`
+	UnitSD     float64 `json:"unit_sd"`
+	// GroupSD is the standard deviation of the effects of each further
+	// random grouping the plan declares (Groups names them), e.g. whole
+	// plots in a split-plot.
+	GroupSD float64  `json:"group_sd"`
+	Groups  []string `json:"groups"`
+	Min     *float64 `json:"min"`
+	Max     *float64 `json:"max"`
 	// Redrawn is the number of errors drawn again to stay in the declared
 	// range, per simulated value.
 	Redrawn float64 `json:"redrawn"`
@@ -284,6 +293,14 @@ type simLayout struct {
 	nUnit    int
 	multiRow bool // a unit has more than one row
 	covs     []simCov
+	// groups are the further random groupings the plan's steps declare
+	// (random terms of several columns other than block within site, e.g.
+	// the whole plot block x irrigation of a split-plot): the group index
+	// of every row, per term, and the number of groups.
+	groups  [][]int
+	nGroups []int
+	// groupNames name those terms, e.g. "irrigation within block".
+	groupNames []string
 }
 
 type simCov struct {
@@ -548,7 +565,66 @@ func buildLayout(p *plan.Plan) (*simLayout, error) {
 		}
 	}
 	lay.nBlock = len(blockKey)
+	addGroupings(p, lay)
 	return lay, nil
+}
+
+// addGroupings adds to the layout the random terms of several columns that
+// the plan's steps declare and the site, block and unit effects do not
+// already cover (a term whose columns are all site and block columns is
+// the block within site; a term that holds the unit column is the unit).
+// Terms are taken in plan order, each once; groups are numbered in row
+// order so the draws are deterministic.
+func addGroupings(p *plan.Plan, lay *simLayout) {
+	seen := map[string]bool{}
+	for _, ep := range p.Endpoints {
+		for _, st := range ep.Steps {
+			for _, t := range st.Random {
+				if len(t.Columns) < 2 {
+					continue
+				}
+				covered := true
+				for _, name := range t.Columns {
+					c := planColumn(p, name)
+					if c == nil {
+						covered = true
+						break
+					}
+					if c.Role == plan.RoleUnit {
+						covered = true
+						break
+					}
+					if c.Role != plan.RoleSite && c.Role != plan.RoleBlock {
+						covered = false
+					}
+				}
+				key := strings.Join(t.Columns, "\x00")
+				if covered || seen[key] {
+					continue
+				}
+				seen[key] = true
+				idx := map[string]int{}
+				rows := make([]int, len(lay.fixed))
+				for i, row := range lay.fixed {
+					var parts []string
+					for _, name := range t.Columns {
+						parts = append(parts, row[lay.colIdx[name]])
+					}
+					k := strings.Join(parts, "\x00")
+					g, ok := idx[k]
+					if !ok {
+						g = len(idx)
+						idx[k] = g
+					}
+					rows[i] = g
+				}
+				lay.groups = append(lay.groups, rows)
+				lay.nGroups = append(lay.nGroups, len(idx))
+				inner := t.Columns[len(t.Columns)-1]
+				lay.groupNames = append(lay.groupNames, inner+" within "+strings.Join(t.Columns[:len(t.Columns)-1], " x "))
+			}
+		}
+	}
 }
 
 func cond[T any](c bool, a, b T) T {
@@ -620,15 +696,22 @@ func responseModel(p *plan.Plan, c *plan.Column, opt SimOptions, lay *simLayout)
 	if lay.multiRow {
 		m.UnitSD = m.ResidualSD / 2
 	}
+	m.Groups = slices.Clone(lay.groupNames)
+	if m.Groups == nil {
+		m.Groups = []string{}
+	}
+	if len(lay.groups) > 0 {
+		m.GroupSD = m.ResidualSD / 2
+	}
 	for _, o := range []struct {
 		v   *float64
 		dst *float64
-	}{{opt.SiteSD, &m.SiteSD}, {opt.BlockSD, &m.BlockSD}, {opt.UnitSD, &m.UnitSD}} {
+	}{{opt.SiteSD, &m.SiteSD}, {opt.BlockSD, &m.BlockSD}, {opt.UnitSD, &m.UnitSD}, {opt.GroupSD, &m.GroupSD}} {
 		if o.v != nil {
 			*o.dst = *o.v
 		}
 	}
-	for name, v := range map[string]float64{"mean": m.Mean, "residual sd": m.ResidualSD, "site sd": m.SiteSD, "block sd": m.BlockSD, "unit sd": m.UnitSD} {
+	for name, v := range map[string]float64{"mean": m.Mean, "residual sd": m.ResidualSD, "site sd": m.SiteSD, "block sd": m.BlockSD, "unit sd": m.UnitSD, "group sd": m.GroupSD} {
 		if math.IsNaN(v) || math.IsInf(v, 0) || (name != "mean" && v < 0) {
 			return m, fmt.Errorf("%s %g is not usable", name, v)
 		}
@@ -700,8 +783,15 @@ func simTable(p *plan.Plan, lay *simLayout, models []SimResponse, delta map[stri
 		site := draws(r, lay.nSite, m.SiteSD)
 		block := draws(r, lay.nBlock, m.BlockSD)
 		unit := draws(r, lay.nUnit, m.UnitSD)
+		group := make([][]float64, len(lay.groups))
+		for g := range lay.groups {
+			group[g] = draws(r, lay.nGroups[g], m.GroupSD)
+		}
 		for i := range n {
 			eta := m.Mean
+			for g := range lay.groups {
+				eta += group[g][lay.groups[g][i]]
+			}
 			if lay.site[i] >= 0 {
 				eta += site[lay.site[i]]
 			}

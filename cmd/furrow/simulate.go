@@ -157,6 +157,9 @@ func writeSimulation(w io.Writer, r *checker.SimResult) error {
 				fmt.Fprintf(&b, ", %s sd %s", sd.name, num(sd.v))
 			}
 		}
+		if m.GroupSD > 0 {
+			fmt.Fprintf(&b, ", sd %s for each of %s", num(m.GroupSD), strings.Join(m.Groups, ", "))
+		}
 		if m.Redrawn > 0 {
 			fmt.Fprintf(&b, "; %.2f%% of errors redrawn to stay in range", 100*m.Redrawn)
 		}
