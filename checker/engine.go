@@ -103,7 +103,8 @@ func Run(opt RunOptions) (*Result, error) {
 	if ddiags.HasErrors() {
 		return nil, &DataError{Diagnostics: ddiags.Sort()}
 	}
-	cdiags, _ := CheckData(p, t)
+	cdiags, seen := CheckData(p, t)
+	r.Design = designSeen(seen)
 	all := append(append(plan.Diagnostics(nil), ddiags...), cdiags...).Sort()
 	if all.HasErrors() {
 		return nil, &DataError{Diagnostics: all}

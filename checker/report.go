@@ -520,6 +520,31 @@ func (rep *Report) Markdown() []byte {
 			w("\n")
 		}
 	}
+	if d := r.Design; d != nil {
+		w("## Design as seen\n\n%d rows", d.Rows)
+		if d.UnitColumn != "" {
+			w(", %d units (`%s`)", d.Units, d.UnitColumn)
+		}
+		w(", before exclusions")
+		if d.Replicates > 0 {
+			w("; the plan declares %d units per cell", d.Replicates)
+		}
+		w(".\n\n")
+		if len(d.Cells) > 0 {
+			w("| %s | units |\n|%s --- |\n", strings.Join(d.CellColumns, " | "), strings.Repeat(" --- |", len(d.CellColumns)))
+			for _, c := range d.Cells {
+				w("| %s | %d |\n", strings.Join(c.Levels, " | "), c.Units)
+			}
+			w("\n")
+		}
+		if len(d.Missing) > 0 {
+			var parts []string
+			for _, m := range d.Missing {
+				parts = append(parts, fmt.Sprintf("`%s` %d", m.Column, m.Missing))
+			}
+			w("Missing values: %s.\n\n", strings.Join(parts, ", "))
+		}
+	}
 	if len(r.Exclusions) > 0 {
 		w("## Rows excluded\n\n| Row | Unit | Rule | Rule position |\n| --- | --- | --- | --- |\n")
 		for _, x := range r.Exclusions {

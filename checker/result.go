@@ -32,6 +32,9 @@ type Result struct {
 	Trial TrialInfo `json:"trial"`
 	// Inputs fingerprints the plan, its registration and the data.
 	Inputs Inputs `json:"inputs"`
+	// Design is the design as seen in the data, before exclusions: units
+	// per treatment cell and missing values per column.
+	Design *DesignSeen `json:"design"`
 	// DataWarnings are the data-contract warnings carried into the run
 	// (errors stop the run before a record is written).
 	DataWarnings []Finding `json:"data_warnings"`
@@ -529,4 +532,50 @@ type Signature struct {
 	PublicKey string `json:"public_key"`
 	// Value is the base64 (standard, padded) signature.
 	Value string `json:"value"`
+}
+
+// DesignSeen is the record's copy of the data contract's design summary.
+type DesignSeen struct {
+	// Rows and Units count the data rows and distinct units read.
+	Rows  int `json:"rows"`
+	Units int `json:"units"`
+	// UnitColumn is the unit column ("" when the plan has none).
+	UnitColumn string `json:"unit_column"`
+	// CellColumns make a treatment cell (site first when there is one).
+	CellColumns []string `json:"cell_columns"`
+	// Replicates is design.replicates (0 when not declared).
+	Replicates int `json:"replicates"`
+	// Cells are the units per combination of the cell columns' levels.
+	Cells []CellSeen `json:"cells"`
+	// Missing counts missing values per declared column that has any.
+	Missing []MissingSeen `json:"missing"`
+}
+
+// CellSeen is the number of units in one treatment cell.
+type CellSeen struct {
+	Levels []string `json:"levels"`
+	Units  int      `json:"units"`
+}
+
+// MissingSeen is the number of missing values in one column.
+type MissingSeen struct {
+	Column  string `json:"column"`
+	Missing int    `json:"missing"`
+}
+
+// designSeen copies the parts of a design summary that do not depend on
+// where the files are (the summary's Data path is left out).
+func designSeen(s *DesignSummary) *DesignSeen {
+	if s == nil {
+		return nil
+	}
+	d := &DesignSeen{Rows: s.Rows, Units: s.Units, UnitColumn: s.UnitColumn, CellColumns: append([]string{}, s.CellColumns...),
+		Replicates: s.Replicates, Cells: []CellSeen{}, Missing: []MissingSeen{}}
+	for _, c := range s.Cells {
+		d.Cells = append(d.Cells, CellSeen{Levels: append([]string{}, c.Levels...), Units: c.Units})
+	}
+	for _, m := range s.Missing {
+		d.Missing = append(d.Missing, MissingSeen{Column: m.Column, Missing: m.Missing})
+	}
+	return d
 }
