@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"math"
 
+	"gonum.org/v1/gonum/floats"
 	"gonum.org/v1/gonum/mat"
 	"gonum.org/v1/gonum/mathext"
 	"gonum.org/v1/gonum/stat/distuv"
@@ -175,12 +176,10 @@ func fit(x mat.Matrix, y []float64, opt *Options, dm *design.Matrix) (*Result, e
 			}
 		}
 	}
-	for i := 0; i < n; i++ {
-		for j, v := range xd.RawRowView(i) {
-			if math.IsNaN(v) || math.IsInf(v, 0) {
-				return nil, fmt.Errorf("fitting linear model: X is not finite at row %d, column %d", i, j)
-			}
-		}
+	i0 := firstPositive(w)
+	st := scanX(xd, w, i0, dm == nil)
+	if st.badRow >= 0 {
+		return nil, fmt.Errorf("fitting linear model: X is not finite at row %d, column %d", st.badRow, st.badCol)
 	}
 	if npos <= 0 {
 		return nil, errors.New("fitting linear model: no observation has a positive weight")
@@ -205,61 +204,59 @@ func fit(x mat.Matrix, y []float64, opt *Options, dm *design.Matrix) (*Result, e
 		for j := range res.Names {
 			res.Names[j] = fmt.Sprintf("x%d", j+1)
 		}
-		res.ic = constantColumn(xd, w)
+		for j, c := range st.constant {
+			if c && xd.At(i0, j) != 0 {
+				res.ic = j
+				break
+			}
+		}
 	}
 	res.Intercept = res.ic >= 0
 	if res.ic >= 0 {
-		res.kappa = xd.At(firstPositive(w), res.ic)
+		res.kappa = xd.At(i0, res.ic)
 		if res.kappa == 0 {
 			res.ic = -1
 			res.Intercept = false
 		}
 	}
 
-	// Centre and scale the columns (column-major copy).
+	// Centre the columns (when there is an intercept) by their weighted
+	// means. Any centre gives the same fit, the intercept taking up the
+	// difference; centring only keeps a large common offset out of the
+	// factorisation, so one pass, summed by chunks, is enough.
 	res.center = make([]float64, p)
 	res.scale = make([]float64, p)
-	cols := make([][]float64, p)
-	buf := make([]float64, n*p)
-	for j := 0; j < p; j++ {
-		cols[j] = buf[j*n : (j+1)*n : (j+1)*n]
-	}
-	for i := 0; i < n; i++ {
-		row := xd.RawRowView(i)
-		for j, v := range row {
-			cols[j][i] = v
-		}
-	}
 	var ybar float64
 	if res.ic >= 0 {
 		ybar = wmean(y, w)
+		sumw := float64(n)
+		if w != nil {
+			sumw = floats.Sum(w)
+		}
 		for j := 0; j < p; j++ {
 			if j != res.ic {
-				res.center[j] = wmean(cols[j], w)
+				res.center[j] = st.sum[j] / sumw
 			}
 		}
 	}
-	for j := 0; j < p; j++ {
-		c := cols[j]
-		cj := res.center[j]
-		for i := range c {
-			c[i] = sw[i] * (c[i] - cj)
-		}
-		s := math.Sqrt(sumSq2(c, nil))
+
+	// Unpivoted TSQR of the centred, weighted [Z y], then the pivoted QR
+	// of its R with every column scaled to unit norm. Householder QR is
+	// column-scaling invariant up to rounding of the same order as its
+	// backward error (columnwise; Higham 2002, Accuracy and Stability of
+	// Numerical Algorithms, 2nd ed., sec. 19.3), so scaling R rather than Z
+	// costs no accuracy, and the scale (the column norm of Z) is read off R.
+	big := newTSQR(xd, y, sw, res.center, ybar)
+	rcols, qty := big.rfactor()
+	for j, c := range rcols {
+		s := floats.Norm(c, 2)
 		if s == 0 {
 			s = 1
 		}
 		res.scale[j] = s
-		for i := range c {
-			c[i] /= s
-		}
+		floats.Scale(1/s, c)
 	}
-	yc := make([]float64, n)
-	for i, v := range y {
-		yc[i] = sw[i] * (v - ybar)
-	}
-
-	q := factorize(cols, n, tol, res.ic)
+	q := factorize(rcols, p, tol, res.ic)
 	res.q = q
 	res.Rank = q.rank
 	if q.rank == 0 {
@@ -273,7 +270,6 @@ func fit(x mat.Matrix, y []float64, opt *Options, dm *design.Matrix) (*Result, e
 		res.Aliased = append(res.Aliased, q.piv[k])
 	}
 
-	qty := append([]float64(nil), yc...)
 	q.qtApply(qty)
 	res.z = append([]float64(nil), qty[:q.rank]...)
 	g := append([]float64(nil), res.z...)
@@ -288,22 +284,17 @@ func fit(x mat.Matrix, y []float64, opt *Options, dm *design.Matrix) (*Result, e
 	// refinement of linear least squares solutions I", BIT 7:257-278), with
 	// the residuals f = y - r - Xb and g = -Z'r in twice the working
 	// precision. Unlike refining the solution alone (Golub 1965), this also
-	// converges for large-residual problems.
+	// converges for large-residual problems. Q is the full orthogonal factor
+	// (TSQR reflectors, then those of the pivoted QR of R).
 	res.coef = b
 	rr := make([]float64, n) // weighted residual estimate
-	for i := 0; i < n; i++ {
-		rr[i] = sw[i] * dot2(y[i], xd.RawRowView(i), b, 0)
-	}
 	fv := make([]float64, n)
 	for it := 0; it < refineSteps; it++ {
-		for i := 0; i < n; i++ {
-			if sw[i] == 0 {
-				fv[i] = 0
-				continue
-			}
-			fv[i] = sw[i] * dot2(y[i], xd.RawRowView(i), b, rr[i]/sw[i])
+		mode := passStep
+		if it == 0 {
+			mode = passFirst
 		}
-		gv := res.ztr(rr, sw)
+		gv := res.mapZtr(rowPass(xd, y, sw, b, rr, fv, mode))
 		for k := range gv {
 			gv[k] = -gv[k]
 		}
@@ -316,13 +307,16 @@ func fit(x mat.Matrix, y []float64, opt *Options, dm *design.Matrix) (*Result, e
 			}
 			h[k] = s / q.rdiag[k]
 		}
-		q.qtApply(fv)
+		tops := big.qt(fv)
+		t0 := tops[0]
+		q.qtApply(t0)
 		dg := make([]float64, q.rank)
 		for k := range dg {
-			dg[k] = fv[k] - h[k]
-			fv[k] = h[k]
+			dg[k] = t0[k] - h[k]
+			t0[k] = h[k]
 		}
-		q.qApply(fv) // dr = Q [h; d2]
+		q.qApply(t0)
+		big.q(fv, tops) // dr = Q [h; d2]
 		q.solveR(dg)
 		db := res.toOriginal(dg)
 		var nb, ndb float64
@@ -339,15 +333,12 @@ func fit(x mat.Matrix, y []float64, opt *Options, dm *design.Matrix) (*Result, e
 		}
 	}
 	res.coef = b
+	big.release()
 
 	// Residuals, fitted values, sums of squares.
-	res.Resid = make([]float64, n)
-	res.Fitted = make([]float64, n)
-	for i := 0; i < n; i++ {
-		e := dot2(y[i], xd.RawRowView(i), b, 0)
-		res.Resid[i] = e
-		res.Fitted[i] = y[i] - e
-	}
+	res.Resid = rr
+	res.Fitted = fv
+	rowPass(xd, y, sw, b, res.Resid, res.Fitted, passFinal)
 	res.RSS = sumSq2(res.Resid, w)
 	df := float64(res.DFResid)
 	res.Sigma = math.Sqrt(res.RSS / df)
@@ -403,28 +394,10 @@ func fit(x mat.Matrix, y []float64, opt *Options, dm *design.Matrix) (*Result, e
 	return res, nil
 }
 
-// ztr returns Z'r for the centred, scaled, weighted columns Z = sqrt(W) X T
-// (T the map of toOriginal), by pivot position, from X'(sqrt(w) r) summed
-// with compensation.
-func (r *Result) ztr(rr, sw []float64) []float64 {
-	n, p := r.x.Dims()
-	s := make([]float64, p)
-	c := make([]float64, p)
-	for i := 0; i < n; i++ {
-		if sw[i] == 0 {
-			continue
-		}
-		ri := rr[i] * sw[i]
-		for j, v := range r.x.RawRowView(i) {
-			hi, lo := twoProd(v, ri)
-			var e float64
-			s[j], e = twoSum(s[j], hi)
-			c[j] += e + lo
-		}
-	}
-	for j := range s {
-		s[j] += c[j]
-	}
+// mapZtr maps the sums s = X'(sqrt(w) r) to Z'r for the centred, scaled,
+// weighted columns Z = sqrt(W) X T (T the map of toOriginal), by pivot
+// position.
+func (r *Result) mapZtr(s []float64) []float64 {
 	out := make([]float64, r.q.rank)
 	for k := range out {
 		j := r.q.piv[k]
@@ -695,30 +668,6 @@ func wmean(x, w []float64) float64 {
 		c += wi * (v - mu)
 	}
 	return mu + c/sw
-}
-
-// constantColumn returns the first column whose entries (on rows with a
-// positive weight) are all equal and nonzero, or -1.
-func constantColumn(x *mat.Dense, w []float64) int {
-	n, p := x.Dims()
-	i0 := firstPositive(w)
-	for j := 0; j < p; j++ {
-		v0 := x.At(i0, j)
-		if v0 == 0 {
-			continue
-		}
-		ok := true
-		for i := 0; i < n && ok; i++ {
-			if w != nil && w[i] == 0 {
-				continue
-			}
-			ok = x.At(i, j) == v0
-		}
-		if ok {
-			return j
-		}
-	}
-	return -1
 }
 
 func firstPositive(w []float64) int {
