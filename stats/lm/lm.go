@@ -90,10 +90,11 @@ type Result struct {
 
 // Fit fits y = X b + e by least squares (weighted when opt.Weights is set).
 //
-// The columns are centred (when X has a constant column) and scaled to unit
-// norm, factorised by Householder QR with column pivoting (see pqr), the
-// solution is refined once with residuals computed in twice the working
-// precision (Golub 1965, Numer Math 7:206, sec. 4), and mapped back to the
+// The columns are centred (when X has a constant column), factorised by a
+// tall-skinny Householder QR over row blocks (see tsqr) whose small R factor,
+// scaled to unit column norms, gets the pivoted QR that detects aliasing
+// (see pqr); the solution is refined with residuals computed in twice the
+// working precision (Björck 1967, BIT 7:257), and mapped back to the
 // original columns with its covariance matrix.
 //
 // Errors are returned for data problems: non-finite values, negative
@@ -581,41 +582,51 @@ func (r *Result) Influence() *Influence {
 	rk := q.rank
 	n, _ := r.x.Dims()
 	inf := &Influence{Leverage: make([]float64, n), Standardized: make([]float64, n), Studentized: make([]float64, n), Cook: make([]float64, n)}
-	u := make([]float64, rk)
 	df := float64(r.DFResid)
 	s2 := r.RSS / df
-	for i := 0; i < n; i++ {
-		wi := 1.0
-		if r.w != nil {
-			wi = r.w[i]
+	// R11 row-major, for the forward substitutions.
+	rm := make([]float64, rk*rk)
+	for m := 0; m < rk; m++ {
+		for k := m; k < rk; k++ {
+			rm[m*rk+k] = q.r(m, k)
 		}
-		if wi == 0 {
-			inf.Leverage[i] = 0
-			nan := math.NaN()
-			inf.Standardized[i], inf.Studentized[i], inf.Cook[i] = nan, nan, nan
-			continue
-		}
-		row := r.x.RawRowView(i)
-		sw := math.Sqrt(wi)
-		// Forward substitution R' u = z.
-		var h float64
-		for k := 0; k < rk; k++ {
-			j := q.piv[k]
-			s := sw * (row[j] - r.center[j]) / r.scale[j]
-			for m := 0; m < k; m++ {
-				s -= q.r(m, k) * u[m]
-			}
-			u[k] = s / q.rdiag[k]
-			h += u[k] * u[k]
-		}
-		inf.Leverage[i] = h
-		e := sw * r.Resid[i]
-		om := 1 - h
-		inf.Standardized[i] = e / math.Sqrt(s2*om)
-		s2i := (r.RSS - e*e/om) / (df - 1)
-		inf.Studentized[i] = e / math.Sqrt(s2i*om)
-		inf.Cook[i] = e * e * h / (float64(rk) * s2 * om * om)
 	}
+	// Rows are independent; chunks of rows run in parallel.
+	parallel(chunks(n), func(c int) {
+		u := make([]float64, rk)
+		for i := c * chunkRows; i < min(n, (c+1)*chunkRows); i++ {
+			wi := 1.0
+			if r.w != nil {
+				wi = r.w[i]
+			}
+			if wi == 0 {
+				inf.Leverage[i] = 0
+				nan := math.NaN()
+				inf.Standardized[i], inf.Studentized[i], inf.Cook[i] = nan, nan, nan
+				continue
+			}
+			row := r.x.RawRowView(i)
+			sw := math.Sqrt(wi)
+			// Forward substitution R' u = z.
+			var h float64
+			for k := 0; k < rk; k++ {
+				j := q.piv[k]
+				s := sw * (row[j] - r.center[j]) / r.scale[j]
+				for m := 0; m < k; m++ {
+					s -= rm[m*rk+k] * u[m]
+				}
+				u[k] = s / rm[k*rk+k]
+				h += u[k] * u[k]
+			}
+			inf.Leverage[i] = h
+			e := sw * r.Resid[i]
+			om := 1 - h
+			inf.Standardized[i] = e / math.Sqrt(s2*om)
+			s2i := (r.RSS - e*e/om) / (df - 1)
+			inf.Studentized[i] = e / math.Sqrt(s2i*om)
+			inf.Cook[i] = e * e * h / (float64(rk) * s2 * om * om)
+		}
+	})
 	r.infl = inf
 	return inf
 }

@@ -206,3 +206,27 @@ func TestFitDeterministic(t *testing.T) {
 		same("leverage", a.Influence().Leverage, b.Influence().Leverage)
 	}
 }
+
+func BenchmarkInfluence1e6(b *testing.B) {
+	const n, p = 1_000_000, 30
+	r := rand.New(rand.NewPCG(5, 6))
+	x := mat.NewDense(n, p, nil)
+	y := make([]float64, n)
+	for i := 0; i < n; i++ {
+		row := x.RawRowView(i)
+		row[0] = 1
+		for j := 1; j < p; j++ {
+			row[j] = r.NormFloat64()
+		}
+		y[i] = row[1] + r.NormFloat64()
+	}
+	res, err := Fit(x, y, nil)
+	if err != nil {
+		b.Fatal(err)
+	}
+	b.ResetTimer()
+	for range b.N {
+		res.infl = nil
+		res.Influence()
+	}
+}
