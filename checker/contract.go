@@ -36,6 +36,12 @@ func CheckData(p *plan.Plan, t *Table) (plan.Diagnostics, *DesignSummary) {
 		}
 	}
 	c.columns()
+	if t.NumRows() == 0 {
+		// A header with nothing under it: say so once, rather than letting
+		// every step fail later for want of observations.
+		c.diags = append(c.diags, plan.Diagnostic{Severity: plan.Error, Code: "data-no-rows",
+			Pos: t.HeaderPos(1), Summary: "the data hold a header row but no data rows"})
+	}
 	c.values()
 	c.units()
 	c.replication()

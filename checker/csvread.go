@@ -22,6 +22,12 @@ func readCSV(name string, data []byte, o *readOptions) (*Table, plan.Diagnostics
 		return nil, nil, fmt.Errorf("reading data %s: %w", name, err)
 	}
 	data = bytes.TrimPrefix(data, []byte("\uFEFF"))
+	// A file whose lines end in a lone carriage return (old spreadsheet
+	// exports) has no line feed at all: read its carriage returns as line
+	// ends, so its rows are rows and their numbers are the ones a user sees.
+	if bytes.IndexByte(data, '\n') < 0 && bytes.IndexByte(data, '\r') >= 0 {
+		data = bytes.ReplaceAll(data, []byte{'\r'}, []byte{'\n'})
+	}
 
 	r := csv.NewReader(bytes.NewReader(data))
 	r.Comma = o.delim

@@ -67,6 +67,11 @@ func TestReadCSVVariants(t *testing.T) {
 			rows: []int{4, 7}, yield: []float64{4, 5}, treat: []string{"ctl", "ctl"},
 		},
 		{
+			name: "lone carriage returns",
+			text: "block,plot,treatment,yield\rB1,1,ctl,10.5\rB1,2,new,12\r",
+			rows: []int{2, 3}, yield: []float64{10.5, 12}, treat: []string{"ctl", "new"},
+		},
+		{
 			name: "no final newline",
 			text: "block,plot,treatment,yield\nB1,1,ctl,4",
 			rows: []int{2}, yield: []float64{4}, treat: []string{"ctl"},

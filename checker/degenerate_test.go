@@ -324,9 +324,18 @@ func TestDegenerateXLSXHeaderOnly(t *testing.T) {
 	plan := fmt.Sprintf(degeneratePlan, "data.xlsx", "xlsx", "B1", "", "crd", "  []", linearThenKruskal)
 	plan = strings.Replace(plan, "  format: xlsx\n", "  format: xlsx\n  sheet: plots\n", 1)
 	write(t, pp, plan)
-	r, err := Run(RunOptions{PlanPath: pp, OutDir: filepath.Join(dir, "run"), Now: t0, Tool: ToolInfo{Version: "test"}, Unregistered: true})
-	expectTrailOrError(t, r, err, "no ")
-	if err == nil && r.Endpoints[0].Status != EndpointFailed {
-		t.Errorf("a header-only sheet gave results:\n%s", trail(r))
+	_, err := Run(RunOptions{PlanPath: pp, OutDir: filepath.Join(dir, "run"), Now: t0, Tool: ToolInfo{Version: "test"}, Unregistered: true})
+	var de *DataError
+	if !errors.As(err, &de) {
+		t.Fatalf("a header-only sheet: got %v, want a data error", err)
+	}
+	found := false
+	for _, d := range de.Diagnostics {
+		if d.Code == "data-no-rows" && d.Pos.Line == 1 {
+			found = true
+		}
+	}
+	if !found {
+		t.Errorf("no data-no-rows finding at row 1: %v", de.Diagnostics)
 	}
 }
