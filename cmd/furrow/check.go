@@ -107,7 +107,7 @@ func runCheck(e *env, c *command, args []string) int {
 			where = planPath
 		}
 		fmt.Fprintf(e.stdout, "%s: %s\n", e.rel(where), totals(errs, warns))
-		return exitFindings
+		return exitCode(ds)
 	}
 	fmt.Fprintf(e.stdout, "%s: data match plan %s: %s\n", e.rel(shown), planName(p), dataShape(sum, warns))
 	return exitOK

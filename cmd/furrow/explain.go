@@ -57,7 +57,7 @@ func runExplain(e *env, c *command, args []string) int {
 		e.writeFindings(e.stderr, ds)
 		errs, warns := counts(ds)
 		fmt.Fprintf(e.stderr, "%s: %s; fix the plan before writing its document\n", e.rel(pos[0]), totals(errs, warns))
-		return exitFindings
+		return exitCode(ds)
 	}
 	doc := checker.Explain(p, plan.Hash(p))
 	if *out != "" {

@@ -58,14 +58,24 @@ func runLint(e *env, c *command, args []string) int {
 	errs, warns := counts(ds)
 	if errs > 0 {
 		fmt.Fprintf(e.stdout, "%s: %s\n", e.rel(path), totals(errs, warns))
-		return exitFindings
+		return exitCode(ds)
 	}
 	fmt.Fprintf(e.stdout, "%s: plan %s is sound: %s\n", e.rel(path), planName(p), planShape(p, warns))
 	return exitOK
 }
 
-// exitCode is 1 when the diagnostics hold an error, else 0.
+// unreadableCodes are the plan findings that mean the file is not a plan
+// text at all (binary, oversized or empty): an input that cannot be read.
+var unreadableCodes = map[string]bool{"not-text": true, "too-large": true, "empty": true}
+
+// exitCode is 2 when a finding says the plan file cannot be read as a
+// plan, 1 when the diagnostics hold another error, else 0.
 func exitCode(ds plan.Diagnostics) int {
+	for _, d := range ds {
+		if d.Severity == plan.Error && unreadableCodes[d.Code] {
+			return exitUsage
+		}
+	}
 	if ds.HasErrors() {
 		return exitFindings
 	}
