@@ -199,22 +199,43 @@ func ResidualsVersusFitted(id string, fitted, resid []float64) (Figure, error) {
 // U(i) ~ Beta(i, n - i + 1), mapped through the normal with the sample
 // mean and standard deviation.
 func QQPoints(x []float64) (theo, sorted, lower, upper []float64) {
+	theo, sorted = qqCoordinates(x)
+	all := make([]int, len(x))
+	for i := range all {
+		all[i] = i
+	}
+	lower, upper = qqEnvelope(sorted, all)
+	return theo, sorted, lower, upper
+}
+
+// qqCoordinates returns Blom's normal quantiles and the sorted values.
+func qqCoordinates(x []float64) (theo, sorted []float64) {
 	n := len(x)
 	sorted = slices.Clone(x)
 	slices.Sort(sorted)
-	mean, sd := meanSD(sorted)
 	theo = make([]float64, n)
-	lower = make([]float64, n)
-	upper = make([]float64, n)
-	norm := distuv.UnitNormal
 	for i := 0; i < n; i++ {
-		k := float64(i + 1)
-		theo[i] = norm.Quantile((k - 0.375) / (float64(n) + 0.25))
-		b := distuv.Beta{Alpha: k, Beta: float64(n) - k + 1}
-		lower[i] = mean + sd*norm.Quantile(b.Quantile(0.025))
-		upper[i] = mean + sd*norm.Quantile(b.Quantile(0.975))
+		theo[i] = distuv.UnitNormal.Quantile((float64(i+1) - 0.375) / (float64(n) + 0.25))
 	}
-	return theo, sorted, lower, upper
+	return theo, sorted
+}
+
+// qqEnvelope returns the pointwise 95% envelope at the order statistics
+// idx (0-based ranks) of the sorted sample; each point costs two Beta
+// quantiles, so a thinned figure computes only the points it draws.
+func qqEnvelope(sorted []float64, idx []int) (lower, upper []float64) {
+	n := len(sorted)
+	mean, sd := meanSD(sorted)
+	lower = make([]float64, len(idx))
+	upper = make([]float64, len(idx))
+	norm := distuv.UnitNormal
+	for j, i := range idx {
+		k := float64(i + 1)
+		b := distuv.Beta{Alpha: k, Beta: float64(n) - k + 1}
+		lower[j] = mean + sd*norm.Quantile(b.Quantile(0.025))
+		upper[j] = mean + sd*norm.Quantile(b.Quantile(0.975))
+	}
+	return lower, upper
 }
 
 // NormalQQ draws the normal QQ plot of the residuals with its pointwise
@@ -223,15 +244,16 @@ func NormalQQ(id string, resid []float64) (Figure, error) {
 	if len(resid) < 3 {
 		return Figure{}, fmt.Errorf("QQ plot %s: %d residuals, need at least 3", id, len(resid))
 	}
-	theo, sorted, lo, hi := QQPoints(resid)
+	theo, sorted := qqCoordinates(resid)
 	idx, note := thin(theo, sorted, MaxFigurePoints)
+	lo, hi := qqEnvelope(sorted, idx)
 	p := newPlot("Normal QQ plot of residuals", "normal quantile", "residual (sorted)")
 	band := make(plotter.XYs, 0, 2*len(idx))
-	for _, i := range idx {
-		band = append(band, plotter.XY{X: theo[i], Y: hi[i]})
+	for j, i := range idx {
+		band = append(band, plotter.XY{X: theo[i], Y: hi[j]})
 	}
 	for j := len(idx) - 1; j >= 0; j-- {
-		band = append(band, plotter.XY{X: theo[idx[j]], Y: lo[idx[j]]})
+		band = append(band, plotter.XY{X: theo[idx[j]], Y: lo[j]})
 	}
 	poly, err := plotter.NewPolygon(band)
 	if err != nil {
@@ -254,7 +276,7 @@ func NormalQQ(id string, resid []float64) (Figure, error) {
 	return Figure{ID: id, Title: "Normal QQ plot of residuals",
 		Caption: "Sorted residuals against normal quantiles. Points inside the shaded pointwise 95% envelope and along the line are consistent with Gaussian residuals.",
 		Note:    note, SVG: svg,
-		Data: PlotData{X: pick(theo, idx), Y: pick(sorted, idx), Lower: pick(lo, idx), Upper: pick(hi, idx)}}, err
+		Data: PlotData{X: pick(theo, idx), Y: pick(sorted, idx), Lower: lo, Upper: hi}}, err
 }
 
 // ResidualHistogram draws a histogram of the residuals scaled to a density,

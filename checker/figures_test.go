@@ -118,3 +118,34 @@ func TestFiguresRenderDeterministically(t *testing.T) {
 		t.Errorf("cell mean a|t0 = %v, want 5", got)
 	}
 }
+
+// A thinned QQ figure computes its envelope only at the points it draws;
+// those values must equal the full envelope at the same order statistics.
+func TestThinnedQQEnvelopeMatchesFull(t *testing.T) {
+	n := MaxFigurePoints + 1500
+	x := make([]float64, n)
+	for i := range x {
+		x[i] = math.Sin(float64(i)*0.7) + 0.001*float64(i%17)
+	}
+	theo, _, lo, hi := QQPoints(x)
+	at := map[float64]int{}
+	for i, z := range theo {
+		at[z] = i
+	}
+	f, err := NormalQQ("q", x)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(f.Data.X) >= n || f.Note == "" {
+		t.Fatalf("figure not thinned: %d points", len(f.Data.X))
+	}
+	for j, z := range f.Data.X {
+		i, ok := at[z]
+		if !ok {
+			t.Fatalf("drawn quantile %v is not a plotting position", z)
+		}
+		if f.Data.Lower[j] != lo[i] || f.Data.Upper[j] != hi[i] {
+			t.Fatalf("envelope at rank %d: [%v, %v], full [%v, %v]", i, f.Data.Lower[j], f.Data.Upper[j], lo[i], hi[i])
+		}
+	}
+}
