@@ -122,14 +122,21 @@
 // a Welch step; van Elteren's stratified test within the step's within on
 // van-elteren and friedman steps; the signed-rank test of the paired
 // differences on a paired signed-rank step; the rank-sum test otherwise.
-// Rank comparisons report the difference of medians (the median paired
-// difference) with no standard error or interval. Adjustments bonferroni,
+// Rank comparisons report the Hodges & Lehmann (1963) estimate (the median
+// of the pairwise differences; the median of the Walsh averages of the
+// paired differences; the common shift within strata from inverting van
+// Elteren's statistic) with its distribution-free interval from inverting
+// the same test (Moses 1953; Bauer 1972) at 1 - alpha on the declared
+// sides, no standard error, and on log scales the ratio with its interval.
+// The intervals are per comparison, also under an adjustment. Adjustments bonferroni,
 // holm, hochberg and benjamini-hochberg apply as declared; a declared
 // dunnett or tukey, which rests on the joint distribution of a model's
 // contrasts, is replaced by holm (AdjustUsed and Note say so).
 // Equivalence and non-inferiority are two one-sided tests with the Welch
-// df on a Welch step and not assessable on a rank step; term hypotheses
-// are not assessable on either.
+// df on a Welch step; on a rank step the two-sided 1 - 2 alpha
+// Hodges-Lehmann interval is compared with the margins, the one-sided
+// p-values being the rank test of the shift at each margin. Term
+// hypotheses are not assessable on either.
 //
 // # Content hash
 //

@@ -15,18 +15,23 @@ package checker
 //	paired signed-rank         Wilcoxon signed-rank test of the paired differences
 //
 // The declared sides are kept (greater: the level tends to be larger).
-// The estimate of a rank comparison is the difference of the two medians
-// (the median of the paired differences for the paired signed-rank step),
-// with no standard error and no interval (NaN); on a log scale the ratio
-// is its exponential. Multiplicity adjustments: bonferroni, holm, hochberg
+// The estimate of a rank comparison is the Hodges & Lehmann (1963, Ann
+// Math Stat 34:598) estimate matching its test (stats/rank HLShift,
+// HLStratified, HLLocation) with the distribution-free interval from
+// inverting that test (Moses 1953; Bauer 1972, JASA 67:687) at 1 - alpha
+// on the declared sides; no standard error (NaN); on a log scale the
+// ratio and its interval are the exponentials. Multiplicity adjustments: bonferroni, holm, hochberg
 // and benjamini-hochberg are applied as declared (stats/multcomp); dunnett
 // and tukey rest on the joint distribution of a model's contrasts, which
 // separate two-sample tests do not have, so they are replaced by holm
 // (valid under any dependence), recorded in AdjustUsed and the Note.
 // Equivalence and non-inferiority need an interval: on a Welch step they
 // are two one-sided tests (Schuirmann 1987) with the Welch df; on a rank
-// step they are not assessable. Term hypotheses are not assessable on
-// either (no model terms).
+// step the two-sided 1 - 2 alpha Hodges-Lehmann interval is compared with
+// the margins (the rank-test form of two one-sided tests; Hothorn &
+// Bleiholder 2006 on intervals for such decisions) and the one-sided
+// p-values are the rank test of the shift at each margin. Term hypotheses
+// are not assessable on either (no model terms).
 
 import (
 	"fmt"
@@ -64,9 +69,6 @@ func rankHypothesis(p *plan.Plan, s *plan.Step, f *fitted, h *plan.Hypothesis, e
 	switch {
 	case h.Kind == plan.HypTerm:
 		return notAssessable(fmt.Sprintf("step %s (%s) fits no model terms to test", s.ID, s.Model))
-	case !welch && (h.Kind == plan.HypEquivalence || h.Kind == plan.HypNonInferiority):
-		return notAssessable(fmt.Sprintf("%s needs an estimate with a confidence interval, which the rank test of step %s (%s) does not give",
-			h.Kind, s.ID, s.Model))
 	}
 	factor := h.Factor
 	if factor == "" {
@@ -94,6 +96,9 @@ func rankHypothesis(p *plan.Plan, s *plan.Step, f *fitted, h *plan.Hypothesis, e
 			adj, s.ID, s.Model))
 	}
 	hr.AdjustUsed = used
+	if !welch {
+		notes = append(notes, rankIntervalNote(s, h, used, alpha))
+	}
 	cmp := pairComparer(s, f, factor)
 	ps := make([]float64, 0, len(pairs))
 	for _, pr := range pairs {
@@ -116,6 +121,34 @@ func rankHypothesis(p *plan.Plan, s *plan.Step, f *fitted, h *plan.Hypothesis, e
 		hr.Note += n
 	}
 	return hr
+}
+
+// rankIntervalNote says how a rank step's estimates and intervals are
+// obtained, so the record states that they are distribution-free and,
+// under a multiplicity adjustment, per comparison.
+func rankIntervalNote(s *plan.Step, h *plan.Hypothesis, adj string, alpha float64) string {
+	var est string
+	switch {
+	case s.Model == plan.ModelSignedRank && s.Compare != "":
+		est = "the Hodges-Lehmann median of the Walsh averages of the paired differences with the interval from inverting the signed-rank test (Tukey; Bauer 1972), exact where the exact null distribution applies, else normal with continuity correction"
+	case s.Within != "" && (s.Model == plan.ModelVanElteren || s.Model == plan.ModelFriedman):
+		est = fmt.Sprintf("the Hodges-Lehmann shift common to the %s strata with the interval from inverting van Elteren's test (normal, no continuity correction)", s.Within)
+	default:
+		est = "the Hodges-Lehmann shift (median of the pairwise differences) with the Moses interval from inverting the rank-sum test (Bauer 1972), exact where the exact null distribution applies, else normal with continuity correction"
+	}
+	n := "estimates are " + est + "; the intervals are distribution-free"
+	switch {
+	case h.Kind == plan.HypEquivalence || h.Kind == plan.HypNonInferiority:
+		n += fmt.Sprintf("; the %s is judged by the two-sided %s interval against the margins", h.Kind, fmtLevel(1-2*alpha))
+	case adj != plan.AdjustNone:
+		n += "; the intervals are per comparison, not simultaneous"
+	}
+	return n
+}
+
+// fmtLevel formats a confidence level as a percentage.
+func fmtLevel(l float64) string {
+	return strings.TrimSuffix(strings.TrimRight(fmt.Sprintf("%.2f", 100*l), "0"), ".") + "%"
 }
 
 // hypothesisPairs lists the (level, comparator) pairs of a hypothesis, as
@@ -254,15 +287,6 @@ func pairComparer(s *plan.Step, f *fitted, factor string) pairFunc {
 			c.RatioLower, c.RatioUpper = Num(math.Exp(k*float64(c.Lower))), Num(math.Exp(k*float64(c.Upper)))
 		}
 	}
-	alt := func(sides string) rank.Alternative {
-		switch sides {
-		case "greater":
-			return rank.Greater
-		case "less":
-			return rank.Less
-		}
-		return rank.TwoSided
-	}
 	switch {
 	case s.Model == plan.ModelWelch:
 		return func(level, against, sides string, h *plan.Hypothesis, alpha float64) Comparison {
@@ -306,7 +330,7 @@ func pairComparer(s *plan.Step, f *fitted, factor string) pairFunc {
 			return c
 		}
 	case s.Model == plan.ModelSignedRank && s.Compare != "":
-		return func(level, against, sides string, _ *plan.Hypothesis, _ float64) Comparison {
+		return func(level, against, sides string, h *plan.Hypothesis, alpha float64) Comparison {
 			c := emptyComparison(level, against)
 			b := ds.factors[s.Within]
 			x, y := pairedValues(ds.y, g, b, level, against)
@@ -317,22 +341,27 @@ func pairComparer(s *plan.Step, f *fitted, factor string) pairFunc {
 			for i := range d {
 				d[i] = x[i] - y[i]
 			}
-			r, err := rank.SignedRank(d, rank.Options{Alternative: alt(sides)})
-			if err != nil {
-				return c
+			rp := rankPair{
+				test: func(mu float64, a rank.Alternative) (float64, float64, error) {
+					r, err := rank.SignedRank(d, rank.Options{Alternative: a, Mu: mu})
+					if err != nil {
+						return 0, 0, err
+					}
+					z := r.Z
+					if r.Exact {
+						n := float64(r.N)
+						z = (r.V - n*(n+1)/4) / math.Sqrt(n*(n+1)*(2*n+1)/24)
+					}
+					return r.P, z, nil
+				},
+				interval: func(lv float64, a rank.Alternative) (rank.ShiftInterval, error) {
+					return rank.HLLocation(d, lv, rank.Options{Alternative: a})
+				},
 			}
-			c.Estimate, c.P = Num(median(d)), Num(r.P)
-			c.Statistic = Num(r.Z)
-			if r.Exact {
-				n := float64(r.N)
-				c.Statistic = Num((r.V - n*(n+1)/4) / math.Sqrt(n*(n+1)*(2*n+1)/24))
-			}
-			ratio(&c)
-			c.RatioLower, c.RatioUpper = NaN, NaN
-			return c
+			return rankComparison(c, rp, h, tr, sides, alpha)
 		}
 	case s.Within != "" && (s.Model == plan.ModelVanElteren || s.Model == plan.ModelFriedman):
-		return func(level, against, sides string, _ *plan.Hypothesis, _ float64) Comparison {
+		return func(level, against, sides string, h *plan.Hypothesis, alpha float64) Comparison {
 			c := emptyComparison(level, against)
 			x, y := values(level), values(against)
 			if len(x) == 0 || len(y) == 0 {
@@ -349,36 +378,176 @@ func pairComparer(s *plan.Step, f *fitted, factor string) pairFunc {
 				yy[k], gg[k], st[k] = ds.y[i], g[i], ds.factors[s.Within][i]
 			}
 			strata := strataOfLevels(yy, gg, []string{level, against}, st)
-			r, err := rank.VanElteren(strata, rank.Options{Alternative: alt(sides)})
-			if err != nil {
-				return c
+			rp := rankPair{
+				test: func(mu float64, a rank.Alternative) (float64, float64, error) {
+					r, err := rank.VanElteren(shiftFirst(strata, mu), rank.Options{Alternative: a})
+					return r.P, r.Z, err
+				},
+				interval: func(lv float64, a rank.Alternative) (rank.ShiftInterval, error) {
+					return rank.HLStratified(strata, lv, rank.Options{Alternative: a})
+				},
 			}
-			c.Estimate, c.Statistic, c.P = Num(median(x)-median(y)), Num(r.Z), Num(r.P)
-			ratio(&c)
-			c.RatioLower, c.RatioUpper = NaN, NaN
-			return c
+			return rankComparison(c, rp, h, tr, sides, alpha)
 		}
 	}
-	return func(level, against, sides string, _ *plan.Hypothesis, _ float64) Comparison {
+	return func(level, against, sides string, h *plan.Hypothesis, alpha float64) Comparison {
 		c := emptyComparison(level, against)
 		x, y := values(level), values(against)
 		if len(x) == 0 || len(y) == 0 {
 			return c
 		}
-		r, err := rank.RankSum(x, y, rank.Options{Alternative: alt(sides)})
-		if err != nil {
-			return c
+		rp := rankPair{
+			test: func(mu float64, a rank.Alternative) (float64, float64, error) {
+				r, err := rank.RankSum(x, y, rank.Options{Alternative: a, Mu: mu})
+				if err != nil {
+					return 0, 0, err
+				}
+				z := r.Z
+				if r.Exact {
+					m, n := float64(r.M), float64(r.N)
+					z = (r.U - m*n/2) / math.Sqrt(m*n*(m+n+1)/12)
+				}
+				return r.P, z, nil
+			},
+			interval: func(lv float64, a rank.Alternative) (rank.ShiftInterval, error) {
+				return rank.HLShift(x, y, lv, rank.Options{Alternative: a})
+			},
 		}
-		c.Estimate, c.P = Num(median(x)-median(y)), Num(r.P)
-		c.Statistic = Num(r.Z)
-		if r.Exact {
-			m, n := float64(r.M), float64(r.N)
-			c.Statistic = Num((r.U - m*n/2) / math.Sqrt(m*n*(m+n+1)/12))
-		}
-		ratio(&c)
-		c.RatioLower, c.RatioUpper = NaN, NaN
+		return rankComparison(c, rp, h, tr, sides, alpha)
+	}
+}
+
+// rankPair is one rank comparison: its test of a null shift mu (p-value
+// and normal score) and its Hodges-Lehmann estimate with the interval
+// from inverting that test.
+type rankPair struct {
+	test     func(mu float64, alt rank.Alternative) (p, z float64, err error)
+	interval func(level float64, alt rank.Alternative) (rank.ShiftInterval, error)
+}
+
+// rankComparison fills a rank comparison. Superiority hypotheses: the test
+// of a zero shift with the declared sides and the Hodges-Lehmann interval
+// at 1 - alpha on the same sides. Equivalence and non-inferiority: the
+// two-sided 1 - 2 alpha interval (Moses 1953; Bauer 1972) compared with the
+// margins, which is the rank-test form of two one-sided tests; the
+// one-sided p-values against each margin are the same rank test of the
+// shifted null (x - margin), so p < alpha exactly when the interval
+// excludes the margin, up to ties at a breakpoint.
+func rankComparison(c Comparison, rp rankPair, h *plan.Hypothesis, tr plan.Transform, sides string, alpha float64) Comparison {
+	alt := rank.TwoSided
+	switch sides {
+	case "greater":
+		alt = rank.Greater
+	case "less":
+		alt = rank.Less
+	}
+	p, z, err := rp.test(0, alt)
+	if err != nil {
 		return c
 	}
+	c.P, c.Statistic = Num(p), Num(z)
+	eqv := h.Kind == plan.HypEquivalence || h.Kind == plan.HypNonInferiority
+	lv, ialt := 1-alpha, alt
+	if eqv {
+		lv, ialt = 1-2*alpha, rank.TwoSided
+	}
+	iv, err := rp.interval(lv, ialt)
+	if err != nil {
+		return c
+	}
+	c.Estimate, c.Lower, c.Upper = Num(iv.Estimate), Num(iv.Lower), Num(iv.Upper)
+	if eqv {
+		lo, hi := equivalenceMargins(h, tr)
+		e := &EquivalenceResult{Lower: Num(lo), Upper: Num(hi), PLower: NaN, PUpper: NaN}
+		if !math.IsInf(lo, 0) && !math.IsNaN(lo) {
+			if pl, _, err := rp.test(lo, rank.Greater); err == nil { // H0: shift <= lo
+				e.PLower = Num(pl)
+			}
+		}
+		if !math.IsInf(hi, 0) && !math.IsNaN(hi) {
+			if pu, _, err := rp.test(hi, rank.Less); err == nil { // H0: shift >= hi
+				e.PUpper = Num(pu)
+			}
+		}
+		okLo := !math.IsInf(lo, 0) && iv.Lower > lo
+		okHi := !math.IsInf(hi, 0) && iv.Upper < hi
+		switch {
+		case h.Kind == plan.HypEquivalence && okLo && okHi:
+			e.Verdict = "equivalent"
+		case h.Kind == plan.HypNonInferiority && ((h.Better == "lower" && okHi) || (h.Better != "lower" && okLo)):
+			e.Verdict = "non-inferior"
+		default:
+			e.Verdict = "not shown"
+		}
+		c.Equivalence = e
+		switch {
+		case h.Kind == plan.HypNonInferiority && h.Better == "lower":
+			c.P = e.PUpper
+		case h.Kind == plan.HypNonInferiority:
+			c.P = e.PLower
+		default:
+			c.P = Num(math.Max(float64(e.PLower), float64(e.PUpper)))
+		}
+	}
+	if isLogScale(tr) {
+		k := logBase(tr)
+		c.Ratio = Num(math.Exp(k * float64(c.Estimate)))
+		c.RatioLower, c.RatioUpper = Num(math.Exp(k*float64(c.Lower))), Num(math.Exp(k*float64(c.Upper)))
+	}
+	return c
+}
+
+// equivalenceMargins returns the margins of an equivalence or
+// non-inferiority hypothesis on the analysis scale, as tost does: a ratio
+// margin becomes its logarithm in the transform's base, an absent ratio
+// side is unbounded, and a difference-scale non-inferiority margin bounds
+// only the side that "better" makes the inferior one.
+func equivalenceMargins(h *plan.Hypothesis, tr plan.Transform) (lo, hi float64) {
+	lo, hi = math.Inf(-1), math.Inf(1)
+	m := h.Margin
+	if m == nil {
+		return lo, hi
+	}
+	conv := func(v float64) float64 {
+		if m.Scale == "ratio" {
+			if v <= 0 {
+				return math.NaN()
+			}
+			return math.Log(v) / logBase(tr)
+		}
+		return v
+	}
+	if m.Lower != 0 || m.Scale != "ratio" {
+		lo = conv(m.Lower)
+	}
+	if m.Upper != 0 || m.Scale != "ratio" {
+		hi = conv(m.Upper)
+	}
+	if m.Scale != "ratio" && h.Kind == plan.HypNonInferiority {
+		if h.Better == "lower" {
+			lo = math.Inf(-1)
+		} else {
+			hi = math.Inf(1)
+		}
+	}
+	return lo, hi
+}
+
+// shiftFirst returns the strata with mu subtracted from treatment 0 (the
+// null shift of the stratified test); the input is not modified.
+func shiftFirst(strata []rank.Stratum, mu float64) []rank.Stratum {
+	if mu == 0 {
+		return strata
+	}
+	out := make([]rank.Stratum, len(strata))
+	for i, st := range strata {
+		g0 := make([]float64, len(st.Groups[0]))
+		for j, v := range st.Groups[0] {
+			g0[j] = v - mu
+		}
+		out[i] = rank.Stratum{Groups: [][]float64{g0, st.Groups[1]}}
+	}
+	return out
 }
 
 // strataOfLevels groups values by stratum (in order of first appearance;

@@ -62,6 +62,40 @@ func (r *rankRef) UnmarshalJSON(b []byte) error {
 	return json.Unmarshal([]byte(s), (*plain)(r))
 }
 
+// hlRef mirrors testdata/rank/ref_hl.json from testdata/rank/ref_hl.R:
+// Hodges-Lehmann estimates and intervals (R 4.2.2 wilcox.test(conf.int =
+// TRUE); the stratified and the zero-keeping paired inversions written out
+// from the formulas there).
+type hlRef struct {
+	VsRankSum  struct{ Estimate, Upper []float64 } `json:"vs_control_ranksum"`
+	VsVanElt   struct{ Estimate, Upper []float64 } `json:"vs_control_vanelteren"`
+	VsFriedman struct {
+		Estimate, Lower, Upper []float64
+	} `json:"vs_control_friedman"`
+	SignedLess struct{ Estimate, Upper float64 } `json:"signed_paired_less"`
+	Example    struct {
+		VsEstimate []float64 `json:"vs_estimate"`
+		VsUpper    []float64 `json:"vs_upper"`
+		NIEstimate float64   `json:"ni_estimate"`
+		NILower    float64   `json:"ni_lower"`
+		NIUpper    float64   `json:"ni_upper"`
+		NIVerdict  string    `json:"ni_verdict"`
+	}
+}
+
+func loadHLRef(t *testing.T) *hlRef {
+	t.Helper()
+	b, err := os.ReadFile(filepath.Join("testdata", "rank", "ref_hl.json"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	var r hlRef
+	if err := json.Unmarshal(b, &r); err != nil {
+		t.Fatal(err)
+	}
+	return &r
+}
+
 func loadRankRef(t *testing.T) *rankRef {
 	t.Helper()
 	b, err := os.ReadFile(filepath.Join("testdata", "rank", "ref.json"))
@@ -266,6 +300,7 @@ func TestRankStepChecks(t *testing.T) {
 
 func TestRankStepHypotheses(t *testing.T) {
 	ref := loadRankRef(t)
+	hl := loadHLRef(t)
 	hyps := `      - id: vs
         kind: versus-control
         sides: less
@@ -283,11 +318,16 @@ func TestRankStepHypotheses(t *testing.T) {
 	for _, c := range []struct {
 		name, step string
 		want       struct{ P, PHolm, Estimate []float64 }
+		hl         struct{ Estimate, Upper []float64 }
 	}{
 		// R 4.2.2 wilcox.test(x, control, alternative = "less"), p.adjust holm
-		{"kruskal", "model: kruskal-wallis\n" + changeLog + "        compare: treatment\n", ref.VsRankSum},
+		{"kruskal", "model: kruskal-wallis\n" + changeLog + "        compare: treatment\n", ref.VsRankSum,
+			// R 4.2.2 wilcox.test(x, control, "less", conf.int = TRUE): exact Moses bound
+			hl.VsRankSum},
 		// van Elteren (1960) two-sample, alternative less, from ref.R; p.adjust holm
-		{"van elteren", "model: van-elteren\n" + changeLog + "        compare: treatment\n        within: site\n", ref.VsVanElt},
+		{"van elteren", "model: van-elteren\n" + changeLog + "        compare: treatment\n        within: site\n", ref.VsVanElt,
+			// van Elteren inversion by formula, ref_hl.R
+			hl.VsVanElt},
 	} {
 		t.Run(c.name, func(t *testing.T) {
 			r, _ := rankRun(t, false, failingLinear+"      - id: only\n        "+c.step, hyps)
@@ -302,16 +342,34 @@ func TestRankStepHypotheses(t *testing.T) {
 			for i, cm := range h.Comparisons {
 				nearRef(t, cm.Label+" p", cm.P, c.want.P[i], tolRef)
 				nearRef(t, cm.Label+" holm", cm.PAdjusted, c.want.PHolm[i], tolRef)
-				nearRef(t, cm.Label+" median difference", cm.Estimate, c.want.Estimate[i], 1e-12)
-				nearRef(t, cm.Label+" ratio", cm.Ratio, math.Exp(c.want.Estimate[i]), 1e-12)
-				if !math.IsNaN(float64(cm.Lower)) || !math.IsNaN(float64(cm.SE)) || !cm.Reject {
+				nearRef(t, cm.Label+" hodges-lehmann", cm.Estimate, c.hl.Estimate[i], 1e-12)
+				nearRef(t, cm.Label+" upper bound", cm.Upper, c.hl.Upper[i], 1e-12)
+				nearRef(t, cm.Label+" ratio", cm.Ratio, math.Exp(c.hl.Estimate[i]), 1e-12)
+				nearRef(t, cm.Label+" ratio upper", cm.RatioUpper, math.Exp(c.hl.Upper[i]), 1e-12)
+				if !math.IsInf(float64(cm.Lower), -1) || !math.IsNaN(float64(cm.SE)) || !cm.Reject {
 					t.Errorf("%s: lower %v se %v reject %v", cm.Label, cm.Lower, cm.SE, cm.Reject)
 				}
 			}
 			if ep.Hypotheses[0].Comparisons[0].Label != "a - control" {
 				t.Errorf("label %q", ep.Hypotheses[0].Comparisons[0].Label)
 			}
-			for _, h := range ep.Hypotheses[1:] {
+			if !strings.Contains(h.Note, "per comparison") || !strings.Contains(h.Note, "distribution-free") {
+				t.Errorf("note %q", h.Note)
+			}
+			ni := ep.Hypotheses[1]
+			if !ni.Assessable || len(ni.Comparisons) != 1 || ni.Comparisons[0].Equivalence == nil || !strings.Contains(ni.Note, "90% interval") {
+				t.Fatalf("non-inferiority on a rank step: %+v", ni)
+			}
+			// The verdict follows the 90% interval against log(1.25).
+			nc := ni.Comparisons[0]
+			want := "not shown"
+			if float64(nc.Upper) < math.Log(1.25) {
+				want = "non-inferior"
+			}
+			if nc.Equivalence.Verdict != want || (float64(nc.P) < 0.05) != (want == "non-inferior") {
+				t.Errorf("non-inferiority verdict %q p %v, interval upper %v", nc.Equivalence.Verdict, nc.P, nc.Upper)
+			}
+			for _, h := range ep.Hypotheses[2:] {
 				if h.Assessable || h.Note == "" || len(h.Comparisons) != 0 {
 					t.Errorf("%s should not be assessable on a rank step: %+v", h.ID, h)
 				}
@@ -329,12 +387,17 @@ func TestFriedmanStepHypotheses(t *testing.T) {
 		"      - id: vs\n        kind: versus-control\n        adjust: bonferroni\n")
 	ep, _ := acceptedStep(t, r)
 	h := ep.Hypotheses[0]
-	if !h.Assessable || h.AdjustUsed != "bonferroni" || h.Note != "" || len(h.Comparisons) != 2 {
+	if !h.Assessable || h.AdjustUsed != "bonferroni" || !strings.Contains(h.Note, "van Elteren") || len(h.Comparisons) != 2 {
 		t.Fatalf("versus-control %+v", h)
 	}
+	hl := loadHLRef(t)
 	for i, c := range h.Comparisons {
 		nearRef(t, c.Label+" p", c.P, ref.VsFriedman.P[i], tolRef)
 		nearRef(t, c.Label+" bonferroni", c.PAdjusted, ref.VsFriedman.PBonferroni[i], tolRef)
+		// van Elteren inversion within blocks by formula (ref_hl.R)
+		nearRef(t, c.Label+" hodges-lehmann", c.Estimate, hl.VsFriedman.Estimate[i], 1e-12)
+		nearRef(t, c.Label+" lower", c.Lower, hl.VsFriedman.Lower[i], 1e-12)
+		nearRef(t, c.Label+" upper", c.Upper, hl.VsFriedman.Upper[i], 1e-12)
 	}
 }
 
@@ -352,7 +415,12 @@ func TestPairedSignedRankHypotheses(t *testing.T) {
 	}
 	c := h.Comparisons[0]
 	nearRef(t, "paired p", c.P, ref.SignedLess.P, tolRef)
-	nearRef(t, "median paired difference", c.Estimate, ref.SignedLess.Estimate, 1e-12)
+	// Median of the Walsh averages and the one-sided normal bound, by
+	// formula in ref_hl.R (the differences contain a zero, which
+	// wilcox.test would drop).
+	hl := loadHLRef(t)
+	nearRef(t, "hodges-lehmann paired", c.Estimate, hl.SignedLess.Estimate, 1e-12)
+	nearRef(t, "paired upper bound", c.Upper, hl.SignedLess.Upper, 1e-12)
 	nearRef(t, "unadjusted family of one", c.PAdjusted, ref.SignedLess.P, tolRef)
 }
 
@@ -446,6 +514,7 @@ func TestRankStepErrors(t *testing.T) {
 // testdata/rank/ref.R (R 4.2.2; van Elteren from the published formulas).
 func TestSoilNematodesExample(t *testing.T) {
 	ref := loadRankRef(t)
+	hl := loadHLRef(t)
 	dir := t.TempDir()
 	for _, f := range []string{"plan.yaml", "plots.csv"} {
 		b, err := os.ReadFile(filepath.Join("..", "examples", "soil-nematodes", f))
@@ -489,12 +558,22 @@ func TestSoilNematodesExample(t *testing.T) {
 	for i, c := range h.Comparisons {
 		nearRef(t, c.Label+" p", c.P, ref.Example.VsP[i], tolRef)
 		nearRef(t, c.Label+" holm", c.PAdjusted, ref.Example.VsPHolm[i], tolRef)
-		nearRef(t, c.Label+" median difference", c.Estimate, ref.Example.VsEstimate[i], 1e-12)
+		// van Elteren inversion by formula (ref_hl.R)
+		nearRef(t, c.Label+" hodges-lehmann", c.Estimate, hl.Example.VsEstimate[i], 1e-12)
+		nearRef(t, c.Label+" upper bound", c.Upper, hl.Example.VsUpper[i], 1e-12)
 		if !c.Reject {
 			t.Errorf("%s not rejected at p %v", c.Label, c.PAdjusted)
 		}
 	}
-	if ni := ep.Hypotheses[1]; ni.Assessable || !strings.Contains(ni.Note, "confidence interval") {
-		t.Errorf("non-inferiority on the rank step: %+v", ni)
+	ni := ep.Hypotheses[1]
+	if !ni.Assessable || len(ni.Comparisons) != 1 || ni.Comparisons[0].Equivalence == nil {
+		t.Fatalf("non-inferiority on the rank step: %+v", ni)
+	}
+	nc := ni.Comparisons[0]
+	nearRef(t, "non-inferiority estimate", nc.Estimate, hl.Example.NIEstimate, 1e-12)
+	nearRef(t, "non-inferiority 90% lower", nc.Lower, hl.Example.NILower, 1e-12)
+	nearRef(t, "non-inferiority 90% upper", nc.Upper, hl.Example.NIUpper, 1e-12)
+	if nc.Equivalence.Verdict != hl.Example.NIVerdict {
+		t.Errorf("non-inferiority verdict %q, ref_hl.R %q", nc.Equivalence.Verdict, hl.Example.NIVerdict)
 	}
 }

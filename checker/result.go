@@ -465,7 +465,7 @@ type Comparison struct {
 	Level   string `json:"level"`
 	Against string `json:"against"`
 	// Estimate, SE, DF, Statistic: the contrast on the analysis scale (for
-	// rank comparisons Estimate is the difference of medians and Statistic
+	// rank comparisons Estimate is the Hodges-Lehmann shift and Statistic
 	// the normal score).
 	Estimate  Num `json:"estimate"`
 	SE        Num `json:"se"`
