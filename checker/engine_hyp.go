@@ -209,31 +209,7 @@ func pSided(t, df float64, sides string) float64 {
 // tost computes the two one-sided tests of Schuirmann (1987) J
 // Pharmacokinet Biopharm 15:657 against the margins, on the analysis scale.
 func tost(h *plan.Hypothesis, tr plan.Transform, est, se, df, alpha float64) *EquivalenceResult {
-	lo, hi := math.Inf(-1), math.Inf(1)
-	if m := h.Margin; m != nil {
-		conv := func(v float64) float64 {
-			if m.Scale == "ratio" {
-				if v <= 0 {
-					return math.NaN()
-				}
-				return math.Log(v) / logBase(tr)
-			}
-			return v
-		}
-		if m.Lower != 0 || m.Scale != "ratio" {
-			lo = conv(m.Lower)
-		}
-		if m.Upper != 0 || m.Scale != "ratio" {
-			hi = conv(m.Upper)
-		}
-		if m.Scale != "ratio" && h.Kind == plan.HypNonInferiority {
-			if h.Better == "lower" {
-				lo = math.Inf(-1)
-			} else {
-				hi = math.Inf(1)
-			}
-		}
-	}
+	lo, hi := equivalenceMargins(h, tr)
 	e := &EquivalenceResult{Lower: Num(lo), Upper: Num(hi), PLower: NaN, PUpper: NaN}
 	if !math.IsInf(lo, 0) {
 		e.PLower = Num(dist.TUpper((est-lo)/se, df)) // H0: diff <= lo
