@@ -125,7 +125,11 @@ func hypothesisAnswer(h *HypothesisResult) []string {
 	for _, c := range h.Comparisons {
 		if c.Equivalence != nil {
 			equiv = true
-			out = append(out, fmt.Sprintf("%s: %s versus %s: %s (%s).", h.ID, c.Level, c.Against, c.Equivalence.Verdict, intervalText(&c)))
+			verdict := c.Equivalence.Verdict
+			if verdict == "not shown" {
+				verdict = h.Kind + " not shown"
+			}
+			out = append(out, fmt.Sprintf("%s: %s versus %s: %s (%s).", h.ID, c.Level, c.Against, verdict, intervalText(&c)))
 			continue
 		}
 		word := "not shown to differ"
@@ -504,6 +508,9 @@ func (rep *Report) Markdown() []byte {
 				continue
 			}
 			w("### Hypothesis `%s` (%s, adjustment %s)\n\n", h.ID, h.Kind, h.AdjustUsed)
+			if h.Note != "" {
+				w("%s.\n\n", upperFirst(strings.TrimSuffix(h.Note, ".")))
+			}
 			w("| Comparison | Estimate | SE | df | p | p adjusted | Lower | Upper | Ratio | Ratio lower | Ratio upper | Verdict |\n")
 			w("| --- | --- | --- | --- | --- | --- | --- | --- | --- | --- | --- | --- |\n")
 			for _, c := range h.Comparisons {
