@@ -35,6 +35,7 @@ type DataError struct {
 	Diagnostics plan.Diagnostics
 }
 
+// Error says how many data errors stopped the run.
 func (e *DataError) Error() string {
 	n := 0
 	for _, d := range e.Diagnostics {
@@ -50,6 +51,7 @@ type PlanError struct {
 	Diagnostics plan.Diagnostics
 }
 
+// Error says that the plan has errors; the findings are in Diagnostics.
 func (e *PlanError) Error() string { return "the plan has errors" }
 
 // ErrNotRegistered is wrapped by Run's error when the plan has no

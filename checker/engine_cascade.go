@@ -183,7 +183,7 @@ func figureData(f *fitted) *DiagnosticData {
 	return fd
 }
 
-// fmtP formats a p-value for a decision sentence (4 significant digits).
+// decisionP formats a p-value for a decision sentence (4 significant digits).
 func decisionP(p float64) string {
 	if math.IsNaN(p) {
 		return "NA"

@@ -89,6 +89,7 @@ type ChainError struct {
 	Summary string
 }
 
+// Error names the entry, the field at fault and the finding.
 func (e ChainError) Error() string {
 	return fmt.Sprintf("registration entry %d: %s: %s", e.Seq, e.Field, e.Summary)
 }

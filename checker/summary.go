@@ -204,6 +204,8 @@ type errWriter struct {
 	err error
 }
 
+// Write writes p unless an earlier write failed; after a failure it
+// discards p and reports success, so the first error is the one kept.
 func (e *errWriter) Write(p []byte) (int, error) {
 	if e.err != nil {
 		return len(p), nil

@@ -28,12 +28,11 @@ func Reference() string {
 		if depth > 12 {
 			return
 		}
-		s, desc := resolve(s, defs)
+		s, _ = resolve(s, defs)
 		props, _ := s.get("properties").(*object)
 		if props == nil {
 			return
 		}
-		_ = desc
 		for _, k := range props.keys {
 			child, _ := props.vals[k].(*object)
 			if child == nil {

@@ -55,8 +55,10 @@ var simulateCommand = &command{
 // effectFlags collects repeated --effect LEVEL=DELTA flags.
 type effectFlags map[string]float64
 
+// String is part of flag.Value; the flag has no printed default.
 func (f effectFlags) String() string { return "" }
 
+// Set parses one LEVEL=DELTA value (flag.Value).
 func (f effectFlags) Set(s string) error {
 	lev, num, ok := strings.Cut(s, "=")
 	lev = strings.TrimSpace(lev)
