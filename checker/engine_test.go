@@ -9,6 +9,7 @@ import (
 	"math/rand/v2"
 	"os"
 	"path/filepath"
+	"slices"
 	"strings"
 	"testing"
 	"time"
@@ -292,6 +293,20 @@ func TestVerifyCatchesEdits(t *testing.T) {
 		rep, m := verifyCodes(t, VerifyOptions{Dir: out, Tool: ToolInfo{Version: "test"}})
 		if rep.OK() || !strings.Contains(strings.Join(m[DevResultsDiffer], " "), "endpoints[0].steps[1].checks[0].p") {
 			t.Fatalf("number edit not named: %v", m)
+		}
+	})
+	// run_at is outside the content hash; a value that is not a time must
+	// not slip through the registration-date comparison.
+	t.Run("run_at", func(t *testing.T) {
+		edited := strings.Replace(string(orig), `"run_at": "`, `"run_at": "zz`, 1)
+		if edited == string(orig) {
+			t.Fatal("edit did not apply")
+		}
+		write(t, rec, edited)
+		defer write(t, rec, string(orig))
+		rep, m := verifyCodes(t, VerifyOptions{Dir: out, Tool: ToolInfo{Version: "test"}})
+		if rep.OK() || !slices.Contains(m[DevRecordEdited], "run_at") {
+			t.Fatalf("unparsable run_at not caught: %v", m)
 		}
 	})
 	t.Run("data edited", func(t *testing.T) {

@@ -264,11 +264,26 @@ func verifyRegistration(planPath string, rec *Result, add func(DeviationCode, st
 	if e.PlanHash != rec.Inputs.PlanHash {
 		add(DevPlanChanged, "inputs.plan_hash", rec.Inputs.PlanHash, e.PlanHash, "the plan that was run is not the registered one")
 	}
-	if e.RegisteredAt > rec.RunAt {
+	// Times are compared as instants, not as strings: run_at is outside
+	// the content hash, so an unsigned record's run_at may hold anything.
+	runAt, err := time.Parse(time.RFC3339, rec.RunAt)
+	if err != nil {
+		add(DevRecordEdited, "run_at", rec.RunAt, "", "the run time is not an RFC 3339 time, so it cannot be compared with the registration")
+		return
+	}
+	regAt := func(i int, s string) (time.Time, bool) {
+		t, err := time.Parse(time.RFC3339, s)
+		if err != nil {
+			add(DevPlanChanged, fmt.Sprintf("registration.entries[%d].registered_at", i), s, "", "the registration time is not an RFC 3339 time")
+			return time.Time{}, false
+		}
+		return t, true
+	}
+	if at, ok := regAt(found, e.RegisteredAt); ok && at.After(runAt) {
 		add(DevPlanChanged, "inputs.registration.chain", e.RegisteredAt, rec.RunAt, "the registration is dated after the run")
 	}
-	for _, later := range reg.Entries[found+1:] {
-		if later.RegisteredAt >= rec.RunAt {
+	for k, later := range reg.Entries[found+1:] {
+		if at, ok := regAt(found+1+k, later.RegisteredAt); ok && !at.Before(runAt) {
 			add(DevAmendmentAfterLock, fmt.Sprintf("registration.entries[%d]", later.Seq-1), rec.RunAt, later.RegisteredAt,
 				fmt.Sprintf("plan version %s was registered after the data were analysed (%s)", later.PlanVersion, later.Reason))
 		}
