@@ -30,6 +30,11 @@ const (
 // tied raw p-values receive equal adjusted values. p is not modified. Values
 // outside [0, 1] or NaN are an error.
 func Adjust(p []float64, method Method) ([]float64, error) {
+	switch method {
+	case None, Bonferroni, Holm, Hochberg, BH:
+	default:
+		return nil, fmt.Errorf("adjusting p-values: unknown method %q", method)
+	}
 	m := len(p)
 	for i, v := range p {
 		if math.IsNaN(v) || v < 0 || v > 1 {
@@ -50,9 +55,6 @@ func Adjust(p []float64, method Method) ([]float64, error) {
 			out[i] = math.Min(1, fm*v)
 		}
 		return out, nil
-	case Holm, Hochberg, BH:
-	default:
-		return nil, fmt.Errorf("adjusting p-values: unknown method %q", method)
 	}
 	idx := make([]int, m)
 	for i := range idx {

@@ -15,6 +15,9 @@ func TestAdjustAgainstR(t *testing.T) {
 			if err != nil {
 				t.Fatal(err)
 			}
+			if len(got) != len(m.want) {
+				t.Fatalf("set %s, %s: %d adjusted values, R has %d", name, m.method, len(got), len(m.want))
+			}
 			for i := range got {
 				if !closeTo(got[i], m.want[i], 1e-14) {
 					t.Errorf("set %s, %s: p[%d] = %.15g, R p.adjust %.15g", name, m.method, i, got[i], m.want[i])
@@ -35,6 +38,9 @@ func TestAdjustErrors(t *testing.T) {
 	}
 	if _, err := Adjust([]float64{0.1}, Method("sidak-ish")); err == nil {
 		t.Error("unknown method accepted")
+	}
+	if _, err := Adjust(nil, Method("sidak-ish")); err == nil {
+		t.Error("unknown method accepted on an empty family")
 	}
 	got, err := Adjust(nil, BH)
 	if err != nil || len(got) != 0 {

@@ -340,7 +340,7 @@ func checkCorr(corr mat.Symmetric) error {
 		return errors.New("no comparisons")
 	}
 	for i := 0; i < m; i++ {
-		if math.Abs(corr.At(i, i)-1) > 1e-8 {
+		if !(math.Abs(corr.At(i, i)-1) <= 1e-8) { // NaN fails too
 			return fmt.Errorf("correlation matrix has %v on its diagonal at %d", corr.At(i, i), i)
 		}
 		for j := 0; j < i; j++ {

@@ -164,3 +164,18 @@ func TestQMCErrors(t *testing.T) {
 		t.Error("dunnett on an indefinite correlation accepted")
 	}
 }
+
+// A NaN on the diagonal (a correlation formed from a NaN variance) must be
+// rejected by both evaluation paths, not integrated.
+func TestNaNCorrelationRejected(t *testing.T) {
+	c := mat.NewSymDense(2, []float64{math.NaN(), 0, 0, 1})
+	if _, err := MaxTUpper(2, c, 10, TwoSided); err == nil {
+		t.Error("MaxTUpper accepted a NaN diagonal")
+	}
+	if _, err := MaxTUpperQMC(2, c, 10, TwoSided); err == nil {
+		t.Error("MaxTUpperQMC accepted a NaN diagonal")
+	}
+	if _, err := DunnettCritical(0.05, c, 10, TwoSided); err == nil {
+		t.Error("DunnettCritical accepted a NaN diagonal")
+	}
+}
