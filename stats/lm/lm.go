@@ -341,6 +341,11 @@ func fit(x mat.Matrix, y []float64, opt *Options, dm *design.Matrix) (*Result, e
 	res.Fitted = fv
 	rowPass(xd, y, sw, b, res.Resid, res.Fitted, passFinal)
 	res.RSS = sumSq2(res.Resid, w)
+	if math.IsNaN(res.RSS) || math.IsInf(res.RSS, 0) {
+		// Sums of squares of values near the float64 limit overflow; a fit
+		// of NaNs must not be handed on as a result.
+		return nil, errors.New("fitting linear model: sums of squares overflow (values too large; rescale X or the response)")
+	}
 	df := float64(res.DFResid)
 	res.Sigma = math.Sqrt(res.RSS / df)
 

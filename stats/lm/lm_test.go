@@ -39,6 +39,15 @@ func TestFitErrors(t *testing.T) {
 	Fit(mat.NewDense(3, 1, []float64{1, 1, 1}), []float64{1, 2}, nil)
 }
 
+// Values near the float64 limit overflow the sums of squares: an error,
+// not a result full of NaN.
+func TestOverflowIsError(t *testing.T) {
+	x := mat.NewDense(3, 2, []float64{1, 1e300, 1, 2e300, 1, 3e300})
+	if res, err := Fit(x, []float64{2, 4, 7}, nil); err == nil {
+		t.Errorf("fit with X near 1e300 accepted: RSS %v", res.RSS)
+	}
+}
+
 func TestConstantResponse(t *testing.T) {
 	x := mat.NewDense(4, 2, []float64{1, 1, 1, 2, 1, 3, 1, 4})
 	res, err := Fit(x, []float64{5, 5, 5, 5}, nil)
