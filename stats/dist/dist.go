@@ -302,8 +302,9 @@ func FUpper(f, df1, df2 float64) float64 {
 		return ChiSqUpper(f*df1, df1)
 	}
 	if math.IsInf(df1, 1) {
-		// F(∞, ν2) is distributed as ν2/χ²_{ν2}.
-		return 1 - ChiSqUpper(df2/f, df2)
+		// F(∞, ν2) is distributed as ν2/χ²_{ν2}, so P(F > f) is the lower
+		// chi-squared tail at ν2/f, taken directly (it is small for large f).
+		return mathext.GammaIncReg(0.5*df2, 0.5*df2/f)
 	}
 	x := df2 / (df2 + df1*f)
 	if df1*f > 1e300 {

@@ -190,6 +190,25 @@ func TestDistuvShortfall(t *testing.T) {
 	}
 }
 
+// TestFInfiniteDF1 checks the small upper tail of F(∞, ν2) = ν2/χ²_{ν2}.
+// For ν2 = 4, P(χ²_4 <= x) = 1 - e^{-h}(1 + h) with h = x/2 (the Poisson
+// relation of the gamma distribution, derived by hand), summed here as the
+// series e^{-h} Σ_{k>=2} h^k/k! so the reference itself does not cancel.
+func TestFInfiniteDF1(t *testing.T) {
+	for _, f := range []float64{3, 1e3, 1e6} {
+		h := 0.5 * 4 / f
+		sum, term := 0.0, h
+		for k := 2; k < 40; k++ {
+			term *= h / float64(k)
+			sum += term
+		}
+		want := math.Exp(-h) * sum
+		if got := FUpper(f, math.Inf(1), 4); !relClose(got, want, 1e-13) {
+			t.Errorf("FUpper(%g, Inf, 4) = %.16g, want %.16g", f, got, want)
+		}
+	}
+}
+
 // TestInvalid checks that invalid arguments give NaN, not a panic.
 func TestInvalid(t *testing.T) {
 	for name, v := range map[string]float64{
