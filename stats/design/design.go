@@ -219,7 +219,13 @@ func Build(f *Frame, s Spec) (*Matrix, error) {
 	if s.Coding != Treatment && s.Coding != SumToZero {
 		return nil, fmt.Errorf("building model matrix: unknown coding %d", int(s.Coding))
 	}
-	for name, lev := range s.Reference {
+	refNames := make([]string, 0, len(s.Reference))
+	for name := range s.Reference {
+		refNames = append(refNames, name)
+	}
+	sort.Strings(refNames) // the first bad entry reported is always the same one
+	for _, name := range refNames {
+		lev := s.Reference[name]
 		fac, ok := f.factors[name]
 		if !ok {
 			return nil, fmt.Errorf("building model matrix: reference level given for %q, which is not a factor", name)

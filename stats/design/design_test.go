@@ -131,6 +131,27 @@ func TestMeansGridAverages(t *testing.T) {
 	}
 }
 
+// With several bad reference levels the error names the same one on every
+// call (map order must not reach the message).
+func TestBuildReferenceErrorDeterministic(t *testing.T) {
+	ref := map[string]string{"trt": "none", "time": "late", "dose": "x", "zone": "a"}
+	var first string
+	for i := 0; i < 20; i++ {
+		_, err := Build(frame(t), Spec{Intercept: true, Terms: tm("trt", "time"), Reference: ref})
+		if err == nil {
+			t.Fatal("bad reference levels accepted")
+		}
+		if i == 0 {
+			first = err.Error()
+		} else if err.Error() != first {
+			t.Fatalf("error changed between calls: %q then %q", first, err.Error())
+		}
+	}
+	if !strings.Contains(first, `"dose"`) {
+		t.Errorf("error %q: want the first name in sorted order (dose)", first)
+	}
+}
+
 func TestBuildErrors(t *testing.T) {
 	if _, err := NewFrame([]Factor{{Name: "a", Levels: []string{"x"}, Codes: []int{0, 3}}}, nil); err == nil {
 		t.Error("code out of range: want an error")
