@@ -36,7 +36,7 @@ func Moments(x []float64) (MomentsResult, error) {
 	if err := checkFinite(x); err != nil {
 		return MomentsResult{}, fmt.Errorf("moments: %w", err)
 	}
-	mean, _ := centredSS(x)
+	mean := kahanMean(x)
 	d := make([]float64, n)
 	for i, v := range x {
 		d[i] = v - mean
