@@ -230,8 +230,9 @@ func TestDegenerateTreatmentAllExcluded(t *testing.T) {
 	}
 }
 
-// The response is constant within every treatment group: the residuals are
-// all zero, so normality and variance checks cannot be computed.
+// The response is constant within every treatment group: the linear model
+// fits exactly, so its tests are undefined; the step records a fit error
+// (and its checks are not run) and the cascade takes the on-fail step.
 func TestDegenerateConstantWithinGroups(t *testing.T) {
 	c := degenerateCase{
 		blocks: "B1", layout: "crd", steps: linearThenKruskal,
@@ -242,8 +243,11 @@ func TestDegenerateConstantWithinGroups(t *testing.T) {
 	for _, ep := range r.Endpoints {
 		for _, s := range ep.Steps {
 			if s.ID == "linear" && s.Executed {
+				if !strings.Contains(s.Error, "fits the data exactly") || s.Decision.Reason != ReasonFitFailed {
+					t.Errorf("exact fit not recorded as a fit error: error %q, reason %v", s.Error, s.Decision.Reason)
+				}
 				for _, ch := range s.Checks {
-					if ch.Verdict != VerdictError {
+					if ch.Verdict == VerdictPass || ch.Verdict == VerdictFail {
 						t.Errorf("check %s gave a verdict (%v, p = %v) on zero residuals", ch.Test, ch.Verdict, float64(ch.P))
 					}
 				}

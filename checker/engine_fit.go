@@ -136,6 +136,16 @@ func fitLinear(p *plan.Plan, ep *plan.Endpoint, s *plan.Step, ds *dataset) (*fit
 		linear: &linearFit{dm: dm, coef: res.Coefficients(), cov: res.CoefCov(), df: res.DF,
 			estimable: res.Estimable},
 	}
+	// An exact fit (no residual df, or residuals that are all rounding
+	// error, as with a response constant within every cell) leaves the
+	// tests and intervals undefined: a fit error, so the plan's on-fail
+	// step is taken instead of reporting infinite t values.
+	if res.DFResid <= 0 {
+		return nil, fmt.Errorf("the linear model has as many parameters as observations (no residual degrees of freedom); tests are not defined")
+	}
+	if perfectFit(f) {
+		return nil, fmt.Errorf("the linear model fits the data exactly (no residual variation, e.g. a response constant within every cell); tests and intervals are not defined")
+	}
 	det := &StepDetail{}
 	for j, name := range res.Names {
 		det.Coefficients = append(det.Coefficients, Coefficient{Name: name, Estimate: Num(res.Estimate[j]), SE: Num(res.StdErr[j]),
