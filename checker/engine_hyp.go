@@ -14,32 +14,40 @@ import (
 	"furrow/stats/multcomp"
 )
 
+// newHypothesisResult starts the result of hypothesis h on step s with the
+// declared (or default) alpha, sides and adjustment, and returns them with
+// the compared factor (h.Factor, else the plan's treatment column).
+func newHypothesisResult(p *plan.Plan, s *plan.Step, h *plan.Hypothesis, epAlpha float64) (hr HypothesisResult, alpha float64, sides, adj, factor string) {
+	alpha = h.Alpha
+	if alpha == 0 {
+		alpha = epAlpha
+	}
+	sides = h.Sides
+	if sides == "" {
+		sides = "two-sided"
+	}
+	adj = h.Adjust
+	if adj == "" {
+		adj = plan.AdjustNone
+	}
+	hr = HypothesisResult{ID: h.ID, Pos: posText(h.Pos), Kind: h.Kind, Step: s.ID, Sides: sides, Alpha: Num(alpha),
+		Adjust: adj, AdjustUsed: adj, Assessable: true, Comparisons: []Comparison{}}
+	factor = h.Factor
+	if factor == "" {
+		if c := columnByRole(p, plan.RoleTreatment); c != nil {
+			factor = c.Name
+		}
+	}
+	return hr, alpha, sides, adj, factor
+}
+
 // hypothesis answers one declared hypothesis on the reported step.
 func hypothesis(p *plan.Plan, ep *plan.Endpoint, s *plan.Step, f *fitted, h *plan.Hypothesis, epAlpha float64) HypothesisResult {
 	if f.rankLike {
 		// Rank and Welch steps: pairwise two-sample tests (engine_rank_hyp.go).
 		return rankHypothesis(p, s, f, h, epAlpha)
 	}
-	alpha := h.Alpha
-	if alpha == 0 {
-		alpha = epAlpha
-	}
-	sides := h.Sides
-	if sides == "" {
-		sides = "two-sided"
-	}
-	adj := h.Adjust
-	if adj == "" {
-		adj = plan.AdjustNone
-	}
-	hr := HypothesisResult{ID: h.ID, Pos: posText(h.Pos), Kind: h.Kind, Step: s.ID, Sides: sides, Alpha: Num(alpha),
-		Adjust: adj, AdjustUsed: adj, Assessable: true, Comparisons: []Comparison{}}
-	factor := h.Factor
-	if factor == "" {
-		if c := columnByRole(p, plan.RoleTreatment); c != nil {
-			factor = c.Name
-		}
-	}
+	hr, alpha, sides, adj, factor := newHypothesisResult(p, s, h, epAlpha)
 	if f.linear == nil {
 		hr.Assessable = false
 		hr.AdjustUsed = ""

@@ -47,20 +47,7 @@ import (
 
 // rankHypothesis answers one declared hypothesis on a rank or Welch step.
 func rankHypothesis(p *plan.Plan, s *plan.Step, f *fitted, h *plan.Hypothesis, epAlpha float64) HypothesisResult {
-	alpha := h.Alpha
-	if alpha == 0 {
-		alpha = epAlpha
-	}
-	sides := h.Sides
-	if sides == "" {
-		sides = "two-sided"
-	}
-	adj := h.Adjust
-	if adj == "" {
-		adj = plan.AdjustNone
-	}
-	hr := HypothesisResult{ID: h.ID, Pos: posText(h.Pos), Kind: h.Kind, Step: s.ID, Sides: sides, Alpha: Num(alpha),
-		Adjust: adj, AdjustUsed: adj, Assessable: true, Comparisons: []Comparison{}}
+	hr, alpha, sides, adj, factor := newHypothesisResult(p, s, h, epAlpha)
 	welch := s.Model == plan.ModelWelch
 	notAssessable := func(note string) HypothesisResult {
 		hr.Assessable, hr.AdjustUsed, hr.Note = false, "", note
@@ -69,12 +56,6 @@ func rankHypothesis(p *plan.Plan, s *plan.Step, f *fitted, h *plan.Hypothesis, e
 	switch {
 	case h.Kind == plan.HypTerm:
 		return notAssessable(fmt.Sprintf("step %s (%s) fits no model terms to test", s.ID, s.Model))
-	}
-	factor := h.Factor
-	if factor == "" {
-		if c := columnByRole(p, plan.RoleTreatment); c != nil {
-			factor = c.Name
-		}
 	}
 	if s.Compare != "" && factor != s.Compare {
 		return notAssessable(fmt.Sprintf("step %s compares the levels of %s, not of %s", s.ID, s.Compare, factor))
