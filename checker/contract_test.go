@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"flag"
 	"fmt"
+	"furrow/checker/method"
 	"os"
 	"path/filepath"
 	"slices"
@@ -102,7 +103,7 @@ func TestDataFixtures(t *testing.T) {
 					t.Fatal(err)
 				}
 			}
-			p, pds, err := plan.Load(pf)
+			p, pds, err := plan.Load(pf, method.Default)
 			if err != nil || pds.HasErrors() {
 				t.Fatalf("fixture plan does not load: %v %v", err, pds)
 			}
@@ -148,7 +149,7 @@ func TestExamplesConform(t *testing.T) {
 	}
 	for _, pf := range plans {
 		t.Run(filepath.Base(filepath.Dir(pf)), func(t *testing.T) {
-			p, pds, err := plan.Load(pf)
+			p, pds, err := plan.Load(pf, method.Default)
 			if err != nil || pds.HasErrors() {
 				t.Fatalf("plan: %v %v", err, pds)
 			}

@@ -8,6 +8,7 @@ import (
 	"strings"
 	"time"
 
+	"furrow/checker/method"
 	"furrow/plan"
 )
 
@@ -61,7 +62,7 @@ var ErrNotRegistered = errors.New("plan does not match its registration")
 // Run executes the plan on the data and returns the result, sealed is
 // left to WriteRecord. Inputs are only read.
 func Run(opt RunOptions) (*Result, error) {
-	p, diags, err := plan.Load(opt.PlanPath)
+	p, diags, err := plan.Load(opt.PlanPath, method.Default)
 	if err != nil {
 		return nil, fmt.Errorf("reading plan: %w", err)
 	}

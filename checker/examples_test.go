@@ -3,6 +3,7 @@ package checker
 import (
 	"bytes"
 	"encoding/json"
+	"furrow/checker/method"
 	"os"
 	"path/filepath"
 	"strconv"
@@ -115,7 +116,7 @@ func TestExampleReports(t *testing.T) {
 				t.Fatal(err)
 			}
 			compareGolden(t, name+".report.md", md)
-			p, ds, err := plan.Load(filepath.Join(filepath.Dir(out), "plan.yaml"))
+			p, ds, err := plan.Load(filepath.Join(filepath.Dir(out), "plan.yaml"), method.Default)
 			if err != nil || ds.HasErrors() {
 				t.Fatalf("loading plan: %v %v", err, ds)
 			}
@@ -173,7 +174,7 @@ func TestExampleReportsInBrowser(t *testing.T) {
 func TestExampleRegistrations(t *testing.T) {
 	for _, name := range exampleNames {
 		pp := filepath.Join("..", "examples", name, "plan.yaml")
-		p, ds, err := plan.Load(pp)
+		p, ds, err := plan.Load(pp, method.Default)
 		if err != nil || ds.HasErrors() {
 			t.Fatalf("%s: %v %v", name, err, ds)
 		}

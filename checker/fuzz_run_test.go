@@ -3,6 +3,7 @@ package checker
 import (
 	"bytes"
 	"encoding/csv"
+	"furrow/checker/method"
 	"math"
 	"os"
 	"path/filepath"
@@ -71,7 +72,7 @@ func loadFuzzExamples(tb testing.TB) []fuzzExample {
 		if err != nil {
 			tb.Fatal(err)
 		}
-		p, ds, err := plan.Parse(pp, src)
+		p, ds, err := plan.Parse(pp, src, method.Default)
 		if err != nil || ds.HasErrors() {
 			tb.Fatalf("example %s: %v %v", name, err, ds)
 		}
@@ -487,7 +488,7 @@ func FuzzExplain(f *testing.F) {
 		if !ok {
 			mut = src
 		}
-		p, ds, err := plan.Parse("fuzz.yaml", mut)
+		p, ds, err := plan.Parse("fuzz.yaml", mut, method.Default)
 		if err != nil || p == nil || ds.HasErrors() {
 			return
 		}

@@ -11,6 +11,7 @@ import (
 	"strings"
 	"time"
 
+	"furrow/checker/method"
 	"furrow/plan"
 )
 
@@ -174,7 +175,7 @@ var ErrPlanDoesNotLint = errors.New("the plan has errors; fix them before regist
 // amendment for that version (with its date and reason) in the plan. A
 // plan with error diagnostics is refused; the diagnostics are returned.
 func Register(planPath string, opt RegisterOptions) (*RegisterResult, plan.Diagnostics, error) {
-	p, diags, err := plan.Load(planPath)
+	p, diags, err := plan.Load(planPath, method.Default)
 	if err != nil {
 		return nil, diags, fmt.Errorf("registering %s: %w", planPath, err)
 	}

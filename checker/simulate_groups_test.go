@@ -1,6 +1,7 @@
 package checker
 
 import (
+	"furrow/checker/method"
 	"path/filepath"
 	"slices"
 	"testing"
@@ -13,7 +14,7 @@ import (
 // whole plot, 3 irrigation regimes x 4 blocks = 12 groups, constant within
 // each whole plot, and the response model must report its SD.
 func TestSimulateWholePlotGroups(t *testing.T) {
-	p, ds, err := plan.Load(filepath.Join("..", "examples", "irrigation-split-plot", "plan.yaml"))
+	p, ds, err := plan.Load(filepath.Join("..", "examples", "irrigation-split-plot", "plan.yaml"), method.Default)
 	if err != nil || ds.HasErrors() {
 		t.Fatalf("%v %v", err, ds)
 	}
@@ -49,7 +50,7 @@ func TestSimulateWholePlotGroups(t *testing.T) {
 		t.Errorf("group sd %v (residual %v), groups %v", m.GroupSD, m.ResidualSD, m.Groups)
 	}
 	// The wheat trial declares no such term.
-	w, _, _ := plan.Load(filepath.Join("..", "examples", "wheat-varieties", "plan.yaml"))
+	w, _, _ := plan.Load(filepath.Join("..", "examples", "wheat-varieties", "plan.yaml"), method.Default)
 	wl, err := buildLayout(w)
 	if err != nil {
 		t.Fatal(err)

@@ -2,6 +2,7 @@ package checker
 
 import (
 	"encoding/json"
+	"furrow/checker/method"
 	"math"
 	"math/rand/v2"
 	"os"
@@ -41,7 +42,7 @@ endpoints:
 
 func loadSimPlan(t *testing.T, src string) *plan.Plan {
 	t.Helper()
-	p, ds, err := plan.Parse("sim.yaml", []byte(src))
+	p, ds, err := plan.Parse("sim.yaml", []byte(src), method.Default)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -53,7 +54,7 @@ func loadSimPlan(t *testing.T, src string) *plan.Plan {
 
 func loadExample(t *testing.T, name string) *plan.Plan {
 	t.Helper()
-	p, ds, err := plan.Load("../examples/" + name + "/plan.yaml")
+	p, ds, err := plan.Load("../examples/"+name+"/plan.yaml", method.Default)
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -1,6 +1,9 @@
-package plan
+package plan_test
 
 import (
+	"furrow/checker/method"
+	"furrow/plan"
+
 	"crypto/sha256"
 	"encoding/hex"
 	"encoding/json"
@@ -10,9 +13,9 @@ import (
 	"testing"
 )
 
-func mustParse(t *testing.T, name string, src []byte) *Plan {
+func mustParse(t *testing.T, name string, src []byte) *plan.Plan {
 	t.Helper()
-	p, ds, err := Parse(name, src)
+	p, ds, err := plan.Parse(name, src, method.Default)
 	if err != nil || p == nil {
 		t.Fatalf("%s: err %v\n%s", name, err, formatDiags(ds))
 	}
@@ -76,12 +79,12 @@ endpoints:
 func TestHashIgnoresStyle(t *testing.T) {
 	base := mustParse(t, "base.yaml", readFixture(t, basePlan))
 	other := mustParse(t, "restyled.yaml", []byte(restyled))
-	if Hash(base) != Hash(other) {
-		t.Fatalf("restyled plan hashes differently\nbase:     %s\nrestyled: %s", Canonical(base), Canonical(other))
+	if plan.Hash(base) != plan.Hash(other) {
+		t.Fatalf("restyled plan hashes differently\nbase:     %s\nrestyled: %s", plan.Canonical(base), plan.Canonical(other))
 	}
 	// A plan read from a different file name hashes the same.
 	again := mustParse(t, "elsewhere/plan.yaml", readFixture(t, basePlan))
-	if Hash(again) != Hash(base) {
+	if plan.Hash(again) != plan.Hash(base) {
 		t.Fatal("file name changed the hash")
 	}
 }
@@ -89,9 +92,9 @@ func TestHashIgnoresStyle(t *testing.T) {
 // TestHashDefinition rebuilds the hash from its definition in doc.go.
 func TestHashDefinition(t *testing.T) {
 	p := mustParse(t, "base.yaml", readFixture(t, basePlan))
-	c := Canonical(p)
+	c := plan.Canonical(p)
 	sum := sha256.Sum256(c)
-	if got, want := Hash(p), "sha256:"+hex.EncodeToString(sum[:]); got != want {
+	if got, want := plan.Hash(p), "sha256:"+hex.EncodeToString(sum[:]); got != want {
 		t.Fatalf("Hash = %s, want %s", got, want)
 	}
 	if !json.Valid(c) || strings.ContainsAny(string(c), "\n\t") {
@@ -107,7 +110,7 @@ func TestHashDefinition(t *testing.T) {
 		}
 		last = i
 	}
-	if string(Canonical(p)) != string(c) {
+	if string(plan.Canonical(p)) != string(c) {
 		t.Fatal("canonical form not deterministic")
 	}
 }
@@ -116,7 +119,7 @@ func TestHashDefinition(t *testing.T) {
 // key (testdata/full.yaml) and checks that the hash changes each time.
 func TestHashSeesEveryField(t *testing.T) {
 	src := readFixture(t, "testdata/full.yaml")
-	base := Hash(mustParse(t, "full.yaml", src))
+	base := plan.Hash(mustParse(t, "full.yaml", src))
 	seen := map[string]string{base: "(unchanged)"}
 	var paths []string
 	collectLeaves(reflect.ValueOf(mustParse(t, "full.yaml", src)).Elem(), "", &paths)
@@ -126,7 +129,7 @@ func TestHashSeesEveryField(t *testing.T) {
 	for _, path := range paths {
 		p := mustParse(t, "full.yaml", src)
 		mutate(reflect.ValueOf(p).Elem(), path)
-		h := Hash(p)
+		h := plan.Hash(p)
 		if prev, dup := seen[h]; dup {
 			t.Errorf("changing %s gives the same hash as %s", path, prev)
 		}

@@ -21,13 +21,14 @@ import (
 const MaxSize = 1 << 20
 
 // Load reads the plan file at path and returns the decoded plan with its
-// findings, sorted. The error is non-nil only when the file cannot be read;
+// findings, sorted. m gives the rules of the model kinds and checks the
+// build offers (the registry in furrow/checker/method). The error is non-nil only when the file cannot be read;
 // everything wrong with its content is a diagnostic, positioned with
 // File = path as given. The plan is nil when the document could not be
 // decoded (YAML syntax, unsupported format, schema problems); otherwise
 // it is returned with defaults filled, together with the semantic
 // findings of Validate.
-func Load(path string) (*Plan, Diagnostics, error) {
+func Load(path string, m Methods) (*Plan, Diagnostics, error) {
 	f, err := os.Open(path)
 	if err != nil {
 		return nil, nil, fmt.Errorf("reading plan: %w", err)
@@ -37,14 +38,17 @@ func Load(path string) (*Plan, Diagnostics, error) {
 	if err != nil {
 		return nil, nil, fmt.Errorf("reading plan %s: %w", path, err)
 	}
-	return Parse(path, src)
+	return Parse(path, src, m)
 }
 
 // Parse decodes and validates a plan held in src; name is used as the
 // file of every position. It never returns a non-nil error (the result is
 // there to mirror Load); see Load for the meaning of the other results.
 // src is not modified.
-func Parse(name string, src []byte) (*Plan, Diagnostics, error) {
+func Parse(name string, src []byte, m Methods) (*Plan, Diagnostics, error) {
+	if m == nil {
+		panic("plan: Parse needs the build's Methods")
+	}
 	if ds := precheck(name, src); ds != nil {
 		return nil, ds.Sort(), nil
 	}
@@ -68,8 +72,8 @@ func Parse(name string, src []byte) (*Plan, Diagnostics, error) {
 		return nil, ds.Sort(), nil
 	}
 	p := decode(name, root)
-	p.fillDefaults()
-	ds = append(ds, Validate(p)...)
+	p.fillDefaults(m)
+	ds = append(ds, Validate(p, m)...)
 	return p, ds.Sort(), nil
 }
 

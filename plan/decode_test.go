@@ -1,6 +1,9 @@
-package plan
+package plan_test
 
 import (
+	"furrow/checker/method"
+	"furrow/plan"
+
 	"bytes"
 	"fmt"
 	"os"
@@ -35,7 +38,7 @@ func TestExamplePlans(t *testing.T) {
 			if !bytes.HasPrefix(src, []byte("# yaml-language-server: $schema=../../schema/plan.schema.json\n")) {
 				t.Errorf("%s does not start with the yaml-language-server schema comment", f)
 			}
-			p, ds, err := Load(f)
+			p, ds, err := plan.Load(f, method.Default)
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -53,7 +56,7 @@ func TestExamplePlans(t *testing.T) {
 }
 
 func TestParseValidBase(t *testing.T) {
-	p, ds, err := Parse("base.yaml", readFixture(t, basePlan))
+	p, ds, err := plan.Parse("base.yaml", readFixture(t, basePlan), method.Default)
 	if err != nil || p == nil || len(ds) != 0 {
 		t.Fatalf("base plan: err %v, plan %v, findings:\n%s", err, p != nil, formatDiags(ds))
 	}
@@ -91,13 +94,13 @@ func TestParseValidBase(t *testing.T) {
 		{"data.delimiter", p.Data.Delimiter, ","},
 		{"data.decimal", p.Data.Decimal, "."},
 		{"data.missing", strings.Join(p.Data.Missing, "|"), ""},
-		{"step0.outcome", s0.Outcome.Derive, DeriveRaw},
-		{"step0.df", s0.DF, DFSatterthwaite},
+		{"step0.outcome", s0.Outcome.Derive, plan.DeriveRaw},
+		{"step0.df", s0.DF, plan.DFSatterthwaite},
 		{"step0.estimation", s0.Estimation, "reml"},
-		{"step1.transform", s1.Transform.Kind, TransformNone},
+		{"step1.transform", s1.Transform.Kind, plan.TransformNone},
 		{"step1.df", s1.DF, ""},
 		{"hyp.factor", h.Factor, "treatment"},
-		{"hyp.adjust", h.Adjust, AdjustDunnett},
+		{"hyp.adjust", h.Adjust, plan.AdjustDunnett},
 	} {
 		if c.got != c.want {
 			t.Errorf("default %s = %q, want %q", c.name, c.got, c.want)
@@ -109,7 +112,7 @@ func TestParseValidBase(t *testing.T) {
 	if !near(e.Alpha, 0.05) || !near(h.Alpha, 0.05) {
 		t.Errorf("alpha defaults %v %v, want 0.05", e.Alpha, h.Alpha)
 	}
-	if s0.Transform.Kind != TransformLogOffset || !near(s0.Transform.Offset, 1) || !s0.Transform.HasOffset {
+	if s0.Transform.Kind != plan.TransformLogOffset || !near(s0.Transform.Offset, 1) || !s0.Transform.HasOffset {
 		t.Errorf("transform %+v", s0.Transform)
 	}
 	if *p.Columns[4].Min != 0 || !near(*p.Columns[4].Max, 5000) {
@@ -124,7 +127,7 @@ func near(a, b float64) bool { d := a - b; return d < 1e-12 && d > -1e-12 }
 func TestParseDoesNotModifyInput(t *testing.T) {
 	src := readFixture(t, basePlan)
 	cp := bytes.Clone(src)
-	if _, _, err := Parse("base.yaml", src); err != nil {
+	if _, _, err := plan.Parse("base.yaml", src, method.Default); err != nil {
 		t.Fatal(err)
 	}
 	if !bytes.Equal(src, cp) {
@@ -133,15 +136,15 @@ func TestParseDoesNotModifyInput(t *testing.T) {
 }
 
 func TestLoadMissingFile(t *testing.T) {
-	_, _, err := Load(filepath.Join(t.TempDir(), "nope.yaml"))
+	_, _, err := plan.Load(filepath.Join(t.TempDir(), "nope.yaml"), method.Default)
 	if err == nil || !strings.HasPrefix(err.Error(), "reading plan: ") {
 		t.Fatalf("err = %v, want a reading error", err)
 	}
 }
 
 func TestParseHugeInput(t *testing.T) {
-	src := bytes.Repeat([]byte("# padding line\n"), MaxSize/15+10)
-	p, ds, err := Parse("huge.yaml", src)
+	src := bytes.Repeat([]byte("# padding line\n"), plan.MaxSize/15+10)
+	p, ds, err := plan.Parse("huge.yaml", src, method.Default)
 	if err != nil || p != nil || len(ds) != 1 || ds[0].Code != "too-large" {
 		t.Fatalf("got plan %v err %v diags %v", p != nil, err, ds)
 	}
@@ -149,7 +152,7 @@ func TestParseHugeInput(t *testing.T) {
 	if err := os.WriteFile(path, src, 0o644); err != nil {
 		t.Fatal(err)
 	}
-	if _, ds, err := Load(path); err != nil || len(ds) != 1 || ds[0].Code != "too-large" {
+	if _, ds, err := plan.Load(path, method.Default); err != nil || len(ds) != 1 || ds[0].Code != "too-large" {
 		t.Fatalf("Load: err %v diags %v", err, ds)
 	}
 }
@@ -162,7 +165,7 @@ func TestParseAliasBomb(t *testing.T) {
 		cur := "a" + strconv.Itoa(i)
 		fmt.Fprintf(&b, "%s: &%s [*%s, *%s, *%s, *%s, *%s, *%s, *%s, *%s]\n", cur, cur, prev, prev, prev, prev, prev, prev, prev, prev)
 	}
-	p, ds, err := Parse("bomb.yaml", []byte(b.String()))
+	p, ds, err := plan.Parse("bomb.yaml", []byte(b.String()), method.Default)
 	if err != nil || p != nil || !ds.HasErrors() {
 		t.Fatalf("alias bomb: plan %v err %v", p != nil, err)
 	}
@@ -177,7 +180,7 @@ func TestParseAliasBomb(t *testing.T) {
 
 func TestParseDeepNesting(t *testing.T) {
 	src := "furrow: 1\ntrial: " + strings.Repeat("[", 5000) + strings.Repeat("]", 5000) + "\n"
-	p, ds, _ := Parse("deep.yaml", []byte(src))
+	p, ds, _ := plan.Parse("deep.yaml", []byte(src), method.Default)
 	if p != nil || !ds.HasErrors() {
 		t.Fatalf("deep nesting accepted")
 	}
@@ -186,7 +189,7 @@ func TestParseDeepNesting(t *testing.T) {
 func TestParseCRLFAndBOM(t *testing.T) {
 	src := readFixture(t, basePlan)
 	crlf := append([]byte("\ufeff"), bytes.ReplaceAll(src, []byte("\n"), []byte("\r\n"))...)
-	p, ds, _ := Parse("crlf.yaml", crlf)
+	p, ds, _ := plan.Parse("crlf.yaml", crlf, method.Default)
 	if p == nil || len(ds) != 0 {
 		t.Fatalf("CRLF plan with BOM: %s", formatDiags(ds))
 	}

@@ -16,7 +16,7 @@ const (
 
 // fillDefaults sets every value the plan left out to its documented
 // default. It is run on a freshly decoded plan only.
-func (p *Plan) fillDefaults() {
+func (p *Plan) fillDefaults(m Methods) {
 	if p.Data.Format == "" {
 		switch strings.ToLower(path.Ext(p.Data.File)) {
 		case ".xlsx":
@@ -54,28 +54,20 @@ func (p *Plan) fillDefaults() {
 			if s.Transform.Kind == "" {
 				s.Transform.Kind = TransformNone
 			}
-			switch s.Model {
-			case ModelLinear:
-				if s.DF == "" {
-					s.DF = DFResidual
+			if r, ok := m.Model(s.Model); ok {
+				if s.DF == "" && len(r.DF) > 0 {
+					s.DF = r.DF[0]
 				}
-				if s.Anova == 0 {
+				if s.Anova == 0 && r.Anova {
 					s.Anova = DefaultAnova
 				}
-			case ModelMixed:
-				if s.DF == "" {
-					s.DF = DFSatterthwaite
-				}
-				if s.Anova == 0 {
-					s.Anova = DefaultAnova
-				}
-				if s.Estimation == "" {
-					s.Estimation = "reml"
+				if s.Estimation == "" && len(r.Estimation) > 0 {
+					s.Estimation = r.Estimation[0]
 				}
 			}
 			for k := range s.Checks {
 				c := &s.Checks[k]
-				if c.By == nil && isGroupVarianceTest(c.Test) && treatment != "" {
+				if r, ok := m.Check(c.Test); ok && r.Grouped && c.By == nil && treatment != "" {
 					c.By = []string{treatment}
 				}
 			}
@@ -106,8 +98,4 @@ func (p *Plan) fillDefaults() {
 			}
 		}
 	}
-}
-
-func isGroupVarianceTest(t string) bool {
-	return t == CheckLevene || t == CheckBrownForsythe || t == CheckBartlett
 }

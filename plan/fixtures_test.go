@@ -1,6 +1,9 @@
-package plan
+package plan_test
 
 import (
+	"furrow/checker/method"
+	"furrow/plan"
+
 	"flag"
 	"os"
 	"path/filepath"
@@ -12,12 +15,12 @@ var update = flag.Bool("update", false, "rewrite the golden .want files of testd
 
 // formatDiags renders diagnostics one a line as "pos: summary", with
 // "warning: " before the summary of warnings.
-func formatDiags(ds Diagnostics) string {
+func formatDiags(ds plan.Diagnostics) string {
 	var b strings.Builder
 	for _, d := range ds {
 		b.WriteString(d.Pos.String())
 		b.WriteString(": ")
-		if d.Severity == Warning {
+		if d.Severity == plan.Warning {
 			b.WriteString("warning: ")
 		}
 		b.WriteString(d.Summary)
@@ -44,7 +47,7 @@ func TestMalformedPlans(t *testing.T) {
 			if err != nil {
 				t.Fatal(err)
 			}
-			_, ds, err := Parse(name, src)
+			_, ds, err := plan.Parse(name, src, method.Default)
 			if err != nil {
 				t.Fatalf("Parse: unexpected error %v", err)
 			}

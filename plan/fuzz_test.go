@@ -1,6 +1,9 @@
-package plan
+package plan_test
 
 import (
+	"furrow/checker/method"
+	"furrow/plan"
+
 	"os"
 	"path/filepath"
 	"testing"
@@ -20,7 +23,7 @@ func FuzzParse(f *testing.F) {
 		}
 	}
 	f.Fuzz(func(t *testing.T, src []byte) {
-		p, ds, err := Parse("fuzz.yaml", src)
+		p, ds, err := plan.Parse("fuzz.yaml", src, method.Default)
 		if err != nil {
 			t.Fatalf("Parse returned an error: %v", err)
 		}
@@ -32,7 +35,7 @@ func FuzzParse(f *testing.F) {
 				t.Fatalf("empty summary: %+v", d)
 			}
 		}
-		if p != nil && Hash(p) != Hash(p) {
+		if p != nil && plan.Hash(p) != plan.Hash(p) {
 			t.Fatal("hash not deterministic")
 		}
 	})

@@ -1,6 +1,9 @@
-package plan
+package plan_test
 
 import (
+	"furrow/checker/method"
+	"furrow/plan"
+
 	"os"
 	"path/filepath"
 	"regexp"
@@ -175,7 +178,7 @@ func FuzzValidate(f *testing.F) {
 		if len(mut) > 1<<16 {
 			return // duplications can grow a plan; bound the work
 		}
-		p, ds, err := Parse("fuzz.yaml", mut)
+		p, ds, err := plan.Parse("fuzz.yaml", mut, method.Default)
 		if err != nil {
 			t.Fatalf("Parse returned an error: %v\n%s", err, mut)
 		}
@@ -193,15 +196,15 @@ func FuzzValidate(f *testing.F) {
 		if ds.HasErrors() {
 			return
 		}
-		if len(Canonical(p)) == 0 {
+		if len(plan.Canonical(p)) == 0 {
 			t.Fatalf("empty canonical form\n%s", mut)
 		}
-		h := Hash(p)
+		h := plan.Hash(p)
 		if !hashForm.MatchString(h) {
 			t.Fatalf("hash %q is not of the form sha256:<hex>", h)
 		}
-		p2, _, _ := Parse("fuzz.yaml", mut)
-		if p2 == nil || Hash(p2) != h {
+		p2, _, _ := plan.Parse("fuzz.yaml", mut, method.Default)
+		if p2 == nil || plan.Hash(p2) != h {
 			t.Fatalf("hash differs between two parses of the same bytes\n%s", mut)
 		}
 	})

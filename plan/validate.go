@@ -15,11 +15,14 @@ import (
 // leaves it): references to columns and levels, roles, the fallback graph,
 // transforms against declared ranges, the experimental unit, hypotheses
 // and amendments. It returns the findings sorted; it does not modify p.
-func Validate(p *Plan) Diagnostics {
+func Validate(p *Plan, m Methods) Diagnostics {
 	if p == nil {
 		return nil
 	}
-	v := &validator{p: p, cols: map[string]*Column{}}
+	if m == nil {
+		panic("plan: Validate needs the build's Methods")
+	}
+	v := &validator{p: p, m: m, cols: map[string]*Column{}}
 	v.columns()
 	v.data()
 	v.design()
@@ -31,6 +34,7 @@ func Validate(p *Plan) Diagnostics {
 
 type validator struct {
 	p      *Plan
+	m      Methods
 	cols   map[string]*Column
 	repeat *Column
 	unit   *Column
@@ -272,16 +276,6 @@ func (v *validator) endpoints() {
 	}
 }
 
-func isParametric(model string) bool { return model == ModelLinear || model == ModelMixed }
-
-func isRank(model string) bool {
-	switch model {
-	case ModelKruskal, ModelFriedman, ModelSignedRank, ModelRankSum, ModelVanElteren:
-		return true
-	}
-	return false
-}
-
 var (
 	fixedRoles  = []string{RoleTreatment, RoleFactor, RoleRepeat, RoleBlock, RoleSite, RoleCovariate}
 	randomRoles = []string{RoleTreatment, RoleFactor, RoleUnit, RoleRepeat, RoleBlock, RoleSite}
@@ -340,50 +334,52 @@ func (v *validator) step(e *Endpoint, s *Step, sp string, resp *Column) {
 	for k, name := range s.Covariates {
 		v.ref(fmt.Sprintf("%s.covariates[%d]", sp, k), "covariate", name, RoleCovariate)
 	}
-	// Model shape.
-	switch s.Model {
-	case ModelLinear, ModelMixed:
-		if len(s.Fixed) == 0 {
+	// Model shape, from the rules of the model kind.
+	r, ok := v.m.Model(s.Model)
+	if !ok {
+		v.errf("unknown-model", sp+".model", "model %q is not available in this build", s.Model)
+		return
+	}
+	if r.Model {
+		if r.Fixed == Required && len(s.Fixed) == 0 {
 			v.errf("fixed-missing", sp+".model", "%s step %s needs fixed terms", s.Model, q)
 		}
-		if s.Model == ModelMixed && len(s.Random) == 0 {
-			v.errf("random-missing", sp+".model", "mixed step %s needs at least one random term; without one use model: linear", q)
+		if r.Random == Required && len(s.Random) == 0 {
+			v.errf("random-missing", sp+".model", "%s step %s needs at least one random term; without one use model: %s", s.Model, q, v.modelWhere(func(o ModelRules) bool { return o.Model && o.Random == Forbidden }))
 		}
-		if s.Model == ModelLinear && len(s.Random) > 0 {
-			v.errf("random-in-linear", sp+".random", "linear step %s cannot have random terms; use model: mixed", q)
+		if r.Random == Forbidden && len(s.Random) > 0 {
+			v.errf("random-in-linear", sp+".random", "%s step %s cannot have random terms; use model: %s", s.Model, q, v.modelWhere(func(o ModelRules) bool { return o.Model && o.Random == Required }))
 		}
-		if s.Model == ModelLinear && s.Estimation != "" {
-			v.errf("estimation-linear", sp+".estimation", "estimation applies to mixed models only")
+		if len(r.Estimation) == 0 && s.Estimation != "" {
+			v.errf("estimation-linear", sp+".estimation", "estimation applies to %s models only", v.modelsWhere(" and ", func(o ModelRules) bool { return len(o.Estimation) > 0 }))
 		}
-		if s.Model == ModelLinear && s.DF != "" && s.DF != DFResidual {
-			v.errf("df-linear", sp+".df", "df %s applies to mixed models; a linear model uses residual degrees of freedom", s.DF)
+		if s.DF != "" && !slices.Contains(r.DF, s.DF) {
+			v.errf("df-linear", sp+".df", "df %s applies to %s models; a %s model uses %s degrees of freedom", s.DF, v.modelsWhere(" and ", func(o ModelRules) bool { return slices.Contains(o.DF, s.DF) }), s.Model, r.DF[0])
 		}
 		if s.Compare != "" || s.Within != "" {
 			v.errf("compare-parametric", sp, "compare and within apply to welch and rank steps; a %s step tests its fixed terms", s.Model)
 		}
-		if s.Anova < 1 || s.Anova > 3 {
+		if r.Anova && (s.Anova < 1 || s.Anova > 3) {
 			v.errf("anova-type", sp+".anova", "anova type must be 1, 2 or 3; got %d", s.Anova)
 		}
-	default:
+	} else {
 		if len(s.Fixed) > 0 || len(s.Random) > 0 || len(s.Covariates) > 0 {
 			v.errf("terms-not-model", sp, "%s step %s takes no fixed, random or covariate terms; name the factor compared in compare", s.Model, q)
 		}
 		if s.Estimation != "" || s.DF != "" || s.Anova != 0 {
-			v.errf("options-not-model", sp, "estimation, df and anova apply to linear and mixed steps, not to %s", s.Model)
+			v.errf("options-not-model", sp, "estimation, df and anova apply to %s steps, not to %s", v.modelsWhere(" and ", func(o ModelRules) bool { return len(o.Estimation) > 0 || len(o.DF) > 0 || o.Anova }), s.Model)
 		}
 		var cmpCol *Column
-		needCompare := s.Model != ModelSignedRank || !perUnit(s.Outcome.Derive)
+		needCompare := r.Compare == Required && !(r.CompareOptionalPerUnit && perUnit(s.Outcome.Derive))
 		if s.Compare == "" && needCompare {
 			v.errf("compare-missing", sp, "%s step %s needs compare: the factor whose levels are compared", s.Model, q)
 		} else if s.Compare != "" {
 			cmpCol = v.ref(sp+".compare", "compare", s.Compare, compRoles...)
 		}
-		if cmpCol != nil && len(cmpCol.Levels) > 0 {
-			if (s.Model == ModelRankSum || s.Model == ModelSignedRank) && len(cmpCol.Levels) != 2 {
-				v.errf("compare-levels", sp+".compare", "%s compares two levels, but %q declares %d", s.Model, cmpCol.Name, len(cmpCol.Levels))
-			}
+		if cmpCol != nil && len(cmpCol.Levels) > 0 && r.CompareLevels > 0 && len(cmpCol.Levels) != r.CompareLevels {
+			v.errf("compare-levels", sp+".compare", "%s compares %s levels, but %q declares %d", s.Model, countWord(r.CompareLevels), cmpCol.Name, len(cmpCol.Levels))
 		}
-		needWithin := s.Model == ModelFriedman || s.Model == ModelVanElteren || (s.Model == ModelSignedRank && s.Compare != "")
+		needWithin := r.Within == Required || (r.WithinWithCompare && s.Compare != "")
 		switch {
 		case needWithin && s.Within == "":
 			v.errf("within-missing", sp, "%s step %s needs within: the blocks or strata the comparison is made in", s.Model, q)
@@ -392,7 +388,7 @@ func (v *validator) step(e *Endpoint, s *Step, sp string, resp *Column) {
 		case s.Within != "":
 			v.ref(sp+".within", "within", s.Within, RoleBlock, RoleSite, RoleUnit)
 		}
-		if len(s.Checks) > 0 && isRank(s.Model) {
+		if len(s.Checks) > 0 && r.Ranks {
 			v.warnf("checks-rank", sp+".checks", "assumption checks on rank step %s test residuals of no fitted model; they are run but usually not wanted", q)
 		}
 	}
@@ -404,7 +400,12 @@ func (v *validator) step(e *Endpoint, s *Step, sp string, resp *Column) {
 		if c.FailBelow <= 0 || c.FailBelow >= 1 {
 			v.errf("threshold-range", cp+".fail-below", "fail-below must be between 0 and 1, both excluded; got %s", fnum(c.FailBelow))
 		}
-		if isGroupVarianceTest(c.Test) {
+		cr, ok := v.m.Check(c.Test)
+		if !ok {
+			v.errf("unknown-check", cp+".test", "check %q is not available in this build", c.Test)
+			continue
+		}
+		if cr.Grouped {
 			if len(c.By) == 0 {
 				v.errf("by-missing", cp, "%s groups residuals, but there is no treatment column to group by; add by", c.Test)
 			}
@@ -412,7 +413,7 @@ func (v *validator) step(e *Endpoint, s *Step, sp string, resp *Column) {
 				v.ref(fmt.Sprintf("%s.by[%d]", cp, m), "by", name, groupRoles...)
 			}
 		} else if len(c.By) > 0 {
-			v.errf("by-not-test", cp+".by", "by applies to levene, brown-forsythe and bartlett, not to %s", c.Test)
+			v.errf("by-not-test", cp+".by", "by applies to %s, not to %s", v.checksWhere(" and ", func(o CheckRules) bool { return o.Grouped }), c.Test)
 		}
 	}
 }
@@ -461,7 +462,7 @@ func (v *validator) outcome(s *Step, sp string) {
 		if o.At != "" {
 			v.errf("outcome-at", op+".at", "at applies to derive: unit-mean only")
 		}
-		if o.Derive == DeriveBaseline && !isParametric(s.Model) {
+		if r, ok := v.m.Model(s.Model); o.Derive == DeriveBaseline && ok && !r.Model {
 			v.errf("baseline-model", op+".derive", "derive: baseline adds the baseline value as a covariate, which needs a linear or mixed model")
 		}
 	case DeriveUnitMean:
@@ -571,14 +572,15 @@ func (v *validator) pseudoReplication(s *Step, sp string) {
 		return
 	}
 	u := v.unit.Name
-	if s.Model == ModelMixed {
+	r, _ := v.m.Model(s.Model)
+	if r.UnitRandom {
 		for _, t := range s.Random {
 			if slices.Contains(t.Columns, u) {
 				return
 			}
 		}
 	}
-	if (s.Model == ModelFriedman || s.Model == ModelSignedRank) && s.Within == u {
+	if r.UnitWithin && s.Within == u {
 		return
 	}
 	v.add(Error, "pseudo-replication", sp+".model", fmt.Sprintf(
@@ -865,7 +867,7 @@ func (v *validator) margined(e *Endpoint, h *Hypothesis, hp string, f *Column) {
 	}
 	if ratio {
 		for _, s := range e.Steps {
-			if (isParametric(s.Model) || s.Model == ModelWelch) && !isLogType(s.Transform.Kind) {
+			if r, ok := v.m.Model(s.Model); ok && r.Means && !isLogType(s.Transform.Kind) {
 				v.warnf("ratio-scale", mp+".scale", "a ratio margin compares back-transformed means, but step %q uses transform %s, not a log; the margin cannot be applied on that step", s.ID, s.Transform.Kind)
 			}
 		}
@@ -888,7 +890,7 @@ func (v *validator) termHypothesis(e *Endpoint, h *Hypothesis, hp string) {
 	}
 	want := slices.Sorted(slices.Values(h.Term))
 	for _, s := range e.Steps {
-		if !isParametric(s.Model) {
+		if r, ok := v.m.Model(s.Model); !ok || !r.Model {
 			continue
 		}
 		for _, t := range s.Fixed {
@@ -897,8 +899,60 @@ func (v *validator) termHypothesis(e *Endpoint, h *Hypothesis, hp string) {
 			}
 		}
 	}
-	v.errf("term-not-fitted", hp+".term", "term %s is not a fixed term of any linear or mixed step of endpoint %q", strings.Join(h.Term, ":"), e.ID)
+	v.errf("term-not-fitted", hp+".term", "term %s is not a fixed term of any %s step of endpoint %q", strings.Join(h.Term, ":"), v.modelsWhere(" or ", func(o ModelRules) bool { return o.Model }), e.ID)
 }
 
 // fnum formats a number for a message: shortest exact form.
 func fnum(x float64) string { return strconv.FormatFloat(x, 'g', -1, 64) }
+
+// modelsWhere joins, with sep before the last, the model kinds a plan
+// can name whose rules satisfy keep, in registry order.
+func (v *validator) modelsWhere(sep string, keep func(ModelRules) bool) string {
+	var names []string
+	for _, name := range v.m.Models() {
+		if r, ok := v.m.Model(name); ok && keep(r) {
+			names = append(names, name)
+		}
+	}
+	return joinWith(names, sep)
+}
+
+// checksWhere joins the checks whose rules satisfy keep, in registry order.
+func (v *validator) checksWhere(sep string, keep func(CheckRules) bool) string {
+	var names []string
+	for _, name := range v.m.Checks() {
+		if r, ok := v.m.Check(name); ok && keep(r) {
+			names = append(names, name)
+		}
+	}
+	return joinWith(names, sep)
+}
+
+// modelWhere names the first model kind whose rules satisfy keep.
+func (v *validator) modelWhere(keep func(ModelRules) bool) string {
+	for _, name := range v.m.Models() {
+		if r, ok := v.m.Model(name); ok && keep(r) {
+			return name
+		}
+	}
+	return ""
+}
+
+// joinWith joins names as "a, b and c" (sep " and ") or "a, b or c".
+func joinWith(names []string, sep string) string {
+	switch len(names) {
+	case 0:
+		return ""
+	case 1:
+		return names[0]
+	}
+	return strings.Join(names[:len(names)-1], ", ") + sep + names[len(names)-1]
+}
+
+// countWord writes a small count as a word.
+func countWord(n int) string {
+	if words := []string{"no", "one", "two", "three", "four"}; n >= 0 && n < len(words) {
+		return words[n]
+	}
+	return strconv.Itoa(n)
+}

@@ -5,6 +5,7 @@ import (
 	"path/filepath"
 
 	"furrow/checker"
+	"furrow/checker/method"
 	"furrow/plan"
 )
 
@@ -57,7 +58,7 @@ func runCheck(e *env, c *command, args []string) int {
 	if len(pos) == 2 {
 		dataPath = pos[1]
 	}
-	p, ds, err := plan.Load(planPath)
+	p, ds, err := plan.Load(planPath, method.Default)
 	if err != nil {
 		return fail(e, c, err)
 	}

@@ -4,6 +4,7 @@ import (
 	"fmt"
 
 	"furrow/checker"
+	"furrow/checker/method"
 	"furrow/plan"
 )
 
@@ -48,7 +49,7 @@ func runExplain(e *env, c *command, args []string) int {
 	if !ok {
 		return code
 	}
-	p, ds, err := plan.Load(pos[0])
+	p, ds, err := plan.Load(pos[0], method.Default)
 	if err != nil {
 		return fail(e, c, err)
 	}

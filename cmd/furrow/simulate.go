@@ -9,6 +9,7 @@ import (
 	"text/tabwriter"
 
 	"furrow/checker"
+	"furrow/checker/method"
 	"furrow/plan"
 )
 
@@ -91,7 +92,7 @@ func runSimulate(e *env, c *command, args []string) int {
 	if *runs < 1 || *runs > 1_000_000 {
 		return usageError(e, c, fmt.Sprintf("--runs %d is outside 1 to 1000000", *runs))
 	}
-	p, ds, err := plan.Load(pos[0])
+	p, ds, err := plan.Load(pos[0], method.Default)
 	if err != nil {
 		return fail(e, c, err)
 	}
