@@ -208,10 +208,9 @@ func modelSpec(ep *plan.Endpoint, s *plan.Step) ModelSpec {
 	// any package): kind, estimator, analysed quantity, then the terms.
 	lhs := scaleText(ep.Response, s.Outcome, s.Transform)
 	var b strings.Builder
-	switch s.Model {
-	case plan.ModelLinear, plan.ModelMixed:
+	if rules, _ := method.Default.Model(s.Model); rules.Model {
 		b.WriteString(s.Model)
-		if s.Model == plan.ModelMixed {
+		if len(rules.Estimation) > 0 {
 			est := s.Estimation
 			if est == "" {
 				est = "reml"
@@ -248,7 +247,7 @@ func modelSpec(ep *plan.Endpoint, s *plan.Step) ModelSpec {
 		if s.Anova != 0 {
 			fmt.Fprintf(&b, "; type %s tests", [...]string{"", "I", "II", "III"}[min(max(s.Anova, 0), 3)])
 		}
-	default:
+	} else {
 		b.WriteString(s.Model + " of " + lhs)
 		if s.Compare != "" {
 			b.WriteString(" between levels of " + s.Compare)

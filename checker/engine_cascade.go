@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 
+	"furrow/checker/method"
 	"furrow/plan"
 )
 
@@ -25,15 +26,15 @@ type fitted struct {
 // fitFunc fits one model kind.
 type fitFunc func(p *plan.Plan, ep *plan.Endpoint, s *plan.Step, ds *dataset) (*fitted, error)
 
-// engine holds the model fitters and checks by name: plain values in maps,
-// looked up by the names the plan uses.
+// engine holds the methods of this build (checks and model kinds, by the
+// names the plan uses) and the fit of each model kind.
 type engine struct {
-	fits   map[string]fitFunc
-	checks map[string]checkFunc
+	methods *method.Registry
+	fits    map[string]fitFunc
 }
 
 func defaultEngine() *engine {
-	return &engine{fits: modelFitters(), checks: checkFuncs()}
+	return &engine{methods: method.Default, fits: modelFitters()}
 }
 
 // runEndpoint executes an endpoint's cascade: start at the first step; fit;

@@ -5,64 +5,9 @@ import (
 	"math"
 	"strings"
 
+	"furrow/checker/method"
 	"furrow/plan"
-	"furrow/stats/assume"
 )
-
-// checkOutcome is what one assumption test returns.
-type checkOutcome struct {
-	on        string
-	n         int
-	statistic float64
-	df        []float64
-	p         float64
-}
-
-// checkFunc runs one assumption test on a fitted step.
-type checkFunc func(f *fitted, s *plan.Step, c *plan.Check, byCols []string) (checkOutcome, error)
-
-// checkFuncs returns the registry of checks by plan name. Normality tests
-// use the residuals; variance tests the residuals grouped by the check's
-// "by" columns (default the treatment column); Breusch-Pagan the
-// residuals against the fitted values (Koenker's studentised form).
-func checkFuncs() map[string]checkFunc {
-	return map[string]checkFunc{
-		plan.CheckShapiroWilk: func(f *fitted, _ *plan.Step, _ *plan.Check, _ []string) (checkOutcome, error) {
-			// Shapiro & Wilk (1965) with Royston's (1995) approximation (stats/assume).
-			r, err := assume.ShapiroWilk(f.resid)
-			return checkOutcome{on: "residuals", n: r.N, statistic: r.W, p: r.P}, err
-		},
-		plan.CheckAndersonDarling: func(f *fitted, _ *plan.Step, _ *plan.Check, _ []string) (checkOutcome, error) {
-			r, err := assume.AndersonDarling(f.resid)
-			return checkOutcome{on: "residuals", n: r.N, statistic: r.A2Star, p: r.P}, err
-		},
-		plan.CheckLevene:        groupedF(assume.Levene),
-		plan.CheckBrownForsythe: groupedF(assume.BrownForsythe),
-		plan.CheckBartlett: func(f *fitted, _ *plan.Step, _ *plan.Check, by []string) (checkOutcome, error) {
-			g, err := residGroups(f, by)
-			if err != nil {
-				return checkOutcome{}, err
-			}
-			r, err := assume.Bartlett(g)
-			return checkOutcome{on: "residuals by " + strings.Join(by, ":"), n: r.N, statistic: r.Stat, df: []float64{r.DF}, p: r.P}, err
-		},
-		plan.CheckBreuschPagan: func(f *fitted, _ *plan.Step, _ *plan.Check, _ []string) (checkOutcome, error) {
-			r, err := assume.BreuschPaganFitted(f.resid, f.fit)
-			return checkOutcome{on: "residuals vs fitted", n: r.N, statistic: r.Stat, df: []float64{r.DF}, p: r.P}, err
-		},
-	}
-}
-
-func groupedF(test func([][]float64) (assume.FTestResult, error)) checkFunc {
-	return func(f *fitted, _ *plan.Step, _ *plan.Check, by []string) (checkOutcome, error) {
-		g, err := residGroups(f, by)
-		if err != nil {
-			return checkOutcome{}, err
-		}
-		r, err := test(g)
-		return checkOutcome{on: "residuals by " + strings.Join(by, ":"), n: r.N, statistic: r.F, df: []float64{r.DF1, r.DF2}, p: r.P}, err
-	}
-}
 
 // residGroups splits the residuals by the joint levels of the by columns,
 // groups in order of first appearance.
@@ -100,14 +45,14 @@ func (e *engine) runCheck(f *fitted, s *plan.Step, c *plan.Check) CheckResult {
 	if onFail == "" {
 		onFail = s.OnFail
 	}
+	m := e.methods.CheckNamed(c.Test)
 	by := c.By
-	if len(by) == 0 && isVarianceTest(c.Test) {
+	if len(by) == 0 && m != nil && m.Target == method.ResidualsByGroup {
 		by = []string{f.compare}
 	}
 	cr := CheckResult{Test: c.Test, Pos: posText(c.Pos), By: by, FailBelow: Num(c.FailBelow), OnFail: onFail,
 		Statistic: NaN, P: NaN}
-	fn := e.checks[c.Test]
-	if fn == nil {
+	if m == nil {
 		cr.Verdict, cr.Error = VerdictError, fmt.Sprintf("check %q is not available in this build", c.Test)
 		return cr
 	}
@@ -122,15 +67,15 @@ func (e *engine) runCheck(f *fitted, s *plan.Step, c *plan.Check) CheckResult {
 		cr.Verdict, cr.Error = VerdictError, "the residuals are zero up to rounding, so the model fits the data exactly and the check cannot be computed"
 		return cr
 	}
-	out, err := safeCheck(fn, f, s, c, by)
-	cr.On, cr.N, cr.Statistic, cr.DF, cr.P = out.on, out.n, Num(out.statistic), nums(out.df), Num(out.p)
+	out, err := safeCheck(m, f, by)
+	cr.On, cr.N, cr.Statistic, cr.DF, cr.P = out.On, out.N, Num(out.Statistic), nums(out.DF), Num(out.P)
 	switch {
 	case err != nil:
 		cr.Verdict, cr.Error = VerdictError, err.Error()
 		cr.Statistic, cr.P = NaN, NaN
-	case math.IsNaN(out.p):
+	case math.IsNaN(out.P):
 		cr.Verdict, cr.Error = VerdictError, "the test gave no p-value"
-	case out.p < c.FailBelow:
+	case out.P < c.FailBelow:
 		cr.Verdict = VerdictFail
 	default:
 		cr.Verdict = VerdictPass
@@ -153,15 +98,21 @@ func perfectFit(f *fitted) bool {
 	return big <= 1e-12*scale
 }
 
-func safeCheck(fn checkFunc, f *fitted, s *plan.Step, c *plan.Check, by []string) (out checkOutcome, err error) {
+// safeCheck runs a check on the fit's residuals (grouped by the by
+// columns for a grouped check), turning a panic into an error.
+func safeCheck(m *method.Check, f *fitted, by []string) (out method.Outcome, err error) {
 	defer func() {
 		if v := recover(); v != nil {
-			out, err = checkOutcome{}, fmt.Errorf("internal error in %s: %v", c.Test, v)
+			out, err = method.Outcome{}, fmt.Errorf("internal error in %s: %v", m.Name, v)
 		}
 	}()
-	return fn(f, s, c, by)
-}
-
-func isVarianceTest(name string) bool {
-	return name == plan.CheckLevene || name == plan.CheckBrownForsythe || name == plan.CheckBartlett
+	in := method.Input{Resid: f.resid, Fitted: f.fit}
+	if m.Target == method.ResidualsByGroup {
+		g, err := residGroups(f, by)
+		if err != nil {
+			return method.Outcome{}, err
+		}
+		in.Groups, in.By = g, by
+	}
+	return m.Run(in)
 }

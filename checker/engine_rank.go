@@ -30,6 +30,7 @@ import (
 	"math"
 	"slices"
 
+	"furrow/checker/method"
 	"furrow/plan"
 	"furrow/stats/dist"
 	"furrow/stats/rank"
@@ -112,18 +113,25 @@ func medianSweep(y []float64, block, level []string) (resid, fit []float64) {
 	return resid, fit
 }
 
+// ranks reports whether a step is a rank test (its checks see deviations
+// of no fitted model, so they are tested on the analysed values).
+func ranks(s *plan.Step) bool {
+	r, _ := method.Default.Model(s.Model)
+	return r.Ranks
+}
+
 // rankFitted assembles the parts every rank and Welch step shares.
-func rankFitted(p *plan.Plan, s *plan.Step, ds *dataset, method string, test GlobalTest, resid, fit []float64) *fitted {
+func rankFitted(p *plan.Plan, s *plan.Step, ds *dataset, methodText string, test GlobalTest, resid, fit []float64) *fitted {
 	cmpF := compareFactor(p, s)
 	f := &fitted{
-		summary: FitSummary{Method: method, Aliased: []string{}, ResidualDF: NaN, Sigma: NaN, RSquared: NaN,
+		summary: FitSummary{Method: methodText, Aliased: []string{}, ResidualDF: NaN, Sigma: NaN, RSquared: NaN,
 			Criterion: NaN, Converged: true},
 		resid:     resid,
 		fit:       fit,
 		groups:    ds.factors[cmpF],
 		compare:   cmpF,
 		rankLike:  true,
-		residOnly: s.Model != plan.ModelWelch,
+		residOnly: ranks(s),
 	}
 	t := test
 	f.detail = &StepDetail{Test: &t, GroupSummaries: groupSummaries(p, cmpF, ds)}

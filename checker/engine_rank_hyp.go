@@ -39,6 +39,7 @@ import (
 	"slices"
 	"strings"
 
+	"furrow/checker/method"
 	"furrow/plan"
 	"furrow/stats/dist"
 	"furrow/stats/multcomp"
@@ -48,7 +49,7 @@ import (
 // rankHypothesis answers one declared hypothesis on a rank or Welch step.
 func rankHypothesis(p *plan.Plan, s *plan.Step, f *fitted, h *plan.Hypothesis, epAlpha float64) HypothesisResult {
 	hr, alpha, sides, adj, factor := newHypothesisResult(p, s, h, epAlpha)
-	welch := s.Model == plan.ModelWelch
+	pairing := method.Default.PairingOf(s)
 	notAssessable := func(note string) HypothesisResult {
 		hr.Assessable, hr.AdjustUsed, hr.Note = false, "", note
 		return hr
@@ -77,10 +78,10 @@ func rankHypothesis(p *plan.Plan, s *plan.Step, f *fitted, h *plan.Hypothesis, e
 			adj, s.ID, s.Model))
 	}
 	hr.AdjustUsed = used
-	if !welch {
-		notes = append(notes, rankIntervalNote(s, h, used, alpha))
+	if pairing != method.WelchTwoSample {
+		notes = append(notes, rankIntervalNote(s, pairing, h, used, alpha))
 	}
-	cmp := pairComparer(s, f, factor)
+	cmp := pairComparer(s, pairing, f, factor)
 	ps := make([]float64, 0, len(pairs))
 	for _, pr := range pairs {
 		c := cmp(pr[0], pr[1], sides, h, alpha)
@@ -107,12 +108,12 @@ func rankHypothesis(p *plan.Plan, s *plan.Step, f *fitted, h *plan.Hypothesis, e
 // rankIntervalNote says how a rank step's estimates and intervals are
 // obtained, so the record states that they are distribution-free and,
 // under a multiplicity adjustment, per comparison.
-func rankIntervalNote(s *plan.Step, h *plan.Hypothesis, adj string, alpha float64) string {
+func rankIntervalNote(s *plan.Step, pairing method.Pairing, h *plan.Hypothesis, adj string, alpha float64) string {
 	var est string
-	switch {
-	case s.Model == plan.ModelSignedRank && s.Compare != "":
+	switch pairing {
+	case method.SignedRankPaired:
 		est = "the Hodges-Lehmann median of the Walsh averages of the paired differences with the interval from inverting the signed-rank test (Tukey; Bauer 1972), exact where the exact null distribution applies, else normal with continuity correction"
-	case s.Within != "" && (s.Model == plan.ModelVanElteren || s.Model == plan.ModelFriedman):
+	case method.StratifiedShift:
 		est = fmt.Sprintf("the Hodges-Lehmann shift common to the %s strata with the interval from inverting van Elteren's test (normal, no continuity correction)", s.Within)
 	default:
 		est = "the Hodges-Lehmann shift (median of the pairwise differences) with the Moses interval from inverting the rank-sum test (Bauer 1972), exact where the exact null distribution applies, else normal with continuity correction"
@@ -247,8 +248,8 @@ func emptyComparison(level, against string) Comparison {
 type pairFunc func(level, against, sides string, h *plan.Hypothesis, alpha float64) Comparison
 
 // pairComparer returns the two-sample comparison a step's hypotheses use
-// (see the table at the top of this file).
-func pairComparer(s *plan.Step, f *fitted, factor string) pairFunc {
+// (see the table at the top of this file), by the step's pairing.
+func pairComparer(s *plan.Step, pairing method.Pairing, f *fitted, factor string) pairFunc {
 	ds := f.ds
 	g := ds.factors[factor]
 	values := func(level string) []float64 {
@@ -268,8 +269,8 @@ func pairComparer(s *plan.Step, f *fitted, factor string) pairFunc {
 			c.RatioLower, c.RatioUpper = Num(math.Exp(k*float64(c.Lower))), Num(math.Exp(k*float64(c.Upper)))
 		}
 	}
-	switch {
-	case s.Model == plan.ModelWelch:
+	switch pairing {
+	case method.WelchTwoSample:
 		return func(level, against, sides string, h *plan.Hypothesis, alpha float64) Comparison {
 			c := emptyComparison(level, against)
 			est, se, df, ok := welchTwoSample(values(level), values(against))
@@ -310,7 +311,7 @@ func pairComparer(s *plan.Step, f *fitted, factor string) pairFunc {
 			ratio(&c)
 			return c
 		}
-	case s.Model == plan.ModelSignedRank && s.Compare != "":
+	case method.SignedRankPaired:
 		return func(level, against, sides string, h *plan.Hypothesis, alpha float64) Comparison {
 			c := emptyComparison(level, against)
 			b := ds.factors[s.Within]
@@ -341,7 +342,7 @@ func pairComparer(s *plan.Step, f *fitted, factor string) pairFunc {
 			}
 			return rankComparison(c, rp, h, tr, sides, alpha)
 		}
-	case s.Within != "" && (s.Model == plan.ModelVanElteren || s.Model == plan.ModelFriedman):
+	case method.StratifiedShift:
 		return func(level, against, sides string, h *plan.Hypothesis, alpha float64) Comparison {
 			c := emptyComparison(level, against)
 			x, y := values(level), values(against)

@@ -5,6 +5,7 @@ import (
 	"strconv"
 	"strings"
 
+	"furrow/checker/method"
 	"furrow/plan"
 )
 
@@ -274,56 +275,8 @@ func amendmentsSection(p *plan.Plan) Section {
 
 func describeModel(p *plan.Plan, e *plan.Endpoint, st *plan.Step) string {
 	y := describeOutcome(p, e, st)
-	switch st.Model {
-	case plan.ModelLinear, plan.ModelMixed:
-		var b strings.Builder
-		if st.Model == plan.ModelLinear {
-			b.WriteString("A linear model fitted by least squares to " + y)
-		} else {
-			est := "REML"
-			if st.Estimation == "ml" {
-				est = "maximum likelihood"
-			}
-			b.WriteString("A linear mixed model fitted by " + est + " to " + y)
-		}
-		fixed := termList(st.Fixed, " × ")
-		for _, c := range st.Covariates {
-			fixed = append(fixed, code(c)+" (covariate)")
-		}
-		if st.Outcome.Derive == plan.DeriveBaseline {
-			fixed = append(fixed, "the baseline value (covariate)")
-		}
-		fmt.Fprintf(&b, ", with fixed terms %s", joinAnd(fixed))
-		if len(st.Random) > 0 {
-			var rnd []string
-			for _, t := range st.Random {
-				rnd = append(rnd, randomTerm(t))
-			}
-			fmt.Fprintf(&b, " and random intercepts for %s", joinAnd(rnd))
-		}
-		fmt.Fprintf(&b, ". Type %s tests", roman(st.Anova))
-		switch st.DF {
-		case plan.DFSatterthwaite:
-			b.WriteString(" with Satterthwaite denominator degrees of freedom")
-		case plan.DFKenwardRoger:
-			b.WriteString(" with Kenward-Roger denominator degrees of freedom")
-		default:
-			b.WriteString(" on the residual degrees of freedom")
-		}
-		b.WriteString(".")
-		return b.String()
-	case plan.ModelWelch:
-		return fmt.Sprintf("Welch's one-way analysis of variance of %s between the levels of %s, not assuming equal variances.", y, code(st.Compare))
-	case plan.ModelKruskal:
-		return fmt.Sprintf("The Kruskal-Wallis rank test of %s between the levels of %s, with the correction for ties.", y, code(st.Compare))
-	case plan.ModelFriedman:
-		return fmt.Sprintf("The Friedman rank test of %s between the levels of %s within %s, with the correction for ties.", y, code(st.Compare), code(st.Within))
-	case plan.ModelSignedRank:
-		return fmt.Sprintf("The Wilcoxon signed-rank test of %s.", y)
-	case plan.ModelRankSum:
-		return fmt.Sprintf("The Wilcoxon-Mann-Whitney rank-sum test of %s between the levels of %s.", y, code(st.Compare))
-	case plan.ModelVanElteren:
-		return fmt.Sprintf("Van Elteren's stratified rank test of %s between the levels of %s within each %s.", y, code(st.Compare), code(st.Within))
+	if m := method.Default.ModelNamed(st.Model); m != nil {
+		return m.Describe(st, y)
 	}
 	return fmt.Sprintf("Model %s of %s.", st.Model, y)
 }
@@ -365,19 +318,10 @@ func transformText(t plan.Transform, y string) string {
 	return y
 }
 
-var testNames = map[string]string{
-	plan.CheckShapiroWilk:     "Shapiro-Wilk test of the residuals",
-	plan.CheckAndersonDarling: "Anderson-Darling test of the residuals",
-	plan.CheckLevene:          "Levene test (mean-centred) of equal residual variance",
-	plan.CheckBrownForsythe:   "Brown-Forsythe test (median-centred) of equal residual variance",
-	plan.CheckBartlett:        "Bartlett test of equal residual variance",
-	plan.CheckBreuschPagan:    "Breusch-Pagan test (studentised) of residual variance against the fitted values",
-}
-
 func describeCheck(c plan.Check, next string, index map[string]int) string {
-	name := testNames[c.Test]
-	if name == "" {
-		name = c.Test + " check"
+	name := c.Test + " check"
+	if m := method.Default.CheckNamed(c.Test); m != nil {
+		name = m.Words
 	}
 	if len(c.By) > 0 {
 		var by []string
@@ -533,23 +477,6 @@ func columnsWithRole(p *plan.Plan, role string) []plan.Column {
 	return out
 }
 
-func termList(ts []plan.Term, sep string) []string {
-	var out []string
-	for _, t := range ts {
-		out = append(out, strings.Join(codes(t.Columns), sep))
-	}
-	return out
-}
-
-func randomTerm(t plan.Term) string {
-	if len(t.Columns) == 1 {
-		return code(t.Columns[0])
-	}
-	inner := t.Columns[len(t.Columns)-1]
-	outer := codes(t.Columns[:len(t.Columns)-1])
-	return code(inner) + " within " + strings.Join(outer, " × ")
-}
-
 func layoutName(l string) string {
 	switch l {
 	case "crd":
@@ -572,42 +499,11 @@ func layoutName(l string) string {
 	return l
 }
 
-func roman(n int) string {
-	switch n {
-	case 1:
-		return "I"
-	case 2:
-		return "II"
-	}
-	return "III"
-}
-
 func alphaOf(a float64) float64 {
 	if a == 0 {
 		return 0.05
 	}
 	return a
-}
-
-func codes(ss []string) []string {
-	out := make([]string, len(ss))
-	for i, s := range ss {
-		out[i] = code(s)
-	}
-	return out
-}
-
-// code marks a plan identifier; renderers turn the marks into `x` or <code>.
-func code(s string) string { return "\x60" + s + "\x60" }
-
-func joinAnd(ss []string) string {
-	switch len(ss) {
-	case 0:
-		return "none"
-	case 1:
-		return ss[0]
-	}
-	return strings.Join(ss[:len(ss)-1], ", ") + " and " + ss[len(ss)-1]
 }
 
 func fnum(x float64) string { return strconv.FormatFloat(x, 'g', -1, 64) }
@@ -638,3 +534,12 @@ func orDefault(s, d string) string {
 	}
 	return s
 }
+
+// Phrases shared with the method descriptions.
+var (
+	code       = method.Code
+	codes      = method.Codes
+	joinAnd    = method.JoinAnd
+	termList   = method.TermList
+	randomTerm = method.RandomTerm
+)

@@ -172,6 +172,15 @@ func (r *Registry) ModelNamed(name string) *Model {
 	return nil
 }
 
+// PairingOf returns how a step compares two levels: its model kind's
+// pairing, or Contrasts for a kind the registry does not have.
+func (r *Registry) PairingOf(s *plan.Step) Pairing {
+	if m := r.ModelNamed(s.Model); m != nil {
+		return m.Pairing(s)
+	}
+	return Contrasts
+}
+
 // AllChecks returns the checks in registry order.
 func (r *Registry) AllChecks() []*Check { return slices.Clone(r.checks) }
 
