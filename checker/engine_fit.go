@@ -8,6 +8,7 @@ import (
 
 	"gonum.org/v1/gonum/mat"
 
+	"furrow/checker/method"
 	"furrow/plan"
 	"furrow/stats/design"
 	"furrow/stats/dist"
@@ -25,19 +26,19 @@ type linearFit struct {
 	estimable func(l []float64) bool
 }
 
-// modelFitters returns the model kinds this build can fit.
+// modelFitters returns the fit of each model kind of the registry.
 func modelFitters() map[string]fitFunc {
 	return map[string]fitFunc{
-		plan.ModelLinear: fitLinear,
-		plan.ModelMixed:  fitMixed,
+		method.Linear.Name: fitLinear,
+		method.Mixed.Name:  fitMixed,
 
 		// Rank and Welch steps (engine_rank.go).
-		plan.ModelWelch:      fitWelch,
-		plan.ModelKruskal:    fitKruskal,
-		plan.ModelFriedman:   fitFriedman,
-		plan.ModelSignedRank: fitSignedRank,
-		plan.ModelRankSum:    fitRankSum,
-		plan.ModelVanElteren: fitVanElteren,
+		method.Welch.Name:         fitWelch,
+		method.KruskalWallis.Name: fitKruskal,
+		method.Friedman.Name:      fitFriedman,
+		method.SignedRank.Name:    fitSignedRank,
+		method.RankSum.Name:       fitRankSum,
+		method.VanElteren.Name:    fitVanElteren,
 	}
 }
 
