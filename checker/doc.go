@@ -2,69 +2,8 @@
 // reading the data file, checking it against the plan's data contract,
 // running the planned cascade, and writing and verifying the record.
 //
-// # Reading data
-//
-// [ReadTable] reads the file a plan names (or one given on the command
-// line) into a [Table]: columns by name, each with the cell text, the cell
-// parsed as a number (NaN when missing or not a number) and a missing mask,
-// plus the row number a user sees for every row. CSV and XLSX give the same
-// Table for the same cells.
-//
-// CSV is read as RFC 4180 text (Shafranovich 2005): fields may be quoted,
-// quotes inside are doubled, quoted fields may span lines, and the row
-// number of a record is the line where it starts. A UTF-8 byte-order mark
-// and CRLF line endings are accepted. The delimiter is data.delimiter
-// (default ","). Cells are trimmed of surrounding white space.
-//
-// XLSX is read from the sheet data.sheet (default: the first sheet). Number
-// cells and the cached values of formulas keep their value, written in
-// shortest round-trip form; cells whose number format shows a date become
-// YYYY-MM-DD (with THH:MM:SS when a time of day is shown); text cells are
-// taken as they are, so numbers stored as text are still numbers.
-//
-// A number is an optional sign, digits with at most one decimal mark
-// (data.decimal, "." or ","), and an optional exponent; thousands
-// separators, "inf" and "nan" are not numbers. A cell is missing when it is
-// blank or equals one of data.missing.
-//
-// A file that cannot be read as declared (missing, empty, binary, not
-// UTF-8, an XLSX given as CSV or the other way round) is an error naming
-// the file. Problems inside a readable file are diagnostics.
-//
-// # Positions
-//
-// Data findings are [plan.Diagnostic] values positioned in the data file:
-// Pos.Line is the row number and Pos.Column the 1-based column number, so a
-// CSV cell prints as "plots.csv:17:4". For XLSX the file part names the
-// sheet in brackets and the summary starts with the cell reference:
-// "plots.xlsx[plots]:17:4: cell D17: ...". Related holds the plan line
-// that declared the expectation (the column, the design or the data
-// section).
-//
-// # Data contract
-//
-// [CheckData] reports, each with its code:
-//
-//	data-column-missing     a declared column is not in the file (with a suggestion)
-//	data-column-undeclared  a file column the plan does not declare (warning)
-//	data-not-number         a numeric column holds text (with a decimal-mark hint)
-//	data-out-of-range       a value outside the declared plausible range
-//	                        (a warning when an out-of-range exclusion drops it)
-//	data-level-undeclared   a level the plan does not declare
-//	data-level-unseen       a declared level that never occurs (warning)
-//	data-duplicate-record   a unit twice at one time (beyond the declared sub-samples)
-//	data-unit-inconsistent  a unit whose treatment, block, site or factor changes
-//	data-record-missing     a unit with no record at a declared time (warning)
-//	data-replication        a treatment cell (per site) whose unit count is not
-//	                        design.replicates
-//	data-missing-values     missing values in a column, with counts (warning)
-//
-// and, from reading: data-ragged-row, data-quote, data-header-blank,
-// data-header-repeated, data-blank-rows (warning), data-sheet-missing and
-// data-no-header. After 20 findings of one code in one column the rest are
-// counted in a single "and N more" finding. Unit identifiers must be unique
-// across the trial: a unit that appears with two sites is reported, not
-// taken as two units.
+// Data reading lives in [furrow/checker/table] and the data contract in
+// [furrow/checker/contract].
 //
 // # The cascade
 //
@@ -137,24 +76,4 @@
 // Hodges-Lehmann interval is compared with the margins, the one-sided
 // p-values being the rank test of the shift at each margin. Term
 // hypotheses are not assessable on either.
-//
-// # Content hash
-//
-// [Table.ContentHash] is "sha256:" followed by the lower-case hex SHA-256
-// of this byte serialisation of the table (so a reviewer can recompute it):
-//
-//	"furrow table v1\n"
-//	"columns " <number of columns> " rows " <number of rows> "\n"
-//	for each column in file order:   'c' <name as S> "\n"
-//	for each row, for each column:   the cell as below; then "\n"
-//
-// where numbers are decimal ASCII, a string S is written as its byte length
-// in decimal, ':' and its UTF-8 bytes, and a cell is 'm' when missing,
-// 'n' followed by the number as S (shortest round-trip form, Go's
-// strconv.FormatFloat(v, 'g', -1, 64)) in a column the plan declares
-// numeric when it holds a number, and 't' followed by its trimmed text as S
-// otherwise. Row numbers, the file format, quoting, delimiters and line
-// endings do not enter, so a CSV file and an XLSX sheet with equal cells
-// have the same content hash. [Table.FileHash] is the SHA-256 of the file's
-// bytes and changes with any byte.
 package checker

@@ -3,6 +3,7 @@ package checker
 import (
 	"bytes"
 	"encoding/json"
+	"flag"
 	"furrow/checker/method"
 	"os"
 	"path/filepath"
@@ -55,6 +56,11 @@ func exampleRun(t *testing.T, name string) (*Result, string) {
 	}
 	return r, out
 }
+
+// update rewrites the golden reports and plan documents under
+// testdata/golden (and, with Chromium, the README screenshot):
+// go test ./checker -run TestExample -update
+var update = flag.Bool("update", false, "rewrite the golden reports and plan documents (testdata/golden) and the README screenshot")
 
 var exampleNames = []string{"soil-nematodes", "wheat-varieties", "irrigation-split-plot"}
 

@@ -21,6 +21,8 @@ import (
 	"strings"
 	"sync"
 
+	"furrow/checker/contract"
+	"furrow/checker/table"
 	"furrow/plan"
 )
 
@@ -480,7 +482,7 @@ func buildLayout(p *plan.Plan) (*simLayout, error) {
 	}
 	var cells [][]string
 	if len(cellCols) > 0 {
-		forEachCombination(levels, func(parts []string) { cells = append(cells, slices.Clone(parts)) })
+		contract.ForEachCombination(levels, func(parts []string) { cells = append(cells, slices.Clone(parts)) })
 	} else {
 		cells = [][]string{nil}
 	}
@@ -840,20 +842,11 @@ func simTable(p *plan.Plan, lay *simLayout, models []SimResponse, delta map[stri
 			cells[i][cv.col] = strconv.FormatFloat(x, 'g', -1, 64)
 		}
 	}
-	o, err := newReadOptions(p)
-	if err != nil {
-		o = &readOptions{delim: ',', decimal: '.', numeric: map[string]bool{}}
-	}
-	b, _ := newTableBuilder("simulated.csv", FormatCSV, "", 1, lay.header, o, n)
 	native := make([]bool, len(lay.header))
 	for i := range p.Columns {
 		native[i] = p.Columns[i].IsNumeric()
 	}
-	for i, row := range cells {
-		b.add(i+2, row, native)
-	}
-	t, _ := b.finish()
-	return t, redraw
+	return table.FromCells(p, "simulated.csv", lay.header, cells, native), redraw
 }
 
 func draws(r *rand.Rand, n int, sd float64) []float64 {

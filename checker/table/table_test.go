@@ -1,4 +1,4 @@
-package checker
+package table
 
 import (
 	"crypto/sha256"
@@ -224,17 +224,17 @@ func TestParseNumber(t *testing.T) {
 		{strings.Repeat("1", 70) + "x", '.', nan},
 	}
 	for _, c := range cases {
-		got, ok := parseNumber(c.in, c.dec)
+		got, ok := ParseNumber(c.in, c.dec)
 		if math.IsNaN(c.want) {
 			if ok {
-				t.Errorf("parseNumber(%q, %q) = %v, want not a number", c.in, c.dec, got)
+				t.Errorf("ParseNumber(%q, %q) = %v, want not a number", c.in, c.dec, got)
 			}
 			continue
 		}
 		// Decimal literals: the parse must give the nearest double, so
 		// the relative error is within one ulp.
 		if !ok || math.Abs(got-c.want) > 1e-15*math.Abs(c.want) {
-			t.Errorf("parseNumber(%q, %q) = %v, %v, want %v", c.in, c.dec, got, ok, c.want)
+			t.Errorf("ParseNumber(%q, %q) = %v, %v, want %v", c.in, c.dec, got, ok, c.want)
 		}
 	}
 }

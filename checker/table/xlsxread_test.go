@@ -1,4 +1,4 @@
-package checker
+package table
 
 import (
 	"archive/zip"

@@ -1,4 +1,4 @@
-package checker
+package contract
 
 import (
 	"fmt"
@@ -8,6 +8,7 @@ import (
 	"strings"
 	"text/tabwriter"
 
+	"furrow/checker/table"
 	"furrow/plan"
 )
 
@@ -119,9 +120,9 @@ func (c *contractCheck) summary() *DesignSummary {
 // levels (joined by ":") its columns; with one, a single row "all".
 func (s *DesignSummary) WriteText(w io.Writer) error {
 	ew := &errWriter{w: w}
-	fmt.Fprintf(ew, "data %s: %d %s", s.Data, s.Rows, plural(s.Rows, "row", "rows"))
+	fmt.Fprintf(ew, "data %s: %d %s", s.Data, s.Rows, table.Plural(s.Rows, "row", "rows"))
 	if s.UnitColumn != "" {
-		fmt.Fprintf(ew, ", %d %s (%s)", s.Units, plural(s.Units, "unit", "units"), s.UnitColumn)
+		fmt.Fprintf(ew, ", %d %s (%s)", s.Units, table.Plural(s.Units, "unit", "units"), s.UnitColumn)
 	}
 	fmt.Fprintln(ew)
 	if len(s.CellColumns) > 0 && len(s.Cells) > 0 {

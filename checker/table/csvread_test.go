@@ -1,4 +1,4 @@
-package checker
+package table
 
 import (
 	"bytes"
@@ -241,71 +241,6 @@ func TestReadCSVDoesNotModifyPlan(t *testing.T) {
 	if after := fmt.Sprintf("%#v", *p); after != before {
 		t.Error("ReadTable modified the plan")
 	}
-}
-
-// FuzzReadCSV reads arbitrary bytes as CSV under two dialects. It must never
-// panic; a returned table must be rectangular, with row numbers increasing,
-// and Subset of all rows must reproduce its content hash.
-func FuzzReadCSV(f *testing.F) {
-	f.Add([]byte(goodCSV), false)
-	f.Add([]byte("\uFEFFblock;plot;treatment;yield\r\nB1;1;ctl;1,5\r\n"), true)
-	f.Add([]byte("block,plot,treatment,yield\n\"B1\n\",1,\"c\"\"t\",\n"), false)
-	f.Add([]byte("a,\"b\n"), false)
-	dir := f.TempDir()
-	f.Fuzz(func(t *testing.T, data []byte, semicolon bool) {
-		path := filepath.Join(dir, fmt.Sprintf("fuzz-%d.csv", rand.Uint64()))
-		if err := os.WriteFile(path, data, 0o644); err != nil {
-			t.Fatal(err)
-		}
-		defer os.Remove(path)
-		p := tablePlan(dir, "unused.csv")
-		if semicolon {
-			p.Data.Delimiter, p.Data.Decimal = ";", ","
-		}
-		tab, diags, err := ReadTable(p, path)
-		if err != nil {
-			if tab != nil || diags != nil {
-				t.Fatal("error together with a table or diagnostics")
-			}
-			return
-		}
-		for _, d := range diags {
-			if d.Summary == "" || d.Code == "" {
-				t.Fatalf("empty finding %+v", d)
-			}
-		}
-		if tab == nil {
-			if !diags.HasErrors() {
-				t.Fatal("no table and no error finding")
-			}
-			return
-		}
-		rows := tab.RowNumbers()
-		for i := range rows {
-			if rows[i] <= tab.HeaderRow || (i > 0 && rows[i] <= rows[i-1]) {
-				t.Fatalf("row numbers %v after header %d", rows, tab.HeaderRow)
-			}
-		}
-		for _, c := range tab.Columns() {
-			if len(c.Text) != len(rows) || len(c.Num) != len(rows) || len(c.Missing) != len(rows) {
-				t.Fatalf("column %q not rectangular", c.Name)
-			}
-			for i := range c.Text {
-				if c.Missing[i] && !math.IsNaN(c.Num[i]) {
-					t.Fatalf("missing cell %q has a number", c.Text[i])
-				}
-			}
-		}
-		all := make([]int, len(rows))
-		for i := range all {
-			all[i] = i
-		}
-		sub, err := tab.Subset(all)
-		if err != nil || sub.ContentHash() != tab.ContentHash() {
-			t.Fatalf("subset of all rows: %v", err)
-		}
-		CheckData(p, tab) // must not panic
-	})
 }
 
 // benchCSV makes an invented RCBD-like file with n rows: site, block,

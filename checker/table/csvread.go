@@ -1,4 +1,4 @@
-package checker
+package table
 
 import (
 	"bytes"
@@ -37,7 +37,7 @@ func readCSV(name string, data []byte, o *readOptions) (*Table, plan.Diagnostics
 	var (
 		diags plan.Diagnostics
 		b     *tableBuilder
-		lim   = newLimiter()
+		lim   = NewLimiter()
 		blank []int
 	)
 	quoteProblem := func(err error) plan.Diagnostics {
@@ -45,7 +45,7 @@ func readCSV(name string, data []byte, o *readOptions) (*Table, plan.Diagnostics
 		if !errors.As(err, &pe) {
 			return nil
 		}
-		d := plan.Diagnostic{Severity: plan.Error, Code: "data-quote", Related: relatedPos(o.dataPos),
+		d := plan.Diagnostic{Severity: plan.Error, Code: "data-quote", Related: RelatedPos(o.dataPos),
 			Pos: plan.Pos{File: name, Line: pe.StartLine}}
 		switch {
 		case errors.Is(pe.Err, csv.ErrBareQuote):
@@ -88,13 +88,13 @@ func readCSV(name string, data []byte, o *readOptions) (*Table, plan.Diagnostics
 		}
 		switch {
 		case len(rec) < b.width:
-			lim.add(&diags, "data-ragged-row", "", plan.Diagnostic{
+			lim.Add(&diags, "data-ragged-row", "", plan.Diagnostic{
 				Severity: plan.Error, Code: "data-ragged-row",
 				Pos:     plan.Pos{File: name, Line: line},
 				Summary: fmt.Sprintf("row %d has %d fields, the header has %d", line, len(rec), b.width),
 			})
 		case len(rec) > b.width && !blankRow(rec[b.width:]):
-			lim.add(&diags, "data-ragged-row", "", plan.Diagnostic{
+			lim.Add(&diags, "data-ragged-row", "", plan.Diagnostic{
 				Severity: plan.Error, Code: "data-ragged-row",
 				Pos:     plan.Pos{File: name, Line: line, Column: b.width + 1},
 				Summary: fmt.Sprintf("row %d has %d fields, the header has %d", line, len(rec), b.width),
@@ -102,7 +102,7 @@ func readCSV(name string, data []byte, o *readOptions) (*Table, plan.Diagnostics
 		}
 		b.add(line, rec, nil)
 	}
-	diags = append(diags, lim.summaries()...)
+	diags = append(diags, lim.Summaries()...)
 	if b == nil {
 		return nil, nil, fmt.Errorf("reading data %s: the file holds no header row", name)
 	}
@@ -144,19 +144,20 @@ func blankRowsWarning(file string, rows []int) plan.Diagnostics {
 	return plan.Diagnostics{{
 		Severity: plan.Warning, Code: "data-blank-rows",
 		Pos:     plan.Pos{File: file, Line: rows[0]},
-		Summary: fmt.Sprintf("%d blank %s skipped (first at row %d)", len(rows), plural(len(rows), "row", "rows"), rows[0]),
+		Summary: fmt.Sprintf("%d blank %s skipped (first at row %d)", len(rows), Plural(len(rows), "row", "rows"), rows[0]),
 	}}
 }
 
-// relatedPos returns a one-element list when p is valid, else nil.
-func relatedPos(p plan.Pos) []plan.Pos {
+// RelatedPos returns a one-element list when p is valid, else nil.
+func RelatedPos(p plan.Pos) []plan.Pos {
 	if p.IsValid() {
 		return []plan.Pos{p}
 	}
 	return nil
 }
 
-func plural(n int, one, many string) string {
+// Plural returns one when n is 1, else many.
+func Plural(n int, one, many string) string {
 	if n == 1 {
 		return one
 	}

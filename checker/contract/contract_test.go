@@ -1,4 +1,4 @@
-package checker
+package contract
 
 import (
 	"bytes"
@@ -13,11 +13,12 @@ import (
 
 	"github.com/xuri/excelize/v2"
 
+	"furrow/checker/table"
 	"furrow/plan"
 )
 
-// update is the checker tests' one regenerate flag:
-// go test ./checker -run TestDataFixtures -update
+// update is the contract tests' one regenerate flag:
+// go test ./checker/contract -run TestDataFixtures -update
 var update = flag.Bool("update", false, "rewrite golden files (want.txt of testdata/data, and the XLSX fixtures there)")
 
 // formatFindings writes diagnostics one a line as
@@ -74,7 +75,7 @@ func writeXLSXFixture(path string, sheets map[string][][]any) error {
 		}
 		for r, row := range sheets[name] {
 			for c, v := range row {
-				if err := f.SetCellValue(name, CellRef(r+1, c+1), v); err != nil {
+				if err := f.SetCellValue(name, table.CellRef(r+1, c+1), v); err != nil {
 					return err
 				}
 			}
@@ -83,11 +84,11 @@ func writeXLSXFixture(path string, sheets map[string][][]any) error {
 	return f.SaveAs(path)
 }
 
-// TestDataFixtures loads each ../testdata/data/<case>/plan.yaml with
+// TestDataFixtures loads each ../../testdata/data/<case>/plan.yaml with
 // plan.Load, reads and checks its data, and compares the findings (or the
 // read error) with want.txt. Regenerate with -update.
 func TestDataFixtures(t *testing.T) {
-	dirs, err := filepath.Glob("../testdata/data/*/plan.yaml")
+	dirs, err := filepath.Glob("../../testdata/data/*/plan.yaml")
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -109,7 +110,7 @@ func TestDataFixtures(t *testing.T) {
 			}
 			strip := filepath.ToSlash(dir) + "/"
 			var got string
-			tab, ds, err := ReadTable(p, "")
+			tab, ds, err := table.ReadTable(p, "")
 			if err != nil {
 				got = "read error: " + strings.ReplaceAll(err.Error(), strip, "") + "\n"
 			} else {
@@ -131,7 +132,7 @@ func TestDataFixtures(t *testing.T) {
 			}
 			want, err := os.ReadFile(wantFile)
 			if err != nil {
-				t.Fatalf("%v (regenerate with go test ./checker -run TestDataFixtures -update)", err)
+				t.Fatalf("%v (regenerate with go test ./checker/contract -run TestDataFixtures -update)", err)
 			}
 			if got != string(want) {
 				t.Errorf("findings differ from %s (regenerate with -update)\ngot:\n%s\nwant:\n%s", wantFile, got, want)
@@ -143,9 +144,9 @@ func TestDataFixtures(t *testing.T) {
 // TestExamplesConform checks that every example trial's data conform to
 // its plan, and that its CSV and XLSX copies hold the same cells.
 func TestExamplesConform(t *testing.T) {
-	plans, _ := filepath.Glob("../examples/*/plan.yaml")
+	plans, _ := filepath.Glob("../../examples/*/plan.yaml")
 	if len(plans) == 0 {
-		t.Skip("no example plans in ../examples")
+		t.Skip("no example plans in ../../examples")
 	}
 	for _, pf := range plans {
 		t.Run(filepath.Base(filepath.Dir(pf)), func(t *testing.T) {
@@ -153,7 +154,7 @@ func TestExamplesConform(t *testing.T) {
 			if err != nil || pds.HasErrors() {
 				t.Fatalf("plan: %v %v", err, pds)
 			}
-			tab, ds, err := ReadTable(p, "")
+			tab, ds, err := table.ReadTable(p, "")
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -168,12 +169,12 @@ func TestExamplesConform(t *testing.T) {
 				t.Errorf("summary: %v %q", err, b.String())
 			}
 			xp := *p
-			xp.Data.Format, xp.Data.Sheet = FormatXLSX, ""
+			xp.Data.Format, xp.Data.Sheet = table.FormatXLSX, ""
 			xpath := filepath.Join(filepath.Dir(pf), "plots.xlsx")
 			if _, err := os.Stat(xpath); err != nil {
 				t.Skip("no XLSX copy")
 			}
-			xt, xds, err := ReadTable(&xp, xpath)
+			xt, xds, err := table.ReadTable(&xp, xpath)
 			if err != nil || xds.HasErrors() {
 				t.Fatalf("xlsx: %v %v", err, xds)
 			}
@@ -229,7 +230,7 @@ func checkCSV(t *testing.T, text string, edit func(p *plan.Plan)) (plan.Diagnost
 	if edit != nil {
 		edit(p)
 	}
-	tab, rds, err := ReadTable(p, "")
+	tab, rds, err := table.ReadTable(p, "")
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -366,7 +367,7 @@ func TestCheckDataLimitsRepeats(t *testing.T) {
 	writeData(t, dir, "plots.csv", []byte(sb.String()))
 	p := tablePlan(dir, "plots.csv")
 	p.Design.Replicates = 0
-	tab, _, err := ReadTable(p, "")
+	tab, _, err := table.ReadTable(p, "")
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -380,7 +381,7 @@ func TestCheckDataLimitsRepeats(t *testing.T) {
 			}
 		}
 	}
-	if n != findingsPerColumn+1 || more != `and 30 more data-not-number findings in column "yield" from here on` {
+	if n != table.FindingsPerColumn+1 || more != `and 30 more data-not-number findings in column "yield" from here on` {
 		t.Errorf("%d findings, summary %q", n, more)
 	}
 }
@@ -400,7 +401,7 @@ func TestCheckDataManyUndeclaredLevels(t *testing.T) {
 	p.Columns = []plan.Column{{Name: "plot", Role: plan.RoleUnit}, {Name: "treatment", Role: plan.RoleTreatment},
 		{Name: "variety", Role: plan.RoleFactor}, {Name: "yield", Role: plan.RoleResponse}}
 	p.Design.Replicates = 1
-	tab, _, err := ReadTable(p, "")
+	tab, _, err := table.ReadTable(p, "")
 	if err != nil {
 		t.Fatal(err)
 	}

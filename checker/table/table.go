@@ -1,4 +1,4 @@
-package checker
+package table
 
 import (
 	"crypto/sha256"
@@ -499,7 +499,7 @@ func (b *tableBuilder) add(row int, cells []string, native []bool) {
 			if native != nil && i < len(native) && native[i] {
 				dec = '.'
 			}
-			if x, ok := parseNumber(s, dec); ok {
+			if x, ok := ParseNumber(s, dec); ok {
 				v = x
 			}
 		}
@@ -551,11 +551,11 @@ func (b *tableBuilder) finish() (*Table, plan.Diagnostics) {
 	return t, diags
 }
 
-// parseNumber parses a trimmed cell as a decimal number with the given
+// ParseNumber parses a trimmed cell as a decimal number with the given
 // decimal mark: an optional sign, digits with at most one decimal mark, and
 // an optional exponent. Thousands separators, hexadecimal, "inf" and "nan"
 // are not numbers here.
-func parseNumber(s string, dec byte) (float64, bool) {
+func ParseNumber(s string, dec byte) (float64, bool) {
 	n := len(s)
 	if n == 0 || n > 64 {
 		if n > 64 {
@@ -619,7 +619,7 @@ func finiteFloat(s string) (float64, bool) {
 	return v, true
 }
 
-// parseLongNumber handles cells longer than parseNumber's buffer.
+// parseLongNumber handles cells longer than ParseNumber's buffer.
 func parseLongNumber(s string, dec byte) (float64, bool) {
 	if dec == ',' {
 		if strings.ContainsRune(s, '.') {
@@ -642,8 +642,28 @@ func parseLongNumber(s string, dec byte) (float64, bool) {
 	if short.Len() > 64 {
 		return 0, false
 	}
-	if _, ok := parseNumber(short.String(), '.'); !ok {
+	if _, ok := ParseNumber(short.String(), '.'); !ok {
 		return 0, false
 	}
 	return finiteFloat(s)
+}
+
+// FromCells builds a table as if read from a CSV file called name whose
+// header row is header and whose records, from row 2 on, are cells, using
+// the reading options of p (the default options when p's are unusable).
+// native marks the columns whose cells are numbers written in shortest
+// form, parsed with "." whatever the plan's decimal mark (as XLSX number
+// cells are); it may be nil. Findings are dropped: the cells are assumed
+// well formed.
+func FromCells(p *plan.Plan, name string, header []string, cells [][]string, native []bool) *Table {
+	o, err := newReadOptions(p)
+	if err != nil {
+		o = &readOptions{delim: ',', decimal: '.', numeric: map[string]bool{}}
+	}
+	b, _ := newTableBuilder(name, FormatCSV, "", 1, header, o, len(cells))
+	for i, row := range cells {
+		b.add(i+2, row, native)
+	}
+	t, _ := b.finish()
+	return t
 }

@@ -1,4 +1,4 @@
-package checker
+package contract
 
 import (
 	"furrow/schema"
@@ -9,12 +9,9 @@ import (
 	"strconv"
 	"strings"
 
+	"furrow/checker/table"
 	"furrow/plan"
 )
-
-// findingsPerColumn is how many findings of one code are listed for one
-// column before the rest are summarised in a single "and N more" line.
-const findingsPerColumn = 20
 
 // CheckData checks a table against the plan's data contract: the declared
 // columns are present, numeric columns hold numbers in their plausible
@@ -24,11 +21,11 @@ const findingsPerColumn = 20
 // Every finding is positioned in the data file and carries, in Related,
 // the plan line that declared the expectation. The summary describes what
 // was found. A nil plan or table gives no findings and a nil summary.
-func CheckData(p *plan.Plan, t *Table) (plan.Diagnostics, *DesignSummary) {
+func CheckData(p *plan.Plan, t *table.Table) (plan.Diagnostics, *DesignSummary) {
 	if p == nil || t == nil {
 		return nil, nil
 	}
-	c := &contractCheck{p: p, t: t, lim: newLimiter(), decl: map[string]*plan.Column{}}
+	c := &contractCheck{p: p, t: t, lim: table.NewLimiter(), decl: map[string]*plan.Column{}}
 	for i := range p.Columns {
 		col := &p.Columns[i]
 		if _, dup := c.decl[col.Name]; !dup {
@@ -45,20 +42,20 @@ func CheckData(p *plan.Plan, t *Table) (plan.Diagnostics, *DesignSummary) {
 	c.values()
 	c.units()
 	c.replication()
-	c.diags = append(c.diags, c.lim.summaries()...)
+	c.diags = append(c.diags, c.lim.Summaries()...)
 	return c.diags.Sort(), c.summary()
 }
 
 // contractCheck carries the state of one CheckData call.
 type contractCheck struct {
 	p     *plan.Plan
-	t     *Table
-	lim   *limiter
+	t     *table.Table
+	lim   *table.Limiter
 	diags plan.Diagnostics
 	decl  map[string]*plan.Column
 
 	// filled by units and replication, used by summary
-	unitCol   *Column
+	unitCol   *table.Column
 	unitFirst map[string]int // unit -> first table row
 	unitOrder []string
 	cellCols  []*plan.Column
@@ -66,14 +63,14 @@ type contractCheck struct {
 }
 
 func (c *contractCheck) add(col string, d plan.Diagnostic) {
-	c.lim.add(&c.diags, d.Code, col, d)
+	c.lim.Add(&c.diags, d.Code, col, d)
 }
 
 // at says where a cell is in words: "" for CSV (the position says it), or
 // "cell D17: " for XLSX, where users think in cell references.
 func (c *contractCheck) at(row, col int) string {
-	if c.t.Format == FormatXLSX && col > 0 {
-		return "cell " + CellRef(c.t.rows[row], col) + ": "
+	if c.t.Format == table.FormatXLSX && col > 0 {
+		return "cell " + table.CellRef(c.t.RowNumber(row), col) + ": "
 	}
 	return ""
 }
@@ -97,7 +94,7 @@ func (c *contractCheck) present(roles ...string) []*plan.Column {
 // the plan does not declare.
 func (c *contractCheck) columns() {
 	var undeclared, missing []string
-	for _, tc := range c.t.cols {
+	for _, tc := range c.t.Columns() {
 		if c.decl[tc.Name] == nil {
 			undeclared = append(undeclared, tc.Name)
 		}
@@ -116,7 +113,7 @@ func (c *contractCheck) columns() {
 		}
 		c.diags = append(c.diags, plan.Diagnostic{
 			Severity: plan.Error, Code: "data-column-missing",
-			Pos: c.t.HeaderPos(0), Summary: s, Related: relatedPos(pc.Pos),
+			Pos: c.t.HeaderPos(0), Summary: s, Related: table.RelatedPos(pc.Pos),
 		})
 	}
 	for _, name := range undeclared {
@@ -147,7 +144,7 @@ func (c *contractCheck) values() {
 	}
 }
 
-func (c *contractCheck) numbers(pc *plan.Column, tc *Column) {
+func (c *contractCheck) numbers(pc *plan.Column, tc *table.Column) {
 	dec := c.p.Data.Decimal
 	if dec == "" {
 		dec = "."
@@ -166,13 +163,13 @@ func (c *contractCheck) numbers(pc *plan.Column, tc *Column) {
 		}
 		if math.IsNaN(v) {
 			s := fmt.Sprintf("%scolumn %q: %q is not a number", c.at(i, tc.Index), pc.Name, tc.Text[i])
-			rel := relatedPos(pc.Pos)
-			if _, ok := parseNumber(tc.Text[i], ','); ok && dec == "." {
+			rel := table.RelatedPos(pc.Pos)
+			if _, ok := table.ParseNumber(tc.Text[i], ','); ok && dec == "." {
 				s += `; it has a decimal comma: declare decimal: "," in the data section`
-				rel = append(rel, relatedPos(c.p.Data.Pos)...)
-			} else if _, ok := parseNumber(tc.Text[i], '.'); ok && dec == "," {
+				rel = append(rel, table.RelatedPos(c.p.Data.Pos)...)
+			} else if _, ok := table.ParseNumber(tc.Text[i], '.'); ok && dec == "," {
 				s += `; it has a decimal point, but the plan declares decimal: ","`
-				rel = append(rel, relatedPos(c.p.Data.Pos)...)
+				rel = append(rel, table.RelatedPos(c.p.Data.Pos)...)
 			}
 			c.add(pc.Name, plan.Diagnostic{Severity: plan.Error, Code: "data-not-number",
 				Pos: c.t.Pos(i, tc.Index), Summary: s, Related: rel})
@@ -180,13 +177,13 @@ func (c *contractCheck) numbers(pc *plan.Column, tc *Column) {
 		}
 		if (pc.Min != nil && v < *pc.Min) || (pc.Max != nil && v > *pc.Max) {
 			d := plan.Diagnostic{Severity: plan.Error, Code: "data-out-of-range",
-				Pos: c.t.Pos(i, tc.Index), Related: relatedPos(pc.Pos),
+				Pos: c.t.Pos(i, tc.Index), Related: table.RelatedPos(pc.Pos),
 				Summary: fmt.Sprintf("%scolumn %q: %s is outside the plausible range %s", c.at(i, tc.Index), pc.Name, tc.Text[i], rangeWords(pc.Min, pc.Max)),
 			}
 			if outRule != nil {
 				d.Severity = plan.Warning
 				d.Summary += fmt.Sprintf("; exclusion %q drops it", outRule.ID)
-				d.Related = append(d.Related, relatedPos(outRule.Pos)...)
+				d.Related = append(d.Related, table.RelatedPos(outRule.Pos)...)
 			}
 			c.add(pc.Name, d)
 		}
@@ -207,7 +204,7 @@ func rangeWords(lo, hi *float64) string {
 	return "(none)"
 }
 
-func (c *contractCheck) levels(pc *plan.Column, tc *Column) {
+func (c *contractCheck) levels(pc *plan.Column, tc *table.Column) {
 	declared := map[string]bool{}
 	for _, l := range pc.Levels {
 		declared[l] = true
@@ -226,23 +223,23 @@ func (c *contractCheck) levels(pc *plan.Column, tc *Column) {
 			msg += fmt.Sprintf("; did you mean %q?", g)
 		}
 		c.add(pc.Name, plan.Diagnostic{Severity: plan.Error, Code: "data-level-undeclared",
-			Pos: c.t.Pos(i, tc.Index), Summary: msg, Related: relatedPos(pc.Pos)})
+			Pos: c.t.Pos(i, tc.Index), Summary: msg, Related: table.RelatedPos(pc.Pos)})
 	}
 	for _, l := range pc.Levels {
 		if !seen[l] {
 			c.diags = append(c.diags, plan.Diagnostic{Severity: plan.Warning, Code: "data-level-unseen",
 				Pos:     c.t.HeaderPos(tc.Index),
 				Summary: fmt.Sprintf("column %q: declared level %q does not occur in the data", pc.Name, l),
-				Related: relatedPos(pc.Pos)})
+				Related: table.RelatedPos(pc.Pos)})
 		}
 	}
 }
 
-func (c *contractCheck) missingValues(pc *plan.Column, tc *Column) {
+func (c *contractCheck) missingValues(pc *plan.Column, tc *table.Column) {
 	var rows []int
 	for i, m := range tc.Missing {
 		if m {
-			rows = append(rows, c.t.rows[i])
+			rows = append(rows, c.t.RowNumber(i))
 		}
 	}
 	if len(rows) == 0 {
@@ -251,13 +248,13 @@ func (c *contractCheck) missingValues(pc *plan.Column, tc *Column) {
 	c.diags = append(c.diags, plan.Diagnostic{Severity: plan.Warning, Code: "data-missing-values",
 		Pos:     c.t.HeaderPos(tc.Index),
 		Summary: fmt.Sprintf("column %q: %d of %d values are missing (%s)", pc.Name, len(rows), c.t.NumRows(), rowList(rows, 5)),
-		Related: relatedPos(c.p.Data.Pos)})
+		Related: table.RelatedPos(c.p.Data.Pos)})
 }
 
 // rowList writes "row 4" or "rows 4, 9, 12 and 3 more".
 func rowList(rows []int, max int) string {
 	var b strings.Builder
-	b.WriteString(plural(len(rows), "row ", "rows "))
+	b.WriteString(table.Plural(len(rows), "row ", "rows "))
 	for i, r := range rows {
 		if i == max {
 			fmt.Fprintf(&b, " and %d more", len(rows)-max)
@@ -284,7 +281,7 @@ func (c *contractCheck) units() {
 	c.unitFirst = map[string]int{}
 	fixed := c.present(plan.RoleTreatment, plan.RoleFactor, plan.RoleBlock, plan.RoleSite)
 	var rpc *plan.Column
-	var rc *Column
+	var rc *table.Column
 	if rs := c.present(plan.RoleRepeat); len(rs) > 0 {
 		rpc, rc = rs[0], c.t.Column(rs[0].Name)
 	}
@@ -332,12 +329,12 @@ func (c *contractCheck) units() {
 			ks.n++
 			if ks.n > perKey {
 				d := plan.Diagnostic{Severity: plan.Error, Code: "data-duplicate-record",
-					Pos: c.t.Pos(i, 0), Related: relatedPos(upc.Pos)}
+					Pos: c.t.Pos(i, 0), Related: table.RelatedPos(upc.Pos)}
 				if perKey == 1 {
-					d.Summary = fmt.Sprintf("%s appears again (first at row %d)", what, c.t.rows[ks.first])
+					d.Summary = fmt.Sprintf("%s appears again (first at row %d)", what, c.t.RowNumber(ks.first))
 				} else {
-					d.Summary = fmt.Sprintf("%s has more than %d records, the declared sub-samples (first at row %d)", what, perKey, c.t.rows[ks.first])
-					d.Related = append(d.Related, relatedPos(c.p.Design.Pos)...)
+					d.Summary = fmt.Sprintf("%s has more than %d records, the declared sub-samples (first at row %d)", what, perKey, c.t.RowNumber(ks.first))
+					d.Related = append(d.Related, table.RelatedPos(c.p.Design.Pos)...)
 				}
 				c.add(upc.Name, d)
 			}
@@ -358,8 +355,8 @@ func (c *contractCheck) units() {
 				c.add(fpc.Name, plan.Diagnostic{Severity: plan.Error, Code: "data-unit-inconsistent",
 					Pos: c.t.Pos(i, fc.Index),
 					Summary: fmt.Sprintf("%sunit %q has %s %q here but %q at row %d; a unit keeps its %s in every row",
-						c.at(i, fc.Index), u, fpc.Name, fc.Text[i], fc.Text[j], c.t.rows[j], fpc.Role),
-					Related: relatedPos(fpc.Pos)})
+						c.at(i, fc.Index), u, fpc.Name, fc.Text[i], fc.Text[j], c.t.RowNumber(j), fpc.Role),
+					Related: table.RelatedPos(fpc.Pos)})
 			}
 		}
 	}
@@ -371,7 +368,7 @@ func (c *contractCheck) units() {
 					c.add(rpc.Name, plan.Diagnostic{Severity: plan.Warning, Code: "data-record-missing",
 						Pos:     c.t.Pos(c.unitFirst[u], 0),
 						Summary: fmt.Sprintf("unit %q has no record at %s %q", u, rpc.Name, l),
-						Related: relatedPos(rpc.Pos)})
+						Related: table.RelatedPos(rpc.Pos)})
 				}
 			}
 		}
@@ -396,13 +393,13 @@ func (c *contractCheck) replication() {
 			reps = append(reps, c.unitFirst[u])
 		}
 	} else {
-		for i := range c.t.rows {
+		for i := range c.t.NumRows() {
 			reps = append(reps, i)
 		}
 	}
 	// levels of each cell column: declared, else as seen
 	levels := make([][]string, len(c.cellCols))
-	tcs := make([]*Column, len(c.cellCols))
+	tcs := make([]*table.Column, len(c.cellCols))
 	for k, pc := range c.cellCols {
 		tcs[k] = c.t.Column(pc.Name)
 		if len(pc.Levels) > 0 {
@@ -433,7 +430,7 @@ func (c *contractCheck) replication() {
 		count[key]++
 	}
 	want := c.p.Design.Replicates
-	each := func(fn func([]string)) { forEachCombination(levels, fn) }
+	each := func(fn func([]string)) { ForEachCombination(levels, fn) }
 	if combinations(levels) > maxCells {
 		// Too many undeclared levels to list every cell: list those seen.
 		each = func(fn func([]string)) {
@@ -468,8 +465,8 @@ func (c *contractCheck) replication() {
 		}
 		c.diags = append(c.diags, plan.Diagnostic{Severity: plan.Error, Code: "data-replication",
 			Pos:     pos,
-			Summary: fmt.Sprintf("%s: %d %s, the plan declares %d per cell", strings.Join(names, ", "), n, plural(n, "unit", "units"), want),
-			Related: relatedPos(c.p.Design.Pos)})
+			Summary: fmt.Sprintf("%s: %d %s, the plan declares %d per cell", strings.Join(names, ", "), n, table.Plural(n, "unit", "units"), want),
+			Related: table.RelatedPos(c.p.Design.Pos)})
 	})
 }
 
@@ -491,7 +488,7 @@ func combinations(levels [][]string) int {
 
 // seenLevels lists the non-missing values of a column in the given rows,
 // in order of first appearance.
-func seenLevels(tc *Column, rows []int) []string {
+func seenLevels(tc *table.Column, rows []int) []string {
 	seen := map[string]bool{}
 	var out []string
 	for _, i := range rows {
@@ -503,9 +500,9 @@ func seenLevels(tc *Column, rows []int) []string {
 	return out
 }
 
-// forEachCombination calls fn with every combination of levels, the last
+// ForEachCombination calls fn with every combination of levels, the last
 // column varying fastest.
-func forEachCombination(levels [][]string, fn func([]string)) {
+func ForEachCombination(levels [][]string, fn func([]string)) {
 	parts := make([]string, len(levels))
 	var rec func(k int)
 	rec = func(k int) {
@@ -519,49 +516,4 @@ func forEachCombination(levels [][]string, fn func([]string)) {
 		}
 	}
 	rec(0)
-}
-
-// limiter keeps at most findingsPerColumn findings per code and column and
-// summarises the rest.
-type limiter struct {
-	n     map[string]int
-	first map[string]plan.Diagnostic
-	col   map[string]string
-	order []string
-}
-
-func newLimiter() *limiter {
-	return &limiter{n: map[string]int{}, first: map[string]plan.Diagnostic{}, col: map[string]string{}}
-}
-
-// add appends d to ds unless findingsPerColumn findings with the same code
-// and column were already added.
-func (l *limiter) add(ds *plan.Diagnostics, code, column string, d plan.Diagnostic) {
-	key := code + "\x00" + column
-	l.n[key]++
-	switch n := l.n[key]; {
-	case n <= findingsPerColumn:
-		*ds = append(*ds, d)
-	case n == findingsPerColumn+1:
-		l.first[key] = d
-		l.col[key] = column
-		l.order = append(l.order, key)
-	}
-}
-
-// summaries returns one "and N more" diagnostic per code and column that
-// went over the limit, positioned at the first finding left out.
-func (l *limiter) summaries() plan.Diagnostics {
-	var out plan.Diagnostics
-	for _, key := range l.order {
-		d := l.first[key]
-		more := l.n[key] - findingsPerColumn
-		where := ""
-		if col := l.col[key]; col != "" {
-			where = fmt.Sprintf(" in column %q", col)
-		}
-		out = append(out, plan.Diagnostic{Severity: d.Severity, Code: d.Code, Pos: d.Pos, Related: d.Related,
-			Summary: fmt.Sprintf("and %d more %s findings%s from here on", more, d.Code, where)})
-	}
-	return out
 }

@@ -1,4 +1,4 @@
-package checker
+package table
 
 import (
 	"furrow/schema"
@@ -55,7 +55,7 @@ func readXLSX(name string, data []byte, o *readOptions) (*Table, plan.Diagnostic
 		}
 		return nil, plan.Diagnostics{{
 			Severity: plan.Error, Code: "data-sheet-missing",
-			Pos: plan.Pos{File: name}, Summary: summary, Related: relatedPos(o.dataPos),
+			Pos: plan.Pos{File: name}, Summary: summary, Related: RelatedPos(o.dataPos),
 		}}, nil
 	}
 
@@ -73,7 +73,7 @@ func readXLSX(name string, data []byte, o *readOptions) (*Table, plan.Diagnostic
 	var (
 		diags plan.Diagnostics
 		b     *tableBuilder
-		lim   = newLimiter()
+		lim   = NewLimiter()
 		blank []int
 	)
 	for i, raw := range rows {
@@ -97,7 +97,7 @@ func readXLSX(name string, data []byte, o *readOptions) (*Table, plan.Diagnostic
 		if len(cells) > b.width {
 			for k := b.width; k < len(cells); k++ {
 				if trimCell(cells[k]) != "" {
-					lim.add(&diags, "data-ragged-row", "", plan.Diagnostic{
+					lim.Add(&diags, "data-ragged-row", "", plan.Diagnostic{
 						Severity: plan.Error, Code: "data-ragged-row",
 						Pos:     plan.Pos{File: posFile, Line: rowNum, Column: k + 1},
 						Summary: fmt.Sprintf("cell %s holds %q but its column has no header", CellRef(rowNum, k+1), trimCell(cells[k])),
@@ -108,12 +108,12 @@ func readXLSX(name string, data []byte, o *readOptions) (*Table, plan.Diagnostic
 		}
 		b.add(rowNum, cells, native)
 	}
-	diags = append(diags, lim.summaries()...)
+	diags = append(diags, lim.Summaries()...)
 	if b == nil {
 		return nil, plan.Diagnostics{{
 			Severity: plan.Error, Code: "data-no-header",
 			Pos: plan.Pos{File: posFile}, Summary: fmt.Sprintf("sheet %q is empty: no header row", sheet),
-			Related: relatedPos(o.dataPos),
+			Related: RelatedPos(o.dataPos),
 		}}, nil
 	}
 	t, fd := b.finish()

@@ -1,0 +1,29 @@
+// Package contract checks a [table.Table] against the plan's data contract
+// ([CheckData]) and summarises the design found in the data
+// ([DesignSummary]).
+//
+// # Data contract
+//
+// [CheckData] reports, each with its code:
+//
+//	data-column-missing     a declared column is not in the file (with a suggestion)
+//	data-column-undeclared  a file column the plan does not declare (warning)
+//	data-not-number         a numeric column holds text (with a decimal-mark hint)
+//	data-out-of-range       a value outside the declared plausible range
+//	                        (a warning when an out-of-range exclusion drops it)
+//	data-level-undeclared   a level the plan does not declare
+//	data-level-unseen       a declared level that never occurs (warning)
+//	data-duplicate-record   a unit twice at one time (beyond the declared sub-samples)
+//	data-unit-inconsistent  a unit whose treatment, block, site or factor changes
+//	data-record-missing     a unit with no record at a declared time (warning)
+//	data-replication        a treatment cell (per site) whose unit count is not
+//	                        design.replicates
+//	data-missing-values     missing values in a column, with counts (warning)
+//
+// and, from reading: data-ragged-row, data-quote, data-header-blank,
+// data-header-repeated, data-blank-rows (warning), data-sheet-missing and
+// data-no-header. After 20 findings of one code in one column the rest are
+// counted in a single "and N more" finding. Unit identifiers must be unique
+// across the trial: a unit that appears with two sites is reported, not
+// taken as two units.
+package contract

@@ -1,0 +1,62 @@
+// Package table reads the data file a plan names, CSV or XLSX, into a
+// [Table], and computes the table's file and content hashes.
+//
+// # Reading data
+//
+// [ReadTable] reads the file a plan names (or one given on the command
+// line) into a [Table]: columns by name, each with the cell text, the cell
+// parsed as a number (NaN when missing or not a number) and a missing mask,
+// plus the row number a user sees for every row. CSV and XLSX give the same
+// Table for the same cells.
+//
+// CSV is read as RFC 4180 text (Shafranovich 2005): fields may be quoted,
+// quotes inside are doubled, quoted fields may span lines, and the row
+// number of a record is the line where it starts. A UTF-8 byte-order mark
+// and CRLF line endings are accepted. The delimiter is data.delimiter
+// (default ","). Cells are trimmed of surrounding white space.
+//
+// XLSX is read from the sheet data.sheet (default: the first sheet). Number
+// cells and the cached values of formulas keep their value, written in
+// shortest round-trip form; cells whose number format shows a date become
+// YYYY-MM-DD (with THH:MM:SS when a time of day is shown); text cells are
+// taken as they are, so numbers stored as text are still numbers.
+//
+// A number is an optional sign, digits with at most one decimal mark
+// (data.decimal, "." or ","), and an optional exponent; thousands
+// separators, "inf" and "nan" are not numbers. A cell is missing when it is
+// blank or equals one of data.missing.
+//
+// A file that cannot be read as declared (missing, empty, binary, not
+// UTF-8, an XLSX given as CSV or the other way round) is an error naming
+// the file. Problems inside a readable file are diagnostics.
+//
+// # Positions
+//
+// Data findings are [plan.Diagnostic] values positioned in the data file:
+// Pos.Line is the row number and Pos.Column the 1-based column number, so a
+// CSV cell prints as "plots.csv:17:4". For XLSX the file part names the
+// sheet in brackets and the summary starts with the cell reference:
+// "plots.xlsx[plots]:17:4: cell D17: ...". Related holds the plan line
+// that declared the expectation (the column, the design or the data
+// section).
+//
+// # Content hash
+//
+// [Table.ContentHash] is "sha256:" followed by the lower-case hex SHA-256
+// of this byte serialisation of the table (so a reviewer can recompute it):
+//
+//	"furrow table v1\n"
+//	"columns " <number of columns> " rows " <number of rows> "\n"
+//	for each column in file order:   'c' <name as S> "\n"
+//	for each row, for each column:   the cell as below; then "\n"
+//
+// where numbers are decimal ASCII, a string S is written as its byte length
+// in decimal, ':' and its UTF-8 bytes, and a cell is 'm' when missing,
+// 'n' followed by the number as S (shortest round-trip form, Go's
+// strconv.FormatFloat(v, 'g', -1, 64)) in a column the plan declares
+// numeric when it holds a number, and 't' followed by its trimmed text as S
+// otherwise. Row numbers, the file format, quoting, delimiters and line
+// endings do not enter, so a CSV file and an XLSX sheet with equal cells
+// have the same content hash. [Table.FileHash] is the SHA-256 of the file's
+// bytes and changes with any byte.
+package table
