@@ -6,7 +6,8 @@ import (
 	"math"
 
 	"gonum.org/v1/gonum/mat"
-	"gonum.org/v1/gonum/mathext"
+
+	"furrow/stats/dist"
 )
 
 // satInfo carries what Satterthwaite's approximation needs: the asymptotic
@@ -393,7 +394,7 @@ func (r *Result) satF(L mat.Matrix) (TermTest, error) {
 	}
 	F := fsum / float64(k)
 	df := combineNu(nus)
-	return TermTest{NumDF: k, DenDF: df, F: F, P: fUpper(F, float64(k), df)}, nil
+	return TermTest{NumDF: k, DenDF: df, F: F, P: dist.FUpper(F, float64(k), df)}, nil
 }
 
 // combineNu merges the per-direction df of a multi-df test (Fai &
@@ -425,31 +426,4 @@ func combineNu(nus []float64) float64 {
 	}
 	q := float64(len(nus))
 	return 2 * E / (E - q)
-}
-
-// fUpper returns P(F > f) on (d1, d2) df via the regularised incomplete
-// beta function, computed directly as an upper tail.
-func fUpper(f, d1, d2 float64) float64 {
-	if math.IsNaN(f) || math.IsNaN(d2) {
-		return math.NaN()
-	}
-	if f <= 0 {
-		return 1
-	}
-	if math.IsInf(d2, 1) {
-		// chi-square(d1)/d1 limit.
-		return mathext.GammaIncRegComp(d1/2, d1*f/2)
-	}
-	return mathext.RegIncBeta(d2/2, d1/2, d2/(d2+d1*f))
-}
-
-// twoSidedT returns P(|T| > |t|) on df degrees of freedom.
-func twoSidedT(t, df float64) float64 {
-	if math.IsNaN(t) || math.IsNaN(df) {
-		return math.NaN()
-	}
-	if math.IsInf(df, 1) {
-		return math.Erfc(math.Abs(t) / math.Sqrt2)
-	}
-	return mathext.RegIncBeta(df/2, 0.5, df/(df+t*t))
 }

@@ -6,6 +6,8 @@ import (
 	"math"
 
 	"gonum.org/v1/gonum/mat"
+
+	"furrow/stats/dist"
 )
 
 // krInfo holds the Kenward & Roger (1997, Biometrics 53:983) quantities in
@@ -449,5 +451,5 @@ func (kr *krInfo) test(L mat.Matrix, beta []float64) (TermTest, error) {
 	lb.MulVec(L, mat.NewVecDense(p, beta))
 	F := mat.Inner(&lb, MAinv, &lb) / ell
 	Fs := lam * F
-	return TermTest{NumDF: rank, DenDF: m, F: Fs, P: fUpper(Fs, ell, m)}, nil
+	return TermTest{NumDF: rank, DenDF: m, F: Fs, P: dist.FUpper(Fs, ell, m)}, nil
 }
