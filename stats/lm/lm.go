@@ -424,16 +424,23 @@ func (r *Result) toOriginal(g []float64) []float64 {
 		j := r.q.piv[k]
 		b[j] = g[k] / r.scale[j]
 	}
-	if r.ic >= 0 {
-		var s float64
-		for j := range b {
-			if j != r.ic {
-				s += r.center[j] / r.kappa * b[j]
-			}
-		}
-		b[r.ic] -= s
-	}
+	r.uncentre(b)
 	return b
+}
+
+// uncentre moves the centring of the columns into the intercept of b (in
+// place): b_ic -= sum_{j != ic} center_j/kappa b_j.
+func (r *Result) uncentre(b []float64) {
+	if r.ic < 0 {
+		return
+	}
+	var s float64
+	for j := range b {
+		if j != r.ic {
+			s += r.center[j] / r.kappa * b[j]
+		}
+	}
+	b[r.ic] -= s
 }
 
 // covariance returns sigma^2 B B' with B = A R11^{-1}, A the map toOriginal.
@@ -537,15 +544,7 @@ func (r *Result) nullSpace() [][]float64 {
 		}
 		j := q.piv[k]
 		d[j] = 1 / r.scale[j]
-		if r.ic >= 0 {
-			var s float64
-			for c := range d {
-				if c != r.ic {
-					s += r.center[c] / r.kappa * d[c]
-				}
-			}
-			d[r.ic] -= s
-		}
+		r.uncentre(d)
 		out = append(out, d)
 	}
 	return out

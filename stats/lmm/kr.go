@@ -255,12 +255,7 @@ func (kr *krInfo) test(L mat.Matrix, beta []float64) (TermTest, error) {
 	l, p := L.Dims()
 	var M mat.Dense
 	M.Product(L, kr.phi, L.T())
-	Ms := mat.NewSymDense(l, nil)
-	for i := 0; i < l; i++ {
-		for j := 0; j <= i; j++ {
-			Ms.SetSym(i, j, (M.At(i, j)+M.At(j, i))/2)
-		}
-	}
+	Ms := symPart(&M)
 	Minv, err := pinvSym(Ms)
 	if err != nil {
 		return TermTest{}, err
