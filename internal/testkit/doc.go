@@ -22,7 +22,9 @@
 // (the parent of the module root). SharedRef locates the folder by walking
 // up from the working directory of the test to the directory holding
 // go.mod. A test that needs a reference file it cannot find calls SkipRef
-// (ReadJSON, ReadShared and SharedPath do so themselves), and a package
+// (ReadJSON, ReadShared and SharedPath do so themselves). Reference values
+// committed under a package's testdata are read with DecodeFile, which
+// fails instead: their absence is a broken checkout. A package
 // whose tests read shared data has
 //
 //	func TestMain(m *testing.M) { testkit.Main(m) }

@@ -95,6 +95,20 @@ func ReadJSON(t testing.TB, path string, v any) {
 	}
 }
 
+// DecodeFile decodes the JSON file at path into v, failing the test on any
+// error. It is for reference values committed under a package's testdata,
+// whose absence is a broken checkout rather than a skip.
+func DecodeFile(t testing.TB, path string, v any) {
+	t.Helper()
+	b, err := os.ReadFile(path)
+	if err != nil {
+		t.Fatalf("reading committed reference values: %v", err)
+	}
+	if err := json.Unmarshal(b, v); err != nil {
+		t.Fatalf("decoding %s: %v", path, err)
+	}
+}
+
 var skips struct {
 	sync.Mutex
 	n       int
