@@ -6,6 +6,7 @@ import (
 	"sort"
 
 	"furrow/stats/dist"
+	"furrow/stats/internal/fsum"
 )
 
 // AndersonDarlingResult is the outcome of an Anderson-Darling test of
@@ -55,22 +56,14 @@ func AndersonDarling(x []float64) (AndersonDarlingResult, error) {
 	if !(sd > 1e-14*math.Max(math.Abs(xs[0]), math.Abs(xs[n-1]))) {
 		return AndersonDarlingResult{}, fmt.Errorf("anderson-darling: %w", ErrConstant)
 	}
-	var s, c float64
+	var s fsum.Sum
 	for i := 0; i < n; i++ {
 		zi := (xs[i] - mean) / sd
 		zj := (xs[n-1-i] - mean) / sd
-		term := float64(2*i+1) * (dist.LogNormalUpper(-zi) + dist.LogNormalUpper(zj))
-		// Neumaier summation.
-		t := s + term
-		if math.Abs(s) >= math.Abs(term) {
-			c += (s - t) + term
-		} else {
-			c += (term - t) + s
-		}
-		s = t
+		s.Add(float64(2*i+1) * (dist.LogNormalUpper(-zi) + dist.LogNormalUpper(zj)))
 	}
 	nf := float64(n)
-	a2 := -nf - (s+c)/nf
+	a2 := -nf - s.Value()/nf
 	a2s := a2 * (1 + 0.75/nf + 2.25/(nf*nf))
 	res := AndersonDarlingResult{A2: a2, A2Star: a2s, N: n}
 	res.P, res.PIsBound = adPValue(a2s)

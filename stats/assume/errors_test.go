@@ -6,6 +6,8 @@ import (
 	"testing"
 
 	"gonum.org/v1/gonum/mat"
+
+	"furrow/internal/testkit"
 )
 
 // TestDegenerate checks that data problems give errors, never panics.
@@ -55,7 +57,7 @@ func TestBartlettEqualVariances(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if !near(r.Stat, 0, 1e-12) || !near(r.P, 1, 1e-12) {
+	if !testkit.Close(r.Stat, 0, 1e-12) || !testkit.Close(r.P, 1, 1e-12) {
 		t.Errorf("got %+v", r)
 	}
 }

@@ -1,10 +1,11 @@
 package assume
 
 import (
-	"os"
 	"testing"
 
 	"gonum.org/v1/gonum/mat"
+
+	"furrow/internal/testkit"
 )
 
 // genRef mirrors testdata/ref.json, written by testdata/ref.R (R 4.2.2,
@@ -59,12 +60,8 @@ type chiRef struct {
 
 func loadGen(t *testing.T) genRef {
 	t.Helper()
-	b, err := os.ReadFile("testdata/ref.json")
-	if err != nil {
-		t.Fatalf("reading generated reference: %v", err)
-	}
 	var r genRef
-	decodeJSON(t, b, &r)
+	testkit.DecodeFile(t, "testdata/ref.json", &r)
 	return r
 }
 
@@ -78,7 +75,7 @@ func TestShapiroWilkGenerated(t *testing.T) {
 		if err != nil {
 			t.Fatalf("n=%d: %v", c.N, err)
 		}
-		if !near(got.W, c.W, 1e-12) || !relNear(got.P, c.P, 1e-9) {
+		if !testkit.Close(got.W, c.W, 1e-12) || !testkit.RelClose(got.P, c.P, 1e-9) {
 			t.Errorf("n=%d: W=%.16g p=%.16g, R W=%.16g p=%.16g", c.N, got.W, got.P, c.W, c.P)
 		}
 	}
@@ -97,7 +94,7 @@ func TestVarianceGenerated(t *testing.T) {
 	}
 	checkF := func(name string, got FTestResult, want fRef) {
 		t.Helper()
-		if !near(got.F, want.F, 1e-12) || got.DF1 != want.DF1 || got.DF2 != want.DF2 || !relNear(got.P, want.P, 1e-12) {
+		if !testkit.Close(got.F, want.F, 1e-12) || got.DF1 != want.DF1 || got.DF2 != want.DF2 || !testkit.RelClose(got.P, want.P, 1e-12) {
 			t.Errorf("%s: got %+v, want %+v", name, got, want)
 		}
 	}
@@ -115,7 +112,7 @@ func TestVarianceGenerated(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if !near(bt.Stat, r.Bartlett.Stat, 1e-12) || bt.DF != r.Bartlett.DF || !relNear(bt.P, r.Bartlett.P, 1e-11) {
+	if !testkit.Close(bt.Stat, r.Bartlett.Stat, 1e-12) || bt.DF != r.Bartlett.DF || !testkit.RelClose(bt.P, r.Bartlett.P, 1e-11) {
 		t.Errorf("bartlett: got %+v, want %+v", bt, r.Bartlett)
 	}
 }
@@ -136,14 +133,14 @@ func TestBreuschPaganGenerated(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if !near(got.Stat, r.Regressors.Stat, 1e-10) || got.DF != r.Regressors.DF || !relNear(got.P, r.Regressors.P, 1e-10) {
+	if !testkit.Close(got.Stat, r.Regressors.Stat, 1e-10) || got.DF != r.Regressors.DF || !testkit.RelClose(got.P, r.Regressors.P, 1e-10) {
 		t.Errorf("regressors: got %+v, want %+v", got, r.Regressors)
 	}
 	got, err = BreuschPaganFitted(r.Resid, r.Fitted)
 	if err != nil {
 		t.Fatal(err)
 	}
-	if !near(got.Stat, r.FittedOnly.Stat, 1e-10) || got.DF != r.FittedOnly.DF || !relNear(got.P, r.FittedOnly.P, 1e-10) {
+	if !testkit.Close(got.Stat, r.FittedOnly.Stat, 1e-10) || got.DF != r.FittedOnly.DF || !testkit.RelClose(got.P, r.FittedOnly.P, 1e-10) {
 		t.Errorf("fitted: got %+v, want %+v", got, r.FittedOnly)
 	}
 }
@@ -165,7 +162,7 @@ func TestMomentsGenerated(t *testing.T) {
 			{"g1", got.G1, c.G1}, {"g2", got.G2, c.G2}, {"G1", got.Skewness, c.AG1},
 			{"G2", got.Kurtosis, c.AG2}, {"se skew", got.SESkew, c.SES}, {"se kurt", got.SEKurt, c.SEK},
 		} {
-			if !near(p.got, p.want, 1e-12) {
+			if !testkit.Close(p.got, p.want, 1e-12) {
 				t.Errorf("n=%d %s = %.16g, R %.16g", c.N, p.name, p.got, p.want)
 			}
 		}
@@ -176,10 +173,6 @@ func TestMomentsGenerated(t *testing.T) {
 // normal_ad (testdata/ref_ad.py), covering every branch of the
 // D'Agostino-Stephens formula. Tolerance 1e-12 relative on A², 1e-10 on p.
 func TestAndersonDarlingGenerated(t *testing.T) {
-	b, err := os.ReadFile("testdata/ref_ad.json")
-	if err != nil {
-		t.Fatalf("reading generated reference: %v", err)
-	}
 	var r struct {
 		Anderson []struct {
 			N  int       `json:"n"`
@@ -188,7 +181,7 @@ func TestAndersonDarlingGenerated(t *testing.T) {
 			P  float64   `json:"p"`
 		} `json:"anderson"`
 	}
-	decodeJSON(t, b, &r)
+	testkit.DecodeFile(t, "testdata/ref_ad.json", &r)
 	for _, c := range r.Anderson {
 		got, err := AndersonDarling(c.X)
 		if err != nil {
@@ -203,7 +196,7 @@ func TestAndersonDarlingGenerated(t *testing.T) {
 			// log(1 - pnorm(z)) it reproduces statsmodels' 45.6661034393307.
 			c.A2, tol = 45.66615420242414, 1e-12
 		}
-		if !near(got.A2, c.A2, tol) {
+		if !testkit.Close(got.A2, c.A2, tol) {
 			t.Errorf("n=%d: A2 = %.16g, statsmodels %.16g", c.N, got.A2, c.A2)
 		}
 		if got.A2Star > 10 {
@@ -214,7 +207,7 @@ func TestAndersonDarlingGenerated(t *testing.T) {
 			}
 			continue
 		}
-		if !relNear(got.P, c.P, 1e-10) {
+		if !testkit.RelClose(got.P, c.P, 1e-10) {
 			t.Errorf("n=%d: A*²=%.4f p = %.16g, statsmodels %.16g", c.N, got.A2Star, got.P, c.P)
 		}
 	}

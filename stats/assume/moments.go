@@ -3,6 +3,8 @@ package assume
 import (
 	"fmt"
 	"math"
+
+	"furrow/stats/internal/fsum"
 )
 
 // MomentsResult holds sample skewness and excess kurtosis.
@@ -36,13 +38,13 @@ func Moments(x []float64) (MomentsResult, error) {
 	if err := checkFinite(x); err != nil {
 		return MomentsResult{}, fmt.Errorf("moments: %w", err)
 	}
-	mean := kahanMean(x)
+	mean := fsum.Mean(x)
 	d := make([]float64, n)
 	for i, v := range x {
 		d[i] = v - mean
 	}
 	// Remove the rounding left in the mean (second pass).
-	corr := kahanMean(d)
+	corr := fsum.Mean(d)
 	var m2, m3, m4 []float64
 	for i := range d {
 		e := d[i] - corr
@@ -52,9 +54,9 @@ func Moments(x []float64) (MomentsResult, error) {
 		m4 = append(m4, e2*e2)
 	}
 	nf := float64(n)
-	s2 := kahanSum(m2) / nf
-	s3 := kahanSum(m3) / nf
-	s4 := kahanSum(m4) / nf
+	s2 := fsum.Of(m2) / nf
+	s3 := fsum.Of(m3) / nf
+	s4 := fsum.Of(m4) / nf
 	if !(s2 > 0) || math.Sqrt(s2) <= 1e-14*math.Abs(mean) {
 		return MomentsResult{}, fmt.Errorf("moments: %w", ErrConstant)
 	}

@@ -3,6 +3,8 @@ package assume
 import (
 	"strings"
 	"testing"
+
+	"furrow/internal/testkit"
 )
 
 // TestPlantGrowthOracle checks the residual normality tests and the
@@ -29,7 +31,7 @@ func TestPlantGrowthOracle(t *testing.T) {
 			P    float64 `json:"p_value"`
 		} `json:"anderson_darling_residuals"`
 	}
-	decodeJSON(t, readShared(t, "oracle/ref/case05_plantgrowth.json"), &ref)
+	decodeJSON(t, testkit.ReadShared(t, "oracle/ref/case05_plantgrowth.json"), &ref)
 	// fRef uses keys F/df1/df2/p; the oracle writes p_value.
 	var raw struct {
 		LevMed struct {
@@ -39,7 +41,7 @@ func TestPlantGrowthOracle(t *testing.T) {
 			P float64 `json:"p_value"`
 		} `json:"levene_mean"`
 	}
-	decodeJSON(t, readShared(t, "oracle/ref/case05_plantgrowth.json"), &raw)
+	decodeJSON(t, testkit.ReadShared(t, "oracle/ref/case05_plantgrowth.json"), &raw)
 	ref.LevMed.P, ref.LevMean.P = raw.LevMed.P, raw.LevMean.P
 
 	idx := map[string]int{}
@@ -57,35 +59,35 @@ func TestPlantGrowthOracle(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if !near(sw.W, ref.SW.Stat, 1e-12) || !relNear(sw.P, ref.SW.P, 1e-9) {
+	if !testkit.Close(sw.W, ref.SW.Stat, 1e-12) || !testkit.RelClose(sw.P, ref.SW.P, 1e-9) {
 		t.Errorf("shapiro: %+v, R W=%g p=%g", sw, ref.SW.Stat, ref.SW.P)
 	}
 	ad, err := AndersonDarling(ref.Residuals)
 	if err != nil {
 		t.Fatal(err)
 	}
-	if !near(ad.A2, ref.AD.Stat, 1e-12) || !relNear(ad.P, ref.AD.P, 1e-10) {
+	if !testkit.Close(ad.A2, ref.AD.Stat, 1e-12) || !testkit.RelClose(ad.P, ref.AD.P, 1e-10) {
 		t.Errorf("anderson-darling: %+v, nortest A=%g p=%g", ad, ref.AD.Stat, ref.AD.P)
 	}
 	lm, err := Levene(groups)
 	if err != nil {
 		t.Fatal(err)
 	}
-	if !near(lm.F, ref.LevMean.F, 1e-12) || !relNear(lm.P, ref.LevMean.P, 1e-12) {
+	if !testkit.Close(lm.F, ref.LevMean.F, 1e-12) || !testkit.RelClose(lm.P, ref.LevMean.P, 1e-12) {
 		t.Errorf("levene: %+v, car %+v", lm, ref.LevMean)
 	}
 	bf, err := BrownForsythe(groups)
 	if err != nil {
 		t.Fatal(err)
 	}
-	if !near(bf.F, ref.LevMed.F, 1e-12) || !relNear(bf.P, ref.LevMed.P, 1e-12) {
+	if !testkit.Close(bf.F, ref.LevMed.F, 1e-12) || !testkit.RelClose(bf.P, ref.LevMed.P, 1e-12) {
 		t.Errorf("brown-forsythe: %+v, car %+v", bf, ref.LevMed)
 	}
 	bt, err := Bartlett(groups)
 	if err != nil {
 		t.Fatal(err)
 	}
-	if !near(bt.Stat, ref.Bartlett.Stat, 1e-12) || bt.DF != ref.Bartlett.Param["df"] || !relNear(bt.P, ref.Bartlett.P, 1e-12) {
+	if !testkit.Close(bt.Stat, ref.Bartlett.Stat, 1e-12) || bt.DF != ref.Bartlett.Param["df"] || !testkit.RelClose(bt.P, ref.Bartlett.P, 1e-12) {
 		t.Errorf("bartlett: %+v, R %+v", bt, ref.Bartlett)
 	}
 }
@@ -96,7 +98,7 @@ func TestPlantGrowthOracle(t *testing.T) {
 // printed precision, and the double-precision values from R 4.2.2 (car
 // leveneTest, bartlett.test) recorded in the shared values.json at 1e-12.
 func TestGearNIST(t *testing.T) {
-	b := readShared(t, "nist-ehandbook/GEAR.DAT")
+	b := testkit.ReadShared(t, "nist-ehandbook/GEAR.DAT")
 	lines := strings.Split(string(b), "\n")
 	groups := make([][]float64, 10)
 	for _, ln := range lines[25:] {
@@ -116,21 +118,21 @@ func TestGearNIST(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if !near(bf.F, 1.705910, 5e-6) || !near(bf.F, 1.70591769300089, 1e-12) || !relNear(bf.P, 0.0990829755522054, 1e-11) || bf.DF1 != 9 || bf.DF2 != 90 {
+	if !testkit.Close(bf.F, 1.705910, 5e-6) || !testkit.Close(bf.F, 1.70591769300089, 1e-12) || !testkit.RelClose(bf.P, 0.0990829755522054, 1e-11) || bf.DF1 != 9 || bf.DF2 != 90 {
 		t.Errorf("brown-forsythe: %+v", bf)
 	}
 	lv, err := Levene(groups)
 	if err != nil {
 		t.Fatal(err)
 	}
-	if !near(lv.F, 2.15945985647285, 1e-12) || !relNear(lv.P, 0.0322368265597832, 1e-11) {
+	if !testkit.Close(lv.F, 2.15945985647285, 1e-12) || !testkit.RelClose(lv.P, 0.0322368265597832, 1e-11) {
 		t.Errorf("levene: %+v", lv)
 	}
 	bt, err := Bartlett(groups)
 	if err != nil {
 		t.Fatal(err)
 	}
-	if !near(bt.Stat, 20.7858, 5e-5) || !near(bt.Stat, 20.7858734280649, 1e-12) || !relNear(bt.P, 0.0136358632780575, 1e-11) || bt.DF != 9 {
+	if !testkit.Close(bt.Stat, 20.7858, 5e-5) || !testkit.Close(bt.Stat, 20.7858734280649, 1e-12) || !testkit.RelClose(bt.P, 0.0136358632780575, 1e-11) || bt.DF != 9 {
 		t.Errorf("bartlett: %+v", bt)
 	}
 }

@@ -7,6 +7,7 @@ import (
 	"sort"
 
 	"furrow/stats/dist"
+	"furrow/stats/internal/fsum"
 )
 
 // ShapiroWilkResult is the outcome of a Shapiro-Wilk test of normality.
@@ -65,7 +66,7 @@ func ShapiroWilk(x []float64) (ShapiroWilkResult, error) {
 	// Centre and scale x and a to unit vectors u, v; then W = (u·v)² and
 	// 1 - W = (1 - u·v)(1 + u·v) with 1 - u·v = |u - v|²/2, which keeps
 	// 1 - W accurate when W is near 1 (log(1 - W) drives the p-value).
-	mean := kahanMean(xs)
+	mean := fsum.Mean(xs)
 	v := make([]float64, n)
 	for i, xi := range xs {
 		v[i] = xi - mean

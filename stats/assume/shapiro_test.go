@@ -4,6 +4,8 @@ import (
 	"errors"
 	"math"
 	"testing"
+
+	"furrow/internal/testkit"
 )
 
 // TestShapiroWilkOracle checks W and p against R 4.2.2 shapiro.test (AS R94)
@@ -25,7 +27,7 @@ func TestShapiroWilkOracle(t *testing.T) {
 			P     float64 `json:"p_value"`
 		} `json:"results"`
 	}
-	decodeJSON(t, readShared(t, "oracle/ref/case08_shapiro_range.json"), &ref)
+	decodeJSON(t, testkit.ReadShared(t, "oracle/ref/case08_shapiro_range.json"), &ref)
 	if len(ref.Results) == 0 {
 		t.Fatal("no reference results")
 	}
@@ -39,10 +41,10 @@ func TestShapiroWilkOracle(t *testing.T) {
 			t.Errorf("%s: %v", c.SeqID, err)
 			continue
 		}
-		if !near(got.W, c.W, 1e-12) {
+		if !testkit.Close(got.W, c.W, 1e-12) {
 			t.Errorf("%s: W = %.16g, R %.16g", c.SeqID, got.W, c.W)
 		}
-		if !relNear(got.P, c.P, 1e-9) {
+		if !testkit.RelClose(got.P, c.P, 1e-9) {
 			t.Errorf("%s: p = %.16g, R %.16g", c.SeqID, got.P, c.P)
 		}
 	}
@@ -74,7 +76,7 @@ func TestShapiroWilkPublished(t *testing.T) {
 	// R 4.2.2 shapiro.test on the same 11 values (run for this test):
 	// W = 0.7888146948353874, p = 0.006703814056502925. The shared
 	// values.json quotes 0.788814694863172, which agrees to 4e-11.
-	if !near(r.W, 0.7888146948353874, 1e-12) || !relNear(r.P, 0.006703814056502925, 1e-9) {
+	if !testkit.Close(r.W, 0.7888146948353874, 1e-12) || !testkit.RelClose(r.P, 0.006703814056502925, 1e-9) {
 		t.Errorf("SW 1965 example 1: W = %.16g p = %.16g, R 0.7888146948353874 0.006703814056502925", r.W, r.P)
 	}
 
@@ -86,7 +88,7 @@ func TestShapiroWilkPublished(t *testing.T) {
 	if math.Abs(r.W-0.8078) > 5e-5 || math.Abs(r.P-0.018) > 5e-4 {
 		t.Errorf("Royston 1992: W = %.5f p = %.4f, published 0.8078 0.018", r.W, r.P)
 	}
-	if !near(r.W, 0.80782882, 1e-8) || !near(r.P, 0.01804659, 1e-6) {
+	if !testkit.Close(r.W, 0.80782882, 1e-8) || !testkit.Close(r.P, 0.01804659, 1e-6) {
 		t.Errorf("Royston 1992: W = %.10g p = %.10g, R 0.80782882 0.01804659", r.W, r.P)
 	}
 	a := shapiroCoefficients(10)
@@ -123,7 +125,7 @@ func TestShapiroWilkInvariance(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if !near(r1.W, r2.W, 1e-12) || !relNear(r1.P, r2.P, 1e-10) {
+	if !testkit.Close(r1.W, r2.W, 1e-12) || !testkit.RelClose(r1.P, r2.P, 1e-10) {
 		t.Errorf("not location-scale invariant: %v vs %v", r1, r2)
 	}
 	for i := range x {

@@ -3,6 +3,8 @@ package assume
 import (
 	"fmt"
 	"math"
+
+	"furrow/stats/internal/fsum"
 )
 
 // checkFinite returns an error naming the first value that is NaN or
@@ -14,26 +16,6 @@ func checkFinite(x []float64) error {
 		}
 	}
 	return nil
-}
-
-// kahanSum returns Σ x by Neumaier's compensated summation.
-func kahanSum(x []float64) float64 {
-	var s, c float64
-	for _, v := range x {
-		t := s + v
-		if math.Abs(s) >= math.Abs(v) {
-			c += (s - t) + v
-		} else {
-			c += (v - t) + s
-		}
-		s = t
-	}
-	return s + c
-}
-
-// kahanMean returns the compensated mean of x.
-func kahanMean(x []float64) float64 {
-	return kahanSum(x) / float64(len(x))
 }
 
 // norm2 returns the Euclidean norm of x without overflow.
@@ -57,7 +39,7 @@ func norm2(x []float64) float64 {
 // centredSS returns the mean and the sum of squared deviations of x by two
 // passes with a correction term.
 func centredSS(x []float64) (mean, ss float64) {
-	mean = kahanMean(x)
+	mean = fsum.Mean(x)
 	var s, c float64
 	for _, v := range x {
 		d := v - mean

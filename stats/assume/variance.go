@@ -6,6 +6,7 @@ import (
 	"sort"
 
 	"furrow/stats/dist"
+	"furrow/stats/internal/fsum"
 )
 
 // FTestResult is the outcome of a test whose statistic is referred to an F
@@ -77,7 +78,7 @@ func leveneLike(name string, groups [][]float64, median bool) (FTestResult, erro
 		if median {
 			centre = medianOf(x)
 		} else {
-			centre = kahanMean(x)
+			centre = fsum.Mean(x)
 		}
 		d := make([]float64, len(x))
 		for i, v := range x {
@@ -98,7 +99,7 @@ func oneWayF(groups [][]float64) (f, df1, df2 float64, err error) {
 	for _, g := range groups {
 		all = append(all, g...)
 	}
-	grand := kahanMean(all)
+	grand := fsum.Mean(all)
 	var ssb, ssw, scale float64
 	for _, v := range all {
 		scale += v * v

@@ -1,35 +1,13 @@
 package dist
 
 import (
-	"encoding/json"
 	"math"
-	"os"
 	"testing"
 
 	"gonum.org/v1/gonum/stat/distuv"
+
+	"furrow/internal/testkit"
 )
-
-// close reports whether got is within tol of want, relatively or (for
-// want near zero) absolutely.
-func close(got, want, tol float64) bool {
-	if math.IsInf(want, 0) || math.IsInf(got, 0) {
-		return got == want
-	}
-	if math.IsNaN(got) || math.IsNaN(want) {
-		return false
-	}
-	d := math.Abs(got - want)
-	return d <= tol || d <= tol*math.Abs(want)
-}
-
-// relClose is a purely relative comparison, used for tail probabilities
-// where an absolute tolerance would accept anything tiny.
-func relClose(got, want, tol float64) bool {
-	if want == 0 {
-		return got == 0
-	}
-	return math.Abs(got-want) <= tol*math.Abs(want)
-}
 
 type refFile struct {
 	Generator string `json:"generator"`
@@ -48,14 +26,8 @@ type refFile struct {
 
 func loadRef(t *testing.T) refFile {
 	t.Helper()
-	b, err := os.ReadFile("testdata/ref.json")
-	if err != nil {
-		t.Fatalf("reading reference values: %v", err)
-	}
 	var r refFile
-	if err := json.Unmarshal(b, &r); err != nil {
-		t.Fatalf("decoding reference values: %v", err)
-	}
+	testkit.DecodeFile(t, "testdata/ref.json", &r)
 	return r
 }
 
@@ -91,10 +63,10 @@ func TestTailsAgainstR(t *testing.T) {
 			// (Cephes alone: 1.9e-10).
 			tol = 2e-11
 		}
-		if c.P > 1e-300 && !relClose(p, c.P, tol) {
+		if c.P > 1e-300 && !testkit.RelClose(p, c.P, tol) {
 			t.Errorf("%s%v: p = %.17g, R %.17g (rel err %.2g)", c.Fn, c.Args, p, c.P, math.Abs(p-c.P)/c.P)
 		}
-		if !close(lp, c.LogP, tol) {
+		if !testkit.Close(lp, c.LogP, tol) {
 			t.Errorf("%s%v: log p = %.17g, R %.17g", c.Fn, c.Args, lp, c.LogP)
 		}
 	}
@@ -127,7 +99,7 @@ func TestQuantilesAgainstR(t *testing.T) {
 			// returns log(1e-300) to 16 digits, so that value is the target.
 			want = 8.765437882279911e+119
 		}
-		if !close(x, want, 1e-10) {
+		if !testkit.Close(x, want, 1e-10) {
 			t.Errorf("%s%v: x = %.17g, R %.17g", c.Fn, a, x, c.X)
 		}
 	}
@@ -140,17 +112,17 @@ func TestRoundTrip(t *testing.T) {
 		for _, df := range []float64{0.7, 1, 3.3, 12, 250} {
 			if tq := TUpperQuantile(q, df); math.IsInf(tq, 1) {
 				// The quantile exceeds the float64 range (ν < 1, tiny q).
-			} else if got := LogTUpper(tq, df); !close(got, math.Log(q), 1e-12) {
+			} else if got := LogTUpper(tq, df); !testkit.Close(got, math.Log(q), 1e-12) {
 				t.Errorf("t: q=%g df=%g: round trip %g", q, df, got)
 			}
-			if got := ChiSqUpper(ChiSqUpperQuantile(q, df), df); !relClose(got, q, 1e-9) {
+			if got := ChiSqUpper(ChiSqUpperQuantile(q, df), df); !testkit.RelClose(got, q, 1e-9) {
 				t.Errorf("chisq: q=%g df=%g: round trip %g", q, df, got)
 			}
-			if got := FUpper(FUpperQuantile(q, df, 2*df+1), df, 2*df+1); !relClose(got, q, 1e-9) {
+			if got := FUpper(FUpperQuantile(q, df, 2*df+1), df, 2*df+1); !testkit.RelClose(got, q, 1e-9) {
 				t.Errorf("f: q=%g df=%g: round trip %g", q, df, got)
 			}
 		}
-		if got := NormalUpper(NormalUpperQuantile(q)); !relClose(got, q, 1e-12) {
+		if got := NormalUpper(NormalUpperQuantile(q)); !testkit.RelClose(got, q, 1e-12) {
 			t.Errorf("norm: q=%g: round trip %g", q, got)
 		}
 	}
@@ -160,19 +132,19 @@ func TestRoundTrip(t *testing.T) {
 // a published table value: t(0.975, 10) = 2.228139 (Fisher & Yates 1963
 // table III, 2.228; more digits from R 4.2.2 qt(0.975, 10)).
 func TestTwoSided(t *testing.T) {
-	if got := TTwoSided(2.228138851986274, 10); !close(got, 0.05, 1e-12) {
+	if got := TTwoSided(2.228138851986274, 10); !testkit.Close(got, 0.05, 1e-12) {
 		t.Errorf("TTwoSided = %g, want 0.05", got)
 	}
-	if got := TQuantile(0.975, 10); !close(got, 2.228138851986274, 1e-12) {
+	if got := TQuantile(0.975, 10); !testkit.Close(got, 2.228138851986274, 1e-12) {
 		t.Errorf("TQuantile = %.16g", got)
 	}
-	if got := NormalTwoSided(1.959963984540054); !close(got, 0.05, 1e-14) {
+	if got := NormalTwoSided(1.959963984540054); !testkit.Close(got, 0.05, 1e-14) {
 		t.Errorf("NormalTwoSided = %g, want 0.05", got)
 	}
-	if got, want := TTwoSided(-7.5, 3.3), 2*TUpper(7.5, 3.3); !close(got, want, 1e-15) {
+	if got, want := TTwoSided(-7.5, 3.3), 2*TUpper(7.5, 3.3); !testkit.Close(got, want, 1e-15) {
 		t.Errorf("TTwoSided(-7.5) = %g, want %g", got, want)
 	}
-	if got := TQuantile(0.3, 4.5); !close(got, -TQuantile(0.7, 4.5), 1e-14) {
+	if got := TQuantile(0.3, 4.5); !testkit.Close(got, -TQuantile(0.7, 4.5), 1e-14) {
 		t.Errorf("TQuantile symmetry: %g", got)
 	}
 }
@@ -182,10 +154,10 @@ func TestTwoSided(t *testing.T) {
 // 7.61985302416047e-24 (R 4.2.2 pnorm(10, lower.tail = FALSE)).
 func TestDistuvShortfall(t *testing.T) {
 	const want = 7.61985302416047e-24
-	if got := distuv.UnitNormal.Survival(10); relClose(got, want, 1e-3) {
+	if got := distuv.UnitNormal.Survival(10); testkit.RelClose(got, want, 1e-3) {
 		t.Logf("distuv Normal.Survival has become accurate (%g); revisit", got)
 	}
-	if got := NormalUpper(10); !relClose(got, want, 1e-13) {
+	if got := NormalUpper(10); !testkit.RelClose(got, want, 1e-13) {
 		t.Errorf("NormalUpper(10) = %g, want %g", got, want)
 	}
 }
@@ -203,7 +175,7 @@ func TestFInfiniteDF1(t *testing.T) {
 			sum += term
 		}
 		want := math.Exp(-h) * sum
-		if got := FUpper(f, math.Inf(1), 4); !relClose(got, want, 1e-13) {
+		if got := FUpper(f, math.Inf(1), 4); !testkit.RelClose(got, want, 1e-13) {
 			t.Errorf("FUpper(%g, Inf, 4) = %.16g, want %.16g", f, got, want)
 		}
 	}
@@ -225,7 +197,7 @@ func TestInvalid(t *testing.T) {
 			t.Errorf("%s: got %g, want NaN", name, v)
 		}
 	}
-	if got := TUpper(1.3, math.Inf(1)); !relClose(got, NormalUpper(1.3), 1e-15) {
+	if got := TUpper(1.3, math.Inf(1)); !testkit.RelClose(got, NormalUpper(1.3), 1e-15) {
 		t.Errorf("t with infinite df = %g", got)
 	}
 }

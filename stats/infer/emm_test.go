@@ -7,6 +7,8 @@ import (
 	"gonum.org/v1/gonum/mat"
 
 	"furrow/stats/multcomp"
+
+	"furrow/internal/testkit"
 )
 
 type warpRef struct {
@@ -111,7 +113,7 @@ func TestMarginalMeansLogAgainstEmmeans(t *testing.T) {
 	tr := Transform{Kind: TransformLog}
 	m, L := warpFit(t, w, tr)
 	for i, b := range m.beta {
-		if !near(b, w.Coef[i], 1e-10, 1e-12) {
+		if !testkit.Within(b, w.Coef[i], 1e-10, 1e-12) {
 			t.Errorf("coefficient %d = %.15g, R lm %.15g", i, b, w.Coef[i])
 		}
 	}
@@ -126,7 +128,7 @@ func TestMarginalMeansLogAgainstEmmeans(t *testing.T) {
 	}
 	for i, e := range means {
 		chk := func(what string, got, want float64) {
-			if !near(got, want, 1e-9, 1e-12) {
+			if !testkit.Within(got, want, 1e-9, 1e-12) {
 				t.Errorf("%s %s = %.15g, emmeans %.15g", e.Label, what, got, want)
 			}
 		}
@@ -158,7 +160,7 @@ func TestMarginalMeansLogAgainstEmmeans(t *testing.T) {
 			{"p", e.P, r.PairsP[i]}, {"lower", e.Lower, r.PairsLower[i]}, {"upper", e.Upper, r.PairsUpper[i]},
 			{"ratio", ratios[i].Ratio, r.Ratio[i]}, {"ratio lower", ratios[i].Lower, r.RatioLower[i]},
 			{"ratio upper", ratios[i].Upper, r.RatioUpper[i]}} {
-			if !near(c.got, c.want, 1e-9, 1e-13) {
+			if !testkit.Within(c.got, c.want, 1e-9, 1e-13) {
 				t.Errorf("%s %s = %.15g, emmeans %.15g", e.Label, c.what, c.got, c.want)
 			}
 		}
@@ -175,7 +177,7 @@ func TestMarginalMeansLogAgainstEmmeans(t *testing.T) {
 			got, want float64
 		}{{"ratio", vr[i].Ratio, r.TrtVsCtrlRatio[i]}, {"lower", vr[i].Lower, r.TrtVsCtrlLower[i]},
 			{"upper", vr[i].Upper, r.TrtVsCtrlUpper[i]}, {"p", e.P, r.TrtVsCtrlP[i]}} {
-			if !near(c.got, c.want, 1e-9, 1e-13) {
+			if !testkit.Within(c.got, c.want, 1e-9, 1e-13) {
 				t.Errorf("%s (%s) %s = %.15g, emmeans %.15g", e.Label, r.TrtVsCtrl[i], c.what, c.got, c.want)
 			}
 		}
@@ -190,7 +192,7 @@ func TestMarginalMeansLogAgainstEmmeans(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if !near(f.F, r.JointF, 0, 5e-4) || f.NumDF != r.JointDF1 || f.DenDF != r.JointDF2 || !near(f.P, r.JointP, 1e-9, 1e-15) {
+	if !testkit.Within(f.F, r.JointF, 0, 5e-4) || f.NumDF != r.JointDF1 || f.DenDF != r.JointDF2 || !testkit.Within(f.P, r.JointP, 1e-9, 1e-15) {
 		t.Errorf("joint F = %.12g on (%v, %v), p %.12g; emmeans test(joint=TRUE) %.12g on (%v, %v), p %.12g",
 			f.F, f.NumDF, f.DenDF, f.P, r.JointF, r.JointDF1, r.JointDF2, r.JointP)
 	}
@@ -211,7 +213,7 @@ func TestMarginalMeansSqrtAgainstEmmeans(t *testing.T) {
 	}
 	back, _ := BackTransformMeans(tr, means)
 	for i, b := range back {
-		if !near(b.Response, r.Response[i], 1e-9, 0) || !near(b.Lower, r.Lower[i], 1e-9, 0) || !near(b.Upper, r.Upper[i], 1e-9, 0) {
+		if !testkit.Within(b.Response, r.Response[i], 1e-9, 0) || !testkit.Within(b.Lower, r.Lower[i], 1e-9, 0) || !testkit.Within(b.Upper, r.Upper[i], 1e-9, 0) {
 			t.Errorf("%s: %.12g (%.12g, %.12g), emmeans %.12g (%.12g, %.12g)", b.Label, b.Response, b.Lower, b.Upper, r.Response[i], r.Lower[i], r.Upper[i])
 		}
 	}
@@ -254,17 +256,17 @@ func TestFamiliesChickwts(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if !near(a.Critical, dn.Crit, 1e-8, 0) {
+	if !testkit.Within(a.Critical, dn.Crit, 1e-8, 0) {
 		t.Errorf("dunnett critical %.12g, quadrature in R %.12g", a.Critical, dn.Crit)
 	}
 	for i := range vc {
-		if !near(vc[i].Estimate, dn.Estimate[i], 1e-10, 1e-10) {
+		if !testkit.Within(vc[i].Estimate, dn.Estimate[i], 1e-10, 1e-10) {
 			t.Errorf("%s estimate %.12g, glht %.12g", vc[i].Label, vc[i].Estimate, dn.Estimate[i])
 		}
-		if !near(a.PAdjusted[i], dn.PQuad[i], 1e-8, 1e-11) {
+		if !testkit.Within(a.PAdjusted[i], dn.PQuad[i], 1e-8, 1e-11) {
 			t.Errorf("%s dunnett p %.15g, quadrature in R %.15g", vc[i].Label, a.PAdjusted[i], dn.PQuad[i])
 		}
-		if !near(a.PAdjusted[i], dn.PGlht[i], 0, 1e-6) {
+		if !testkit.Within(a.PAdjusted[i], dn.PGlht[i], 0, 1e-6) {
 			t.Errorf("%s dunnett p %.15g, glht %.15g", vc[i].Label, a.PAdjusted[i], dn.PGlht[i])
 		}
 	}
@@ -273,11 +275,11 @@ func TestFamiliesChickwts(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if !near(ag.Critical, dn.CritGreater, 1e-8, 0) {
+	if !testkit.Within(ag.Critical, dn.CritGreater, 1e-8, 0) {
 		t.Errorf("one-sided dunnett critical %.12g, quadrature in R %.12g", ag.Critical, dn.CritGreater)
 	}
 	for i := range vg {
-		if !near(ag.PAdjusted[i], dn.PQuadGreater[i], 1e-8, 1e-11) {
+		if !testkit.Within(ag.PAdjusted[i], dn.PQuadGreater[i], 1e-8, 1e-11) {
 			t.Errorf("%s one-sided dunnett p %.15g, quadrature in R %.15g", vg[i].Label, ag.PAdjusted[i], dn.PQuadGreater[i])
 		}
 		if !math.IsInf(ag.Upper[i], 1) {
@@ -295,14 +297,14 @@ func TestFamiliesChickwts(t *testing.T) {
 		t.Fatal(err)
 	}
 	for i, e := range pw {
-		if !near(-e.Estimate, tk.Diff[i], 1e-10, 1e-10) {
+		if !testkit.Within(-e.Estimate, tk.Diff[i], 1e-10, 1e-10) {
 			t.Errorf("%s: %.12g, TukeyHSD %s %.12g", e.Label, e.Estimate, tk.Comparison[i], tk.Diff[i])
 		}
-		if !near(at.PAdjusted[i], tk.PAdj[i], 0, 2e-7) {
+		if !testkit.Within(at.PAdjusted[i], tk.PAdj[i], 0, 2e-7) {
 			t.Errorf("%s: tukey p %.12g, TukeyHSD %.12g", e.Label, at.PAdjusted[i], tk.PAdj[i])
 		}
 		half := 0.5 * (tk.Upr[i] - tk.Lwr[i])
-		if !near(-at.Upper[i], tk.Lwr[i], 0, 1e-4*half) || !near(-at.Lower[i], tk.Upr[i], 0, 1e-4*half) {
+		if !testkit.Within(-at.Upper[i], tk.Lwr[i], 0, 1e-4*half) || !testkit.Within(-at.Lower[i], tk.Upr[i], 0, 1e-4*half) {
 			t.Errorf("%s: tukey limits (%.8g, %.8g), TukeyHSD (%.8g, %.8g)", e.Label, -at.Upper[i], -at.Lower[i], tk.Lwr[i], tk.Upr[i])
 		}
 	}

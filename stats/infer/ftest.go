@@ -8,6 +8,7 @@ import (
 	"gonum.org/v1/gonum/mat"
 
 	"furrow/stats/dist"
+	"furrow/stats/internal/fsum"
 )
 
 // FTest is a Wald F test of H0: Lβ = 0.
@@ -78,7 +79,7 @@ func WaldFWith(m Model, L mat.Matrix, denDF func(L mat.Matrix) float64) (FTest, 
 		return FTest{}, errors.New("wald f test: L V L' is zero; the hypothesis is not estimable")
 	}
 	var q int
-	var stat kahanSum
+	var stat fsum.Sum
 	for k, e := range vals {
 		if e <= rankTol*maxv {
 			continue
@@ -88,13 +89,13 @@ func WaldFWith(m Model, L mat.Matrix, denDF func(L mat.Matrix) float64) (FTest, 
 		for i := 0; i < r; i++ {
 			u += vecs.At(i, k) * lb.AtVec(i)
 		}
-		stat.add(u * u / e)
+		stat.Add(u * u / e)
 	}
 	ddf := denDF(mat.DenseCopyOf(L))
 	if math.IsNaN(ddf) || ddf <= 0 {
 		return FTest{}, fmt.Errorf("wald f test: denominator degrees of freedom %v", ddf)
 	}
-	f := stat.value() / float64(q)
+	f := stat.Value() / float64(q)
 	res := FTest{F: f, NumDF: float64(q), DenDF: ddf}
 	if math.IsInf(ddf, 1) {
 		res.P = dist.ChiSqUpper(f*float64(q), float64(q))

@@ -2,21 +2,13 @@ package infer
 
 import (
 	"encoding/json"
-	"math"
-	"os"
 	"path/filepath"
 	"testing"
 
 	"gonum.org/v1/gonum/mat"
-)
 
-// near reports whether got is within rel·|want| + abs of want.
-func near(got, want, rel, abs float64) bool {
-	if math.IsInf(want, 0) {
-		return got == want
-	}
-	return math.Abs(got-want) <= rel*math.Abs(want)+abs
-}
+	"furrow/internal/testkit"
+)
 
 // ols is a least-squares fit by Householder QR (gonum), used as the test
 // model: V = s² (R'R)⁻¹ and the residual df for every contrast.
@@ -82,14 +74,8 @@ func fitOLS(t testing.TB, x *mat.Dense, y []float64) *ols {
 // which serve both packages.
 func refJSON(t testing.TB, key string, v any) {
 	t.Helper()
-	b, err := os.ReadFile(filepath.Join("..", "multcomp", "testdata", "ref.json"))
-	if err != nil {
-		t.Fatalf("reading reference values: %v", err)
-	}
 	var raw map[string]json.RawMessage
-	if err := json.Unmarshal(b, &raw); err != nil {
-		t.Fatal(err)
-	}
+	testkit.DecodeFile(t, filepath.Join("..", "multcomp", "testdata", "ref.json"), &raw)
 	if err := json.Unmarshal(raw[key], v); err != nil {
 		t.Fatalf("decoding %s: %v", key, err)
 	}

@@ -8,6 +8,7 @@ import (
 	"gonum.org/v1/gonum/mat"
 
 	"furrow/stats/dist"
+	"furrow/stats/internal/fsum"
 	"furrow/stats/multcomp"
 )
 
@@ -96,11 +97,11 @@ func estimate(m Model, beta []float64, v *mat.SymDense, l []float64, label strin
 	}
 	lc := append([]float64(nil), l...)
 	var est float64
-	var k kahanSum
+	var k fsum.Sum
 	for i := range lc {
-		k.add(lc[i] * beta[i])
+		k.Add(lc[i] * beta[i])
 	}
-	est = k.value()
+	est = k.Value()
 	lv := mat.NewVecDense(len(lc), lc)
 	variance := mat.Inner(lv, v, lv)
 	if !(variance > 0) || math.IsInf(variance, 0) {
@@ -179,18 +180,3 @@ func Contrasts(m Model, L mat.Matrix, labels []string, opt Options) ([]Estimate,
 	}
 	return out, nil
 }
-
-// kahanSum is a compensated (Neumaier) running sum.
-type kahanSum struct{ s, c float64 }
-
-func (k *kahanSum) add(x float64) {
-	t := k.s + x
-	if math.Abs(k.s) >= math.Abs(x) {
-		k.c += (k.s - t) + x
-	} else {
-		k.c += (x - t) + k.s
-	}
-	k.s = t
-}
-
-func (k *kahanSum) value() float64 { return k.s + k.c }

@@ -2,6 +2,8 @@ package infer
 
 import (
 	"testing"
+
+	"furrow/internal/testkit"
 )
 
 type tostRef struct {
@@ -68,7 +70,7 @@ func TestTOSTAgainstTwoTTests(t *testing.T) {
 			{"t lower", e.TLower, r.TLower}, {"p lower", e.PLower, r.PLower},
 			{"t upper", e.TUpper, r.TUpper}, {"p upper", e.PUpper, r.PUpper}, {"df", e.DF, r.DF},
 			{"ci lower", e.CILower, r.CILower}, {"ci upper", e.CIUpper, r.CIUpper}} {
-			if !near(v.got, v.want, 1e-10, 1e-14) {
+			if !testkit.Within(v.got, v.want, 1e-10, 1e-14) {
 				t.Errorf("%s %s = %.15g, R t.test %.15g", c.key, v.what, v.got, v.want)
 			}
 		}
@@ -81,14 +83,14 @@ func TestTOSTAgainstTwoTTests(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		if !near(ni.P, r.PLower, 1e-10, 1e-15) || !near(ni.CIBound, r.CILower, 1e-10, 1e-14) {
+		if !testkit.Within(ni.P, r.PLower, 1e-10, 1e-15) || !testkit.Within(ni.CIBound, r.CILower, 1e-10, 1e-14) {
 			t.Errorf("%s non-inferiority (higher better) p %.15g bound %.15g, R %.15g %.15g", c.key, ni.P, ni.CIBound, r.PLower, r.CILower)
 		}
 		nl, err := NonInferiorityTest(d, c.tr, c.margin(r), LowerIsBetter, 0.05)
 		if err != nil {
 			t.Fatal(err)
 		}
-		if !near(nl.P, r.PUpper, 1e-10, 1e-15) || !near(nl.CIBound, r.CIUpper, 1e-10, 1e-14) {
+		if !testkit.Within(nl.P, r.PUpper, 1e-10, 1e-15) || !testkit.Within(nl.CIBound, r.CIUpper, 1e-10, 1e-14) {
 			t.Errorf("%s non-inferiority (lower better) p %.15g bound %.15g, R %.15g %.15g", c.key, nl.P, nl.CIBound, r.PUpper, r.CIUpper)
 		}
 	}
@@ -104,7 +106,7 @@ func TestInverseTransforms(t *testing.T) {
 			if err != nil {
 				t.Fatal(err)
 			}
-			if back := tr.Inverse(x); !near(back, y, 1e-14, 1e-15) {
+			if back := tr.Inverse(x); !testkit.Within(back, y, 1e-14, 1e-15) {
 				t.Errorf("%v: inverse(apply(%v)) = %v", tr, y, back)
 			}
 		}

@@ -7,6 +7,7 @@ import (
 	"strings"
 
 	"furrow/stats/design"
+	"furrow/stats/dist"
 )
 
 // ANOVA table types.
@@ -130,7 +131,7 @@ func (r *Result) ANOVA(typ int) (*ANOVATable, error) {
 		if df > 0 {
 			row.MS = ss / float64(df)
 			row.F = row.MS / mse
-			row.P = fUpper(row.F, float64(df), float64(r.DFResid))
+			row.P = dist.FUpper(row.F, float64(df), float64(r.DFResid))
 		}
 		tab.Rows = append(tab.Rows, row)
 	}

@@ -7,6 +7,8 @@ import (
 	"gonum.org/v1/gonum/mat"
 
 	"furrow/stats/design"
+
+	"furrow/internal/testkit"
 )
 
 // TestMeansGridAgainstEmmeans checks L b and sqrt(L V L') of the marginal
@@ -44,9 +46,9 @@ func TestMeansGridAgainstEmmeans(t *testing.T) {
 				l := L.RawRowView(r)
 				est := mat.Dot(mat.NewVecDense(len(l), l), mat.NewVecDense(len(b), b))
 				se := math.Sqrt(mat.Inner(mat.NewVecDense(len(l), l), V, mat.NewVecDense(len(l), l)))
-				checkClose(t, coding.String()+" emm "+labels[r], est, c.want["emmean"][r], rTol)
-				checkClose(t, coding.String()+" emm SE "+labels[r], se, c.want["SE"][r], rTol)
-				checkClose(t, "df", res.DF(l), c.want["df"][r], 0)
+				testkit.CheckClose(t, coding.String()+" emm "+labels[r], est, c.want["emmean"][r], rTol)
+				testkit.CheckClose(t, coding.String()+" emm SE "+labels[r], se, c.want["SE"][r], rTol)
+				testkit.CheckClose(t, "df", res.DF(l), c.want["df"][r], 0)
 			}
 		}
 	}
@@ -92,7 +94,7 @@ func TestTypeIIHypothesisWald(t *testing.T) {
 			ss := mat.Dot(&lb, &sol) * s2
 			for k, term := range c.want.Term {
 				if term == tc.Label {
-					checkClose(t, c.name+" Wald SS "+term, ss, *c.want.SS[k], 1e-8)
+					testkit.CheckClose(t, c.name+" Wald SS "+term, ss, *c.want.SS[k], 1e-8)
 				}
 			}
 		}

@@ -7,10 +7,9 @@ import (
 
 	"gonum.org/v1/gonum/floats"
 	"gonum.org/v1/gonum/mat"
-	"gonum.org/v1/gonum/mathext"
-	"gonum.org/v1/gonum/stat/distuv"
 
 	"furrow/stats/design"
+	"furrow/stats/dist"
 )
 
 // DefaultTol is the default relative tolerance of the rank test: a column
@@ -376,7 +375,7 @@ func fit(x mat.Matrix, y []float64, opt *Options, dm *design.Matrix) (*Result, e
 	res.ModelF, res.ModelP = math.NaN(), math.NaN()
 	if res.ModelDF > 0 {
 		res.ModelF = (res.ModelSS / float64(res.ModelDF)) / (res.RSS / df)
-		res.ModelP = fUpper(res.ModelF, float64(res.ModelDF), df)
+		res.ModelP = dist.FUpper(res.ModelF, float64(res.ModelDF), df)
 	}
 
 	// Log-likelihood of the normal model with variance sigma^2/w at the ML
@@ -425,16 +424,23 @@ func (r *Result) toOriginal(g []float64) []float64 {
 		j := r.q.piv[k]
 		b[j] = g[k] / r.scale[j]
 	}
-	if r.ic >= 0 {
-		var s float64
-		for j := range b {
-			if j != r.ic {
-				s += r.center[j] / r.kappa * b[j]
-			}
-		}
-		b[r.ic] -= s
-	}
+	r.uncentre(b)
 	return b
+}
+
+// uncentre moves the centring of the columns into the intercept of b (in
+// place): b_ic -= sum_{j != ic} center_j/kappa b_j.
+func (r *Result) uncentre(b []float64) {
+	if r.ic < 0 {
+		return
+	}
+	var s float64
+	for j := range b {
+		if j != r.ic {
+			s += r.center[j] / r.kappa * b[j]
+		}
+	}
+	b[r.ic] -= s
 }
 
 // covariance returns sigma^2 B B' with B = A R11^{-1}, A the map toOriginal.
@@ -467,13 +473,13 @@ func (r *Result) coefTable() {
 	r.Lower = make([]float64, p)
 	r.Upper = make([]float64, p)
 	df := float64(r.DFResid)
-	tq := distuv.StudentsT{Mu: 0, Sigma: 1, Nu: df}.Quantile(1 - (1-r.Level)/2)
+	tq := dist.TUpperQuantile((1-r.Level)/2, df)
 	for j := 0; j < p; j++ {
 		b := r.coef[j]
 		se := math.Sqrt(r.cov.At(j, j))
 		t := b / se
 		r.Estimate[j], r.StdErr[j], r.TValue[j] = b, se, t
-		r.PValue[j] = tTwoSided(t, df)
+		r.PValue[j] = dist.TTwoSided(t, df)
 		r.Lower[j], r.Upper[j] = b-tq*se, b+tq*se
 	}
 	for _, j := range r.Aliased {
@@ -538,15 +544,7 @@ func (r *Result) nullSpace() [][]float64 {
 		}
 		j := q.piv[k]
 		d[j] = 1 / r.scale[j]
-		if r.ic >= 0 {
-			var s float64
-			for c := range d {
-				if c != r.ic {
-					s += r.center[c] / r.kappa * d[c]
-				}
-			}
-			d[r.ic] -= s
-		}
+		r.uncentre(d)
 		out = append(out, d)
 	}
 	return out
@@ -634,33 +632,6 @@ func (r *Result) Influence() *Influence {
 	})
 	r.infl = inf
 	return inf
-}
-
-// tTwoSided returns P(|T| > |t|) for Student's t with df degrees of freedom,
-// computed directly as the regularised incomplete beta I_{df/(df+t^2)}(df/2, 1/2).
-func tTwoSided(t, df float64) float64 {
-	if math.IsNaN(t) {
-		return math.NaN()
-	}
-	if math.IsInf(t, 0) {
-		return 0
-	}
-	return mathext.RegIncBeta(df/2, 0.5, df/(df+t*t))
-}
-
-// fUpper returns P(F > f) for F on (d1, d2) degrees of freedom, directly as
-// I_{d2/(d2+d1 f)}(d2/2, d1/2).
-func fUpper(f, d1, d2 float64) float64 {
-	if math.IsNaN(f) {
-		return math.NaN()
-	}
-	if math.IsInf(f, 1) {
-		return 0
-	}
-	if f <= 0 {
-		return 1
-	}
-	return mathext.RegIncBeta(d2/2, d1/2, d2/(d2+d1*f))
 }
 
 // wmean is a weighted two-pass mean.

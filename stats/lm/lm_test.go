@@ -7,6 +7,8 @@ import (
 	"testing"
 
 	"gonum.org/v1/gonum/mat"
+
+	"furrow/internal/testkit"
 )
 
 func TestFitErrors(t *testing.T) {
@@ -55,9 +57,9 @@ func TestConstantResponse(t *testing.T) {
 		t.Fatal(err)
 	}
 	// Exact: intercept 5, slope 0, zero residuals.
-	checkClose(t, "intercept", res.Estimate[0], 5, 1e-14)
-	checkClose(t, "slope", res.Estimate[1], 0, 1e-14)
-	checkClose(t, "sigma", res.Sigma, 0, 1e-14)
+	testkit.CheckClose(t, "intercept", res.Estimate[0], 5, 1e-14)
+	testkit.CheckClose(t, "slope", res.Estimate[1], 0, 1e-14)
+	testkit.CheckClose(t, "sigma", res.Sigma, 0, 1e-14)
 	if !math.IsNaN(res.R2) {
 		t.Errorf("R2 = %g, want NaN (no variation)", res.R2)
 	}
@@ -89,8 +91,8 @@ func TestSingularNamed(t *testing.T) {
 		t.Fatal(err)
 	}
 	for j := 0; j < 3; j++ {
-		checkClose(t, "coefficient", res.Estimate[j], sub.Estimate[j], 1e-12)
-		checkClose(t, "SE", res.StdErr[j], sub.StdErr[j], 1e-12)
+		testkit.CheckClose(t, "coefficient", res.Estimate[j], sub.Estimate[j], 1e-12)
+		testkit.CheckClose(t, "SE", res.StdErr[j], sub.StdErr[j], 1e-12)
 	}
 	// x4 = a + 2b: the null direction is (0, 1, 2, -1), so b4 alone is not
 	// estimable but b2 + b4 (the total coefficient of a) is.

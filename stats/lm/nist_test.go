@@ -6,7 +6,6 @@ import (
 	"math"
 	"math/big"
 	"os"
-	"path/filepath"
 	"regexp"
 	"strconv"
 	"strings"
@@ -15,21 +14,18 @@ import (
 	"gonum.org/v1/gonum/mat"
 
 	"furrow/stats/design"
+
+	"furrow/internal/testkit"
 )
 
 // The NIST StRD files are read from the shared reference folder beside the
 // checkout (NIST/ITL Statistical Reference Datasets,
 // https://www.itl.nist.gov/div898/strd/). Certified values are taken from
-// each file's own header at test time.
-const strdDir = "../../../shared/reference/nist-strd"
-
+// each file's own header at test time; strdPath skips (and counts the
+// skip) when a file is absent.
 func strdPath(t *testing.T, sub, name string) string {
 	t.Helper()
-	p := filepath.Join(strdDir, sub, name)
-	if _, err := os.Stat(p); err != nil {
-		t.Skipf("NIST StRD file %s not available (%v); the shared reference folder must sit beside the checkout", p, err)
-	}
-	return p
+	return testkit.SharedPath(t, "nist-strd/"+sub+"/"+name)
 }
 
 // lre is the log relative error -log10(|x-c|/|c|) (absolute when c = 0),

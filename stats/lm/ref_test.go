@@ -1,14 +1,14 @@
 package lm
 
 import (
-	"encoding/json"
 	"math"
-	"os"
 	"strconv"
 	"strings"
 	"testing"
 
 	"furrow/stats/design"
+
+	"furrow/internal/testkit"
 )
 
 // Reference values in testdata/ref.json were produced by testdata/ref.R
@@ -84,44 +84,9 @@ type refFile struct {
 
 func loadRef(t *testing.T) *refFile {
 	t.Helper()
-	b, err := os.ReadFile("testdata/ref.json")
-	if err != nil {
-		t.Fatal(err)
-	}
 	var r refFile
-	if err := json.Unmarshal(b, &r); err != nil {
-		t.Fatal(err)
-	}
+	testkit.DecodeFile(t, "testdata/ref.json", &r)
 	return &r
-}
-
-// close reports whether got is within tol of want, relatively for |want|
-// > 1 and absolutely otherwise.
-func close(got, want, tol float64) bool {
-	if math.IsNaN(got) || math.IsNaN(want) {
-		return math.IsNaN(got) && math.IsNaN(want)
-	}
-	return math.Abs(got-want) <= tol*math.Max(1, math.Abs(want))
-}
-
-func checkClose(t *testing.T, what string, got, want, tol float64) {
-	t.Helper()
-	if !close(got, want, tol) {
-		t.Errorf("%s = %.15g, want %.15g (tol %g)", what, got, want, tol)
-	}
-}
-
-func checkSlice(t *testing.T, what string, got, want []float64, tol float64) {
-	t.Helper()
-	if len(got) != len(want) {
-		t.Fatalf("%s: %d values, want %d", what, len(got), len(want))
-	}
-	for i := range got {
-		if !close(got[i], want[i], tol) {
-			t.Errorf("%s[%d] = %.15g, want %.15g (tol %g)", what, i, got[i], want[i], tol)
-			return
-		}
-	}
 }
 
 // rName converts one of our column names to R's: "A[a2]:B[b1]" becomes
@@ -187,28 +152,28 @@ func compareFit(t *testing.T, res *Result, m *design.Matrix, levels map[string][
 			}
 			continue
 		}
-		checkClose(t, name+" estimate", res.Estimate[j], *want.Coef[k], tol)
-		checkClose(t, name+" SE", res.StdErr[j], *want.SE[k], tol)
-		checkClose(t, name+" p", res.PValue[j], *want.P[k], tol)
-		checkClose(t, name+" lower", res.Lower[j], *want.Lower[k], tol)
-		checkClose(t, name+" upper", res.Upper[j], *want.Upper[k], tol)
+		testkit.CheckClose(t, name+" estimate", res.Estimate[j], *want.Coef[k], tol)
+		testkit.CheckClose(t, name+" SE", res.StdErr[j], *want.SE[k], tol)
+		testkit.CheckClose(t, name+" p", res.PValue[j], *want.P[k], tol)
+		testkit.CheckClose(t, name+" lower", res.Lower[j], *want.Lower[k], tol)
+		testkit.CheckClose(t, name+" upper", res.Upper[j], *want.Upper[k], tol)
 	}
 	if res.Rank != want.Rank || res.DFResid != want.DFResidual {
 		t.Errorf("rank %d df %d, want %d %d", res.Rank, res.DFResid, want.Rank, want.DFResidual)
 	}
-	checkClose(t, "sigma", res.Sigma, want.Sigma, tol)
-	checkClose(t, "R2", res.R2, want.R2, tol)
-	checkClose(t, "adjusted R2", res.AdjR2, want.AdjR2, tol)
-	checkClose(t, "logLik", res.LogLik, want.LogLik, tol)
-	checkClose(t, "AIC", res.AIC, want.AIC, tol)
-	checkClose(t, "BIC", res.BIC, want.BIC, tol)
-	checkSlice(t, "fitted", res.Fitted, want.Fitted, tol)
-	checkSlice(t, "residuals", res.Resid, want.Residuals, tol)
+	testkit.CheckClose(t, "sigma", res.Sigma, want.Sigma, tol)
+	testkit.CheckClose(t, "R2", res.R2, want.R2, tol)
+	testkit.CheckClose(t, "adjusted R2", res.AdjR2, want.AdjR2, tol)
+	testkit.CheckClose(t, "logLik", res.LogLik, want.LogLik, tol)
+	testkit.CheckClose(t, "AIC", res.AIC, want.AIC, tol)
+	testkit.CheckClose(t, "BIC", res.BIC, want.BIC, tol)
+	testkit.CheckSlice(t, "fitted", res.Fitted, want.Fitted, tol)
+	testkit.CheckSlice(t, "residuals", res.Resid, want.Residuals, tol)
 	inf := res.Influence()
-	checkSlice(t, "leverage", inf.Leverage, want.Hat, tol)
-	checkSlice(t, "standardised residuals", inf.Standardized, want.RStandard, tol)
-	checkSlice(t, "studentised residuals", inf.Studentized, want.RStudent, tol)
-	checkSlice(t, "Cook's distance", inf.Cook, want.Cooks, tol)
+	testkit.CheckSlice(t, "leverage", inf.Leverage, want.Hat, tol)
+	testkit.CheckSlice(t, "standardised residuals", inf.Standardized, want.RStandard, tol)
+	testkit.CheckSlice(t, "studentised residuals", inf.Studentized, want.RStudent, tol)
+	testkit.CheckSlice(t, "Cook's distance", inf.Cook, want.Cooks, tol)
 	// Covariance of the estimable coefficients (R: vcov(fit, complete=FALSE)).
 	var est []int
 	for k, name := range want.CoefNames {
@@ -219,7 +184,7 @@ func compareFit(t *testing.T, res *Result, m *design.Matrix, levels map[string][
 	cov := res.CoefCov()
 	for a, ja := range est {
 		for b, jb := range est {
-			checkClose(t, "covariance "+res.Names[ja]+","+res.Names[jb], cov.At(ja, jb), want.VCovComplete[a][b], tol)
+			testkit.CheckClose(t, "covariance "+res.Names[ja]+","+res.Names[jb], cov.At(ja, jb), want.VCovComplete[a][b], tol)
 		}
 	}
 }
@@ -246,10 +211,10 @@ func compareTable(t *testing.T, what string, got *ANOVATable, want rTab, tol flo
 		if r.DF != want.DF[k] {
 			t.Errorf("%s %s: df %d, want %d", what, term, r.DF, want.DF[k])
 		}
-		checkClose(t, what+" "+term+" SS", r.SS, *want.SS[k], tol)
+		testkit.CheckClose(t, what+" "+term+" SS", r.SS, *want.SS[k], tol)
 		if k < len(want.F) && want.F[k] != nil {
-			checkClose(t, what+" "+term+" F", r.F, *want.F[k], tol)
-			checkClose(t, what+" "+term+" p", r.P, *want.P[k], tol)
+			testkit.CheckClose(t, what+" "+term+" F", r.F, *want.F[k], tol)
+			testkit.CheckClose(t, what+" "+term+" p", r.P, *want.P[k], tol)
 		}
 	}
 }
@@ -302,21 +267,14 @@ func TestNpkAgainstR(t *testing.T) {
 	}
 	// Type I of the oracle case (R 4.2.2 anova(lm(yield ~ block + N*P*K))),
 	// read from the shared reference folder when present.
-	checkOracleNpk(t, t1)
+	t.Run("oracle case01 npk", func(t *testing.T) { checkOracleNpk(t, t1) })
 }
 
 func checkOracleNpk(t *testing.T, t1 *ANOVATable) {
-	b, err := os.ReadFile("../../../shared/reference/oracle/ref/case01_npk.json")
-	if err != nil {
-		t.Logf("oracle case01_npk.json not available, skipping that cross-check: %v", err)
-		return
-	}
 	var o struct {
 		Type1 []map[string]any `json:"anova_type1"`
 	}
-	if err := json.Unmarshal(b, &o); err != nil {
-		t.Fatal(err)
-	}
+	testkit.ReadJSON(t, testkit.SharedPath(t, "oracle/ref/case01_npk.json"), &o)
 	rows := map[string]ANOVARow{}
 	for _, r := range t1.Rows {
 		rows[strings.ReplaceAll(strings.ReplaceAll(r.Term, "[", ""), "]", "")] = r
@@ -331,7 +289,7 @@ func checkOracleNpk(t *testing.T, t1 *ANOVATable) {
 			continue
 		}
 		n++
-		checkClose(t, "oracle type I "+term+" SS", r.SS, ss, rTol)
+		testkit.CheckClose(t, "oracle type I "+term+" SS", r.SS, ss, rTol)
 	}
 	if n == 0 {
 		t.Error("oracle case01: no type I rows matched")

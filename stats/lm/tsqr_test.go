@@ -9,6 +9,8 @@ import (
 	"testing"
 
 	"gonum.org/v1/gonum/mat"
+
+	"furrow/internal/testkit"
 )
 
 // bigData builds the 41000-row weighted problem of testdata/big.R: more
@@ -34,11 +36,6 @@ func bigData() (*mat.Dense, []float64, []float64) {
 		}
 	}
 	return x, y, w
-}
-
-// relClose reports whether got is within tol of want relative to |want|.
-func relClose(got, want, tol float64) bool {
-	return math.Abs(got-want) <= tol*math.Abs(want)
 }
 
 // TestLargeAgainstR checks a fit that runs through several row chunks
@@ -83,19 +80,19 @@ func TestLargeAgainstR(t *testing.T) {
 		if ref.SE[j] == nil {
 			continue
 		}
-		if !relClose(coef[j], ref.Coef[j], tol) {
+		if !testkit.RelClose(coef[j], ref.Coef[j], tol) {
 			t.Errorf("coef[%d] = %.15g, want %.15g (R 4.2.2, rel %g)", j, coef[j], ref.Coef[j], tol)
 		}
-		if !relClose(res.StdErr[j], *ref.SE[j], tol) {
+		if !testkit.RelClose(res.StdErr[j], *ref.SE[j], tol) {
 			t.Errorf("se[%d] = %.15g, want %.15g (R 4.2.2, rel %g)", j, res.StdErr[j], *ref.SE[j], tol)
 		}
 	}
-	if !relClose(res.Sigma, ref.Sigma, tol) || !relClose(res.R2, ref.R2, tol) {
+	if !testkit.RelClose(res.Sigma, ref.Sigma, tol) || !testkit.RelClose(res.R2, ref.R2, tol) {
 		t.Errorf("sigma %.15g R2 %.15g, want %.15g %.15g (R 4.2.2, rel %g)", res.Sigma, res.R2, ref.Sigma, ref.R2, tol)
 	}
 	inf := res.Influence()
 	for k, i := range ref.Rows {
-		if !relClose(inf.Leverage[i], ref.Hat[k], tol) || !relClose(inf.Cook[i], ref.Cook[k], tol) || !relClose(inf.Studentized[i], ref.RStudent[k], tol) {
+		if !testkit.RelClose(inf.Leverage[i], ref.Hat[k], tol) || !testkit.RelClose(inf.Cook[i], ref.Cook[k], tol) || !testkit.RelClose(inf.Studentized[i], ref.RStudent[k], tol) {
 			t.Errorf("row %d: leverage %.15g cook %.15g rstudent %.15g, want %.15g %.15g %.15g (R 4.2.2 hatvalues, cooks.distance, rstudent; rel %g)",
 				i, inf.Leverage[i], inf.Cook[i], inf.Studentized[i], ref.Hat[k], ref.Cook[k], ref.RStudent[k], tol)
 		}

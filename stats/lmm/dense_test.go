@@ -5,6 +5,8 @@ import (
 	"testing"
 
 	"gonum.org/v1/gonum/mat"
+
+	"furrow/internal/testkit"
 )
 
 // denseREML computes the profiled REML criterion, beta and the BLUPs by
@@ -122,15 +124,15 @@ func TestStructuredEqualsDense(t *testing.T) {
 			t.Fatal(err)
 		}
 		want, _, _ := denseREML(ys, Xs, gs, th)
-		check(t, "criterion vs dense", s.profiled(e, REML), want, 1e-11, 0)
+		testkit.CheckWithin(t, "criterion vs dense", s.profiled(e, REML), want, 1e-11, 0)
 	}
 	_, beta, blups := denseREML(ys, Xs, gs, fit.Theta())
 	for j := range beta {
-		check(t, "beta vs dense", fit.Coef[j].Estimate, beta[j], 1e-9, 1e-12)
+		testkit.CheckWithin(t, "beta vs dense", fit.Coef[j].Estimate, beta[j], 1e-9, 1e-12)
 	}
 	for k := range blups {
 		for a := range blups[k] {
-			check(t, "blup vs dense "+gs[k].Name, fit.BLUPs[k][a], blups[k][a], 1e-8, 1e-10)
+			testkit.CheckWithin(t, "blup vs dense "+gs[k].Name, fit.BLUPs[k][a], blups[k][a], 1e-8, 1e-10)
 		}
 	}
 }

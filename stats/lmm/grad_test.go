@@ -7,6 +7,8 @@ import (
 	"testing"
 
 	"gonum.org/v1/gonum/mat"
+
+	"furrow/internal/testkit"
 )
 
 // fdGrad is a central-difference gradient with two Richardson
@@ -132,7 +134,7 @@ func TestAnalyticGradient(t *testing.T) {
 					got := make([]float64, k)
 					sys.profGrad(th, pr, crit, s2, got)
 					for i := range got {
-						check(t, fmt.Sprintf("%s %v s2=%v theta=%v d/dtheta_%d", c.name, crit, s2, th, i), got[i], want[i], 1e-7, 1e-7)
+						testkit.CheckWithin(t, fmt.Sprintf("%s %v s2=%v theta=%v d/dtheta_%d", c.name, crit, s2, th, i), got[i], want[i], 1e-7, 1e-7)
 					}
 				}
 			}
@@ -170,7 +172,7 @@ func TestCovDerivative(t *testing.T) {
 					}
 					want := fdGrad(f, th)[i]
 					got := 2 / th[i] * pr.sux[i].At(a, b)
-					check(t, fmt.Sprintf("%s dCov[%d,%d]/dtheta_%d", c.name, a, b, i), got, want, 1e-6, 1e-9*math.Abs(covBeta(pr.e, p, 1).At(a, a)))
+					testkit.CheckWithin(t, fmt.Sprintf("%s dCov[%d,%d]/dtheta_%d", c.name, a, b, i), got, want, 1e-6, 1e-9*math.Abs(covBeta(pr.e, p, 1).At(a, a)))
 				}
 			}
 		}
@@ -207,7 +209,7 @@ func TestAnalyticOptimum(t *testing.T) {
 				t.Errorf("%s %v: analytic optimum %.12g worse than %.12g", c.name, crit, fa, fn)
 			}
 			for i := range ta {
-				check(t, fmt.Sprintf("%s %v theta_%d", c.name, crit, i), ta[i], tn[i], 1e-6, 1e-8)
+				testkit.CheckWithin(t, fmt.Sprintf("%s %v theta_%d", c.name, crit, i), ta[i], tn[i], 1e-6, 1e-8)
 			}
 		}
 	}
@@ -231,7 +233,7 @@ func TestAnalyticSatterthwaite(t *testing.T) {
 			for j := 0; j < fit.P; j++ {
 				l := make([]float64, fit.P)
 				l[j] = 1
-				check(t, fmt.Sprintf("%s %v df of coefficient %d", c.name, crit, j), fit.sat.df(l, fit.cov), num.df(l, fit.cov), 1e-6, 0)
+				testkit.CheckWithin(t, fmt.Sprintf("%s %v df of coefficient %d", c.name, crit, j), fit.sat.df(l, fit.cov), num.df(l, fit.cov), 1e-6, 0)
 			}
 			if fit.P < 2 {
 				continue
@@ -251,7 +253,7 @@ func TestAnalyticSatterthwaite(t *testing.T) {
 			if err != nil {
 				t.Fatal(err)
 			}
-			check(t, fmt.Sprintf("%s %v multi-df F df", c.name, crit), an.DenDF, nu.DenDF, 1e-6, 0)
+			testkit.CheckWithin(t, fmt.Sprintf("%s %v multi-df F df", c.name, crit), an.DenDF, nu.DenDF, 1e-6, 0)
 		}
 	}
 }
@@ -346,7 +348,7 @@ func TestAnalyticOptimumRandomDesigns(t *testing.T) {
 			t.Errorf("design %d: analytic optimum %.12g worse than %.12g", rep, fa, fn)
 		}
 		for i := range ta {
-			check(t, fmt.Sprintf("design %d theta_%d", rep, i), ta[i], tn[i], 1e-5, 1e-6)
+			testkit.CheckWithin(t, fmt.Sprintf("design %d theta_%d", rep, i), ta[i], tn[i], 1e-5, 1e-6)
 		}
 	}
 }
@@ -378,7 +380,7 @@ func TestGradientSmallTheta(t *testing.T) {
 					}
 					ratio[i] = g[k] / v
 				}
-				check(t, fmt.Sprintf("%s %v g_%d/theta_%d near zero", c.name, crit, k, k), ratio[0], ratio[1], 1e-6, 1e-9)
+				testkit.CheckWithin(t, fmt.Sprintf("%s %v g_%d/theta_%d near zero", c.name, crit, k, k), ratio[0], ratio[1], 1e-6, 1e-9)
 			}
 		}
 	}

@@ -6,7 +6,8 @@ import (
 	"math"
 
 	"gonum.org/v1/gonum/mat"
-	"gonum.org/v1/gonum/mathext"
+
+	"furrow/stats/dist"
 )
 
 // satInfo carries what Satterthwaite's approximation needs: the asymptotic
@@ -17,7 +18,7 @@ import (
 // that rounding in the criterion (whose terms cancel) stays below 1e-7 of
 // the curvature, small enough that the Richardson-extrapolated truncation
 // error (order h^4) is negligible.
-var satRel = 1e-2
+const satRel = 1e-2
 
 type satInfo struct {
 	A *mat.SymDense
@@ -125,16 +126,26 @@ func (s *system) satterthwaite(theta []float64, sigma float64, crit Criterion) (
 			H.SetSym(i, j, (4*hij[1]-hij[0])/3)
 		}
 	}
+	for i := 0; i < k; i++ {
+		H.SetSym(k, i, -2*dr2[i]/(s2*sigma))
+	}
+	return s.satFinish(H, J, sigma, c0.r2, crit, c0.cov)
+}
+
+// satFinish completes the Satterthwaite pieces from the theta block and
+// sigma row of the Hessian H (all but its last diagonal entry) and the
+// theta derivatives J[:k] of Cov(beta): the analytic sigma-sigma curvature
+// and sigma derivative, then A = 2 H^+.
+func (s *system) satFinish(H *mat.SymDense, J []*mat.SymDense, sigma, r2 float64, crit Criterion, cov *mat.SymDense) (*satInfo, error) {
+	k, p := s.nf, s.p
+	s2 := sigma * sigma
 	n := float64(s.n)
 	if crit == REML {
 		n -= float64(p)
 	}
-	for i := 0; i < k; i++ {
-		H.SetSym(k, i, -2*dr2[i]/(s2*sigma))
-	}
-	H.SetSym(k, k, -2*n/s2+6*c0.r2/(s2*s2))
+	H.SetSym(k, k, -2*n/s2+6*r2/(s2*s2))
 	js := mat.NewSymDense(p, nil)
-	js.ScaleSym(2/sigma, c0.cov)
+	js.ScaleSym(2/sigma, cov)
 	J[k] = js
 	A, err := pinvSym(H)
 	if err != nil {
@@ -142,6 +153,18 @@ func (s *system) satterthwaite(theta []float64, sigma float64, crit Criterion) (
 	}
 	A.ScaleSym(2, A)
 	return &satInfo{A: A, J: J}, nil
+}
+
+// symPart returns (M + M')/2 for a square M.
+func symPart(M mat.Matrix) *mat.SymDense {
+	n, _ := M.Dims()
+	S := mat.NewSymDense(n, nil)
+	for i := 0; i < n; i++ {
+		for j := 0; j <= i; j++ {
+			S.SetSym(i, j, (M.At(i, j)+M.At(j, i))/2)
+		}
+	}
+	return S
 }
 
 // pinvSym inverts a symmetric matrix through its eigen-decomposition,
@@ -354,13 +377,7 @@ func (r *Result) FTest(L mat.Matrix, m Method) (TermTest, error) {
 func (r *Result) satF(L mat.Matrix) (TermTest, error) {
 	var M mat.Dense
 	M.Product(L, r.cov, L.T())
-	q, _ := M.Dims()
-	Ms := mat.NewSymDense(q, nil)
-	for i := 0; i < q; i++ {
-		for j := 0; j <= i; j++ {
-			Ms.SetSym(i, j, (M.At(i, j)+M.At(j, i))/2)
-		}
-	}
+	Ms := symPart(&M)
 	var es mat.EigenSym
 	if !es.Factorize(Ms, true) {
 		return TermTest{}, errors.New("eigen-decomposition of the hypothesis covariance did not converge")
@@ -393,7 +410,7 @@ func (r *Result) satF(L mat.Matrix) (TermTest, error) {
 	}
 	F := fsum / float64(k)
 	df := combineNu(nus)
-	return TermTest{NumDF: k, DenDF: df, F: F, P: fUpper(F, float64(k), df)}, nil
+	return TermTest{NumDF: k, DenDF: df, F: F, P: dist.FUpper(F, float64(k), df)}, nil
 }
 
 // combineNu merges the per-direction df of a multi-df test (Fai &
@@ -425,31 +442,4 @@ func combineNu(nus []float64) float64 {
 	}
 	q := float64(len(nus))
 	return 2 * E / (E - q)
-}
-
-// fUpper returns P(F > f) on (d1, d2) df via the regularised incomplete
-// beta function, computed directly as an upper tail.
-func fUpper(f, d1, d2 float64) float64 {
-	if math.IsNaN(f) || math.IsNaN(d2) {
-		return math.NaN()
-	}
-	if f <= 0 {
-		return 1
-	}
-	if math.IsInf(d2, 1) {
-		// chi-square(d1)/d1 limit.
-		return mathext.GammaIncRegComp(d1/2, d1*f/2)
-	}
-	return mathext.RegIncBeta(d2/2, d1/2, d2/(d2+d1*f))
-}
-
-// twoSidedT returns P(|T| > |t|) on df degrees of freedom.
-func twoSidedT(t, df float64) float64 {
-	if math.IsNaN(t) || math.IsNaN(df) {
-		return math.NaN()
-	}
-	if math.IsInf(df, 1) {
-		return math.Erfc(math.Abs(t) / math.Sqrt2)
-	}
-	return mathext.RegIncBeta(df/2, 0.5, df/(df+t*t))
 }

@@ -6,6 +6,8 @@ import (
 	"math"
 
 	"gonum.org/v1/gonum/mat"
+
+	"furrow/stats/dist"
 )
 
 // krInfo holds the Kenward & Roger (1997, Biometrics 53:983) quantities in
@@ -20,7 +22,7 @@ type krInfo struct {
 
 // maxDenseKR bounds the dense matrices of the Kenward-Roger pieces with
 // more than one grouping factor: the levels outside the largest factor
-// (krBlock), or all levels (krDense, the test oracle).
+// (krBlock), or all levels (krDense, the test oracle in kr_dense_test.go).
 const maxDenseKR = 2500
 
 func (r *Result) krInfo() (*krInfo, error) {
@@ -44,6 +46,17 @@ func (r *Result) krInfo() (*krInfo, error) {
 // equals S/s_e - sum_k tau_k Z_k Z_k' (tau_k = theta_k^2), and P S P = P,
 // so its terms follow from the random-term ones.
 func (s *system) kenwardRoger(theta []float64, s2 float64, phi *mat.SymDense) (*krInfo, error) {
+	return s.kenwardRogerWith(theta, s2, phi, (*system).krBlock)
+}
+
+// krPiecesFunc fills P_k, Q_kl, ||Zt_kl||^2 and tr(Zt_kk) for several
+// grouping factors.
+type krPiecesFunc func(s *system, theta []float64, s2 float64, Pk []*mat.Dense, Q [][]*mat.Dense, frob *mat.Dense, trZ []float64) error
+
+// kenwardRogerWith is kenwardRoger with the route to the pieces for
+// several grouping factors given (krBlock in production; the tests pass
+// the dense oracle to check it).
+func (s *system) kenwardRogerWith(theta []float64, s2 float64, phi *mat.SymDense, pieces krPiecesFunc) (*krInfo, error) {
 	K := s.nf
 	p := s.p
 	p1 := p + 1
@@ -106,7 +119,7 @@ func (s *system) kenwardRoger(theta []float64, s2 float64, phi *mat.SymDense) (*
 		frob.Set(0, 0, fr)
 		trZ[0] = tr
 	} else {
-		if err := krPieces(s, theta, s2, Pk, Q, frob, trZ); err != nil {
+		if err := pieces(s, theta, s2, Pk, Q, frob, trZ); err != nil {
 			return nil, err
 		}
 	}
@@ -237,148 +250,12 @@ func (s *system) kenwardRoger(theta []float64, s2 float64, phi *mat.SymDense) (*
 	return &krInfo{phi: phi, phiA: phiA, P: Pk, W: W}, nil
 }
 
-// krPieces selects the route for several grouping factors; tests swap it
-// to compare the block and the dense route.
-var krPieces = (*system).krBlock
-
-// krDense fills P_k, Q_kl, ||Zt_kl||^2 and tr(Zt_kk) with dense matrices
-// in the random-effects space (several grouping factors).
-func (s *system) krDense(theta []float64, s2 float64, Pk []*mat.Dense, Q [][]*mat.Dense, frob *mat.Dense, trZ []float64) error {
-	K := s.nf
-	p, p1 := s.p, s.p+1
-	off := make([]int, K+1)
-	for k := 0; k < K; k++ {
-		off[k+1] = off[k] + s.q[k]
-	}
-	qt := off[K]
-	if qt > maxDenseKR {
-		return fmt.Errorf("%d random-effect levels over several grouping factors exceed the dense limit of %d; use Satterthwaite", qt, maxDenseKR)
-	}
-	C := mat.NewSymDense(qt, nil)
-	ZX := mat.NewDense(qt, p, nil)
-	for k := 0; k < K; k++ {
-		for a, d := range s.d[k] {
-			C.SetSym(off[k]+a, off[k]+a, d)
-			for c := 0; c < p; c++ {
-				ZX.Set(off[k]+a, c, s.zxy[k][a*p1+c])
-			}
-		}
-	}
-	for j := 0; j+1 < s.s; j++ {
-		for a, d := range s.d[j] {
-			b := a
-			for jj := j + 1; jj < s.s; jj++ {
-				b = s.par[jj-1][b]
-				C.SetSym(off[j]+a, off[jj]+b, d)
-			}
-		}
-	}
-	if s.m > 0 {
-		ro := off[s.s]
-		for i := 0; i < s.m; i++ {
-			for j := 0; j < i; j++ {
-				if v := s.restC[i*s.m+j]; v != 0 && s.facOf[i] != s.facOf[j] {
-					C.SetSym(ro+i, ro+j, v)
-				}
-			}
-		}
-		for j := 0; j < s.s; j++ {
-			for a := 0; a < s.q[j]; a++ {
-				for e := s.ptr[j][a]; e < s.ptr[j][a+1]; e++ {
-					C.SetSym(off[j]+a, ro+s.col[j][e], s.val[j][e])
-				}
-			}
-		}
-	}
-	lam := make([]float64, qt)
-	for k := 0; k < K; k++ {
-		for a := 0; a < s.q[k]; a++ {
-			lam[off[k]+a] = theta[k]
-		}
-	}
-	A := mat.NewSymDense(qt, nil)
-	for i := 0; i < qt; i++ {
-		for j := 0; j <= i; j++ {
-			v := lam[i] * lam[j] * C.At(i, j)
-			if i == j {
-				v++
-			}
-			A.SetSym(i, j, v)
-		}
-	}
-	var ch mat.Cholesky
-	if !ch.Factorize(A) {
-		return errors.New("random-effects block is not positive definite")
-	}
-	// B = Lambda [C | ZX]; solve A X = B; then Zt = (C - B' X)/s2, U = (ZX - Lambda C A^{-1} Lambda ZX)/s2.
-	B := mat.NewDense(qt, qt+p, nil)
-	for i := 0; i < qt; i++ {
-		for j := 0; j < qt; j++ {
-			B.Set(i, j, lam[i]*C.At(i, j))
-		}
-		for c := 0; c < p; c++ {
-			B.Set(i, qt+c, lam[i]*ZX.At(i, c))
-		}
-	}
-	var Xs mat.Dense
-	if err := ch.SolveTo(&Xs, B); err != nil {
-		return err
-	}
-	var G mat.Dense
-	G.Mul(B.Slice(0, qt, 0, qt).T(), &Xs) // Lambda C A^{-1} Lambda [C | ZX]
-	Zt := mat.NewDense(qt, qt, nil)
-	U := mat.NewDense(qt, p, nil)
-	for i := 0; i < qt; i++ {
-		for j := 0; j < qt; j++ {
-			Zt.Set(i, j, (C.At(i, j)-G.At(i, j))/s2)
-		}
-		for c := 0; c < p; c++ {
-			U.Set(i, c, (ZX.At(i, c)-G.At(i, qt+c))/s2)
-		}
-	}
-	for k := 0; k < K; k++ {
-		Uk := U.Slice(off[k], off[k+1], 0, p)
-		var P mat.Dense
-		P.Mul(Uk.T(), Uk)
-		Pk[k] = &P
-		var tr float64
-		for a := off[k]; a < off[k+1]; a++ {
-			tr += Zt.At(a, a)
-		}
-		trZ[k] = tr
-		for l := 0; l <= k; l++ {
-			Zkl := Zt.Slice(off[k], off[k+1], off[l], off[l+1])
-			var fr float64
-			for a := 0; a < off[k+1]-off[k]; a++ {
-				for b := 0; b < off[l+1]-off[l]; b++ {
-					v := Zkl.At(a, b)
-					fr += v * v
-				}
-			}
-			frob.Set(k, l, fr)
-			frob.Set(l, k, fr)
-			Ul := U.Slice(off[l], off[l+1], 0, p)
-			var t mat.Dense
-			t.Mul(Zkl, Ul)
-			var qkl mat.Dense
-			qkl.Mul(Uk.T(), &t)
-			Q[k][l] = &qkl
-		}
-	}
-	return nil
-}
-
 // test is the Kenward-Roger F test of L b = 0 (Kenward & Roger 1997, sec. 4).
 func (kr *krInfo) test(L mat.Matrix, beta []float64) (TermTest, error) {
 	l, p := L.Dims()
 	var M mat.Dense
 	M.Product(L, kr.phi, L.T())
-	Ms := mat.NewSymDense(l, nil)
-	for i := 0; i < l; i++ {
-		for j := 0; j <= i; j++ {
-			Ms.SetSym(i, j, (M.At(i, j)+M.At(j, i))/2)
-		}
-	}
+	Ms := symPart(&M)
 	Minv, err := pinvSym(Ms)
 	if err != nil {
 		return TermTest{}, err
@@ -449,5 +326,5 @@ func (kr *krInfo) test(L mat.Matrix, beta []float64) (TermTest, error) {
 	lb.MulVec(L, mat.NewVecDense(p, beta))
 	F := mat.Inner(&lb, MAinv, &lb) / ell
 	Fs := lam * F
-	return TermTest{NumDF: rank, DenDF: m, F: Fs, P: fUpper(Fs, ell, m)}, nil
+	return TermTest{NumDF: rank, DenDF: m, F: Fs, P: dist.FUpper(Fs, ell, m)}, nil
 }

@@ -9,7 +9,8 @@ import (
 	"gonum.org/v1/gonum/floats"
 	"gonum.org/v1/gonum/mat"
 	"gonum.org/v1/gonum/optimize"
-	"gonum.org/v1/gonum/stat/distuv"
+
+	"furrow/stats/dist"
 )
 
 // Grouping is one grouping factor of a random intercept: Index holds the
@@ -232,17 +233,10 @@ func Fit(y []float64, X mat.Matrix, groups []Grouping, opt *Options) (*Result, e
 // fillT completes t, p and the interval from estimate, SE and DF.
 func fillT(c Coef, level float64) Coef {
 	c.T = c.Estimate / c.SE
-	c.P = twoSidedT(c.T, c.DF)
-	q := tQuantile(0.5+level/2, c.DF)
+	c.P = dist.TTwoSided(c.T, c.DF)
+	q := dist.TUpperQuantile((1-level)/2, c.DF)
 	c.Lower, c.Upper = c.Estimate-q*c.SE, c.Estimate+q*c.SE
 	return c
-}
-
-func tQuantile(p, df float64) float64 {
-	if !(df > 0) || math.IsNaN(df) {
-		return math.NaN()
-	}
-	return distuv.StudentsT{Mu: 0, Sigma: 1, Nu: df}.Quantile(p)
 }
 
 // checkGroupings rejects groupings that cannot carry a variance component.

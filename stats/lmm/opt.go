@@ -65,12 +65,7 @@ func (ge *gradEvaluator) fdHessian(x []float64, sigma2 float64) (*mat.SymDense, 
 			H.Set(j, i, (gp[j]-gm[j])/(2*h))
 		}
 	}
-	Hs := mat.NewSymDense(k, nil)
-	for i := 0; i < k; i++ {
-		for j := 0; j <= i; j++ {
-			Hs.SetSym(i, j, (H.At(i, j)+H.At(j, i))/2)
-		}
-	}
+	Hs := symPart(H)
 	return Hs, nil
 }
 
@@ -93,12 +88,7 @@ func (ge *gradEvaluator) fwdHessian(x, g []float64) (*mat.SymDense, error) {
 			H.Set(j, i, (gp[j]-g[j])/h)
 		}
 	}
-	Hs := mat.NewSymDense(k, nil)
-	for i := 0; i < k; i++ {
-		for j := 0; j <= i; j++ {
-			Hs.SetSym(i, j, (H.At(i, j)+H.At(j, i))/2)
-		}
-	}
+	Hs := symPart(H)
 	return Hs, nil
 }
 
@@ -310,10 +300,6 @@ func (s *system) satterthwaiteAnalytic(theta []float64, sigma float64, crit Crit
 			H.SetSym(i, j, Hth.At(i, j))
 		}
 	}
-	n := float64(s.n)
-	if crit == REML {
-		n -= float64(p)
-	}
 	J := make([]*mat.SymDense, k+1)
 	for i := 0; i < k; i++ {
 		J[i] = mat.NewSymDense(p, nil)
@@ -324,14 +310,5 @@ func (s *system) satterthwaiteAnalytic(theta []float64, sigma float64, crit Crit
 		H.SetSym(k, i, -2*dr2/(s2*sigma))
 		J[i].ScaleSym(2*s2/theta[i], pr.sux[i])
 	}
-	H.SetSym(k, k, -2*n/s2+6*pr.e.r2/(s2*s2))
-	js := mat.NewSymDense(p, nil)
-	js.ScaleSym(2/sigma, cov)
-	J[k] = js
-	A, err := pinvSym(H)
-	if err != nil {
-		return nil, err
-	}
-	A.ScaleSym(2, A)
-	return &satInfo{A: A, J: J}, nil
+	return s.satFinish(H, J, sigma, pr.e.r2, crit, cov)
 }

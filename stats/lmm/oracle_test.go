@@ -10,16 +10,18 @@ import (
 	"testing"
 
 	"gonum.org/v1/gonum/mat"
+
+	"furrow/internal/testkit"
 )
 
-// refDir is the shared reference folder beside the checkout.
-var refDir = filepath.Join("..", "..", "..", "shared", "reference")
-
-func readCSV(t *testing.T, path string) []map[string]string {
+// readCSV reads a CSV (or tab-separated .txt) file under the shared
+// reference folder, skipping when it is absent.
+func readCSV(t *testing.T, rel string) []map[string]string {
 	t.Helper()
+	path := testkit.SharedPath(t, rel)
 	f, err := os.Open(path)
 	if err != nil {
-		t.Skipf("reference data not available (%v): the shared reference folder must sit beside the checkout", err)
+		t.Fatalf("reading %s: %v", rel, err)
 	}
 	defer f.Close()
 	r := csv.NewReader(f)
@@ -110,14 +112,8 @@ func (c closedForm) get(t *testing.T, k string) float64 {
 
 func loadOracle(t *testing.T) map[string]json.RawMessage {
 	t.Helper()
-	b, err := os.ReadFile(filepath.Join(refDir, "oracle", "ref", "case03_dyestuff_penicillin.json"))
-	if err != nil {
-		t.Skipf("reference values not available (%v)", err)
-	}
 	var m map[string]json.RawMessage
-	if err := json.Unmarshal(b, &m); err != nil {
-		t.Fatal(err)
-	}
+	testkit.ReadJSON(t, testkit.SharedPath(t, "oracle/ref/case03_dyestuff_penicillin.json"), &m)
 	return m
 }
 
@@ -126,7 +122,7 @@ func loadOracle(t *testing.T) map[string]json.RawMessage {
 // shared/reference/oracle/ref/case03_dyestuff_penicillin.json.
 func TestDyestuff(t *testing.T) {
 	m := loadOracle(t)
-	rows := readCSV(t, filepath.Join(refDir, "oracle", "data", "case03_dyestuff.csv"))
+	rows := readCSV(t, "oracle/data/case03_dyestuff.csv")
 	var set oracleSet
 	if err := json.Unmarshal(m["dyestuff"], &set); err != nil {
 		t.Fatal(err)
@@ -144,36 +140,36 @@ func TestDyestuff(t *testing.T) {
 		t.Fatal(err)
 	}
 	// Closed form (ANOVA = REML when MS_batch > MS_within): 1764.05, 2451.25, df 5.
-	check(t, "batch variance", fit.Components[0].Variance, set.Closed.get(t, "var_batch"), 1e-8, 0)
-	check(t, "residual variance", fit.Components[1].Variance, set.Closed.get(t, "var_resid"), 1e-8, 0)
-	check(t, "published batch variance (agri/values.json, memory+computed)", fit.Components[0].Variance, 1764.05, 1e-8, 0)
-	check(t, "intercept", fit.Coef[0].Estimate, set.Closed.get(t, "intercept"), 1e-12, 0)
-	check(t, "se intercept", fit.Coef[0].SE, set.Closed.get(t, "se_intercept"), 1e-8, 0)
-	check(t, "df intercept", fit.Coef[0].DF, set.Closed.get(t, "df_intercept"), 1e-6, 0)
-	check(t, "share batch", fit.Components[0].Share, 1764.05/(1764.05+2451.25), 1e-8, 0)
-	check(t, "REML criterion (lme4)", fit.Objective, set.Tight.REMLCriterion, 0, 1e-8)
+	testkit.CheckWithin(t, "batch variance", fit.Components[0].Variance, set.Closed.get(t, "var_batch"), 1e-8, 0)
+	testkit.CheckWithin(t, "residual variance", fit.Components[1].Variance, set.Closed.get(t, "var_resid"), 1e-8, 0)
+	testkit.CheckWithin(t, "published batch variance (agri/values.json, memory+computed)", fit.Components[0].Variance, 1764.05, 1e-8, 0)
+	testkit.CheckWithin(t, "intercept", fit.Coef[0].Estimate, set.Closed.get(t, "intercept"), 1e-12, 0)
+	testkit.CheckWithin(t, "se intercept", fit.Coef[0].SE, set.Closed.get(t, "se_intercept"), 1e-8, 0)
+	testkit.CheckWithin(t, "df intercept", fit.Coef[0].DF, set.Closed.get(t, "df_intercept"), 1e-6, 0)
+	testkit.CheckWithin(t, "share batch", fit.Components[0].Share, 1764.05/(1764.05+2451.25), 1e-8, 0)
+	testkit.CheckWithin(t, "REML criterion (lme4)", fit.Objective, set.Tight.REMLCriterion, 0, 1e-8)
 	kr, err := fit.KR()
 	if err != nil {
 		t.Fatal(err)
 	}
-	check(t, "KR df intercept (balanced: 5)", kr.DF([]float64{1}), 5, 1e-8, 0)
+	testkit.CheckWithin(t, "KR df intercept (balanced: 5)", kr.DF([]float64{1}), 5, 1e-8, 0)
 	ml, err := Fit(y, ones(len(y)), g, &Options{Criterion: ML})
 	if err != nil {
 		t.Fatal(err)
 	}
 	// ML batch variance 1388.33 (agri/values.json); deviance/AIC/BIC from lme4.
-	check(t, "ML batch variance", ml.Components[0].Variance, set.ML.Varcomp[0].Variance, 1e-6, 0)
-	check(t, "ML deviance", ml.Objective, set.ML.Deviance, 0, 1e-7)
-	check(t, "ML AIC", ml.AIC, set.ML.AIC, 0, 1e-7)
-	check(t, "ML BIC", ml.BIC, set.ML.BIC, 0, 1e-7)
-	check(t, "ML se intercept", ml.Coef[0].SE, set.ML.Fixef[0].SE, 1e-6, 0)
+	testkit.CheckWithin(t, "ML batch variance", ml.Components[0].Variance, set.ML.Varcomp[0].Variance, 1e-6, 0)
+	testkit.CheckWithin(t, "ML deviance", ml.Objective, set.ML.Deviance, 0, 1e-7)
+	testkit.CheckWithin(t, "ML AIC", ml.AIC, set.ML.AIC, 0, 1e-7)
+	testkit.CheckWithin(t, "ML BIC", ml.BIC, set.ML.BIC, 0, 1e-7)
+	testkit.CheckWithin(t, "ML se intercept", ml.Coef[0].SE, set.ML.Fixef[0].SE, 1e-6, 0)
 }
 
 // TestPenicillin checks the crossed diameter ~ 1 + (1|plate) + (1|sample)
 // against the balanced two-way closed form in the oracle JSON.
 func TestPenicillin(t *testing.T) {
 	m := loadOracle(t)
-	rows := readCSV(t, filepath.Join(refDir, "oracle", "data", "case03_penicillin.csv"))
+	rows := readCSV(t, "oracle/data/case03_penicillin.csv")
 	var set oracleSet
 	if err := json.Unmarshal(m["penicillin"], &set); err != nil {
 		t.Fatal(err)
@@ -192,25 +188,25 @@ func TestPenicillin(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	check(t, "plate variance", fit.Components[0].Variance, set.Closed.get(t, "var_plate"), 1e-7, 0)
-	check(t, "sample variance", fit.Components[1].Variance, set.Closed.get(t, "var_sample"), 1e-7, 0)
-	check(t, "residual variance", fit.Components[2].Variance, set.Closed.get(t, "var_resid"), 1e-7, 0)
-	check(t, "se intercept", fit.Coef[0].SE, set.Closed.get(t, "se_intercept"), 1e-7, 0)
-	check(t, "REML criterion (lme4 tight)", fit.Objective, set.Tight.REMLCriterion, 0, 1e-8)
+	testkit.CheckWithin(t, "plate variance", fit.Components[0].Variance, set.Closed.get(t, "var_plate"), 1e-7, 0)
+	testkit.CheckWithin(t, "sample variance", fit.Components[1].Variance, set.Closed.get(t, "var_sample"), 1e-7, 0)
+	testkit.CheckWithin(t, "residual variance", fit.Components[2].Variance, set.Closed.get(t, "var_resid"), 1e-7, 0)
+	testkit.CheckWithin(t, "se intercept", fit.Coef[0].SE, set.Closed.get(t, "se_intercept"), 1e-7, 0)
+	testkit.CheckWithin(t, "REML criterion (lme4 tight)", fit.Objective, set.Tight.REMLCriterion, 0, 1e-8)
 	// lmerTest 3.1-3 Satterthwaite df on the tight fit (numerical derivatives).
-	check(t, "df intercept", fit.Coef[0].DF, set.Tight.FixefSat[0].DF, 1e-3, 0)
+	testkit.CheckWithin(t, "df intercept", fit.Coef[0].DF, set.Tight.FixefSat[0].DF, 1e-3, 0)
 	ml, err := Fit(y, ones(len(y)), g, &Options{Criterion: ML})
 	if err != nil {
 		t.Fatal(err)
 	}
-	check(t, "ML deviance", ml.Objective, set.ML.Deviance, 0, 1e-6)
+	testkit.CheckWithin(t, "ML deviance", ml.Objective, set.ML.Deviance, 0, 1e-6)
 	// lme4 default convergence: variance components within about 1e-4.
-	check(t, "ML sample variance", ml.Components[1].Variance, set.ML.Varcomp[1].Variance, 1e-4, 0)
+	testkit.CheckWithin(t, "ML sample variance", ml.Components[1].Variance, set.ML.Varcomp[1].Variance, 1e-4, 0)
 }
 
 // oatsModel builds yield ~ nitro*gen with sum-to-zero coding, (1|block) + (1|block:gen).
 func oatsModel(t *testing.T) ([]float64, *mat.Dense, []Grouping, [][]int) {
-	rows := readCSV(t, filepath.Join(refDir, "agri", "agridat_yates.oats.txt"))
+	rows := readCSV(t, "agri/agridat_yates.oats.txt")
 	n := len(rows)
 	y := make([]float64, n)
 	nit, gen, blk, wp := make([]string, n), make([]string, n), make([]string, n), make([]string, n)
@@ -283,22 +279,22 @@ func TestOatsClosedForm(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	check(t, "block", fit.Components[0].Variance, (3175.05555555556-601.330555555556)/12, 1e-8, 0)
-	check(t, "whole plot", fit.Components[1].Variance, (601.330555555556-177.083333333333)/4, 1e-8, 0)
-	check(t, "residual", fit.Components[2].Variance, 7968.75/45, 1e-8, 0)
+	testkit.CheckWithin(t, "block", fit.Components[0].Variance, (3175.05555555556-601.330555555556)/12, 1e-8, 0)
+	testkit.CheckWithin(t, "whole plot", fit.Components[1].Variance, (601.330555555556-177.083333333333)/4, 1e-8, 0)
+	testkit.CheckWithin(t, "residual", fit.Components[2].Variance, 7968.75/45, 1e-8, 0)
 	for _, m := range []Method{Satterthwaite, KenwardRoger} {
 		tt, err := fit.TermTests(terms, 3, m)
 		if err != nil {
 			t.Fatal(err)
 		}
-		check(t, m.String()+" nitrogen df", tt[0].DenDF, 45, 1e-6, 0)
-		check(t, m.String()+" variety df", tt[1].DenDF, 10, 1e-6, 0)
-		check(t, m.String()+" NxV df", tt[2].DenDF, 45, 1e-6, 0)
-		check(t, m.String()+" F nitrogen", tt[0].F, 37.68565, 1e-6, 0)
-		check(t, m.String()+" F variety", tt[1].F, 1.48534, 1e-5, 0)
-		check(t, m.String()+" F NxV", tt[2].F, 0.30282, 1e-4, 0)
-		check(t, m.String()+" p nitrogen", tt[0].P, 2.4577e-12, 0, 1e-15)
-		check(t, m.String()+" p variety", tt[1].P, 0.27239, 0, 1e-5)
+		testkit.CheckWithin(t, m.String()+" nitrogen df", tt[0].DenDF, 45, 1e-6, 0)
+		testkit.CheckWithin(t, m.String()+" variety df", tt[1].DenDF, 10, 1e-6, 0)
+		testkit.CheckWithin(t, m.String()+" NxV df", tt[2].DenDF, 45, 1e-6, 0)
+		testkit.CheckWithin(t, m.String()+" F nitrogen", tt[0].F, 37.68565, 1e-6, 0)
+		testkit.CheckWithin(t, m.String()+" F variety", tt[1].F, 1.48534, 1e-5, 0)
+		testkit.CheckWithin(t, m.String()+" F NxV", tt[2].F, 0.30282, 1e-4, 0)
+		testkit.CheckWithin(t, m.String()+" p nitrogen", tt[0].P, 2.4577e-12, 0, 1e-15)
+		testkit.CheckWithin(t, m.String()+" p variety", tt[1].P, 0.27239, 0, 1e-5)
 	}
 }
 
@@ -306,7 +302,7 @@ func TestOatsClosedForm(t *testing.T) {
 // MS_within, so the REML batch variance is 0 (agri/values.json) and the fit
 // equals OLS: residual variance 13.8063 and SE = s/sqrt(n).
 func TestBoundaryEqualsOLS(t *testing.T) {
-	rows := readCSV(t, filepath.Join(refDir, "agri", "Dyestuff2.csv"))
+	rows := readCSV(t, "agri/Dyestuff2.csv")
 	y := make([]float64, len(rows))
 	lab := make([]string, len(rows))
 	for i, r := range rows {
@@ -330,11 +326,11 @@ func TestBoundaryEqualsOLS(t *testing.T) {
 		ss += (v - mean) * (v - mean)
 	}
 	s2 := ss / (n - 1)
-	check(t, "residual variance (OLS, computed)", fit.Sigma*fit.Sigma, s2, 1e-10, 0)
-	check(t, "residual variance (agri/values.json)", fit.Sigma*fit.Sigma, 13.8063, 1e-5, 0)
-	check(t, "intercept", fit.Coef[0].Estimate, mean, 1e-12, 0)
-	check(t, "se", fit.Coef[0].SE, math.Sqrt(s2/n), 1e-10, 0)
+	testkit.CheckWithin(t, "residual variance (OLS, computed)", fit.Sigma*fit.Sigma, s2, 1e-10, 0)
+	testkit.CheckWithin(t, "residual variance (agri/values.json)", fit.Sigma*fit.Sigma, 13.8063, 1e-5, 0)
+	testkit.CheckWithin(t, "intercept", fit.Coef[0].Estimate, mean, 1e-12, 0)
+	testkit.CheckWithin(t, "se", fit.Coef[0].SE, math.Sqrt(s2/n), 1e-10, 0)
 	for i := range y {
-		check(t, "fitted", fit.Fitted[i], mean, 1e-10, 1e-10)
+		testkit.CheckWithin(t, "fitted", fit.Fitted[i], mean, 1e-10, 1e-10)
 	}
 }

@@ -7,6 +7,8 @@ import (
 	"testing"
 
 	"gonum.org/v1/gonum/mat"
+
+	"furrow/internal/testkit"
 )
 
 // TestGridNotBeaten: the REML criterion at the optimum is not beaten by any
@@ -107,10 +109,10 @@ func TestZeroComponentEqualsOLS(t *testing.T) {
 		t.Fatalf("expected boundary fit, got %+v", fit.Components[0])
 	}
 	b, s2, cov := ols(y, X)
-	check(t, "sigma^2 vs OLS", fit.Sigma*fit.Sigma, s2, 1e-9, 0)
+	testkit.CheckWithin(t, "sigma^2 vs OLS", fit.Sigma*fit.Sigma, s2, 1e-9, 0)
 	for j := range b {
-		check(t, "beta vs OLS", fit.Coef[j].Estimate, b[j], 1e-9, 1e-12)
-		check(t, "se vs OLS", fit.Coef[j].SE, math.Sqrt(cov.At(j, j)), 1e-9, 0)
+		testkit.CheckWithin(t, "beta vs OLS", fit.Coef[j].Estimate, b[j], 1e-9, 1e-12)
+		testkit.CheckWithin(t, "se vs OLS", fit.Coef[j].SE, math.Sqrt(cov.At(j, j)), 1e-9, 0)
 	}
 }
 
@@ -149,9 +151,9 @@ func TestBalancedStratumDF(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		check(t, m.String()+" treatment df", tt[0].DenDF, float64(plots-trts), 1e-6, 0)
-		check(t, m.String()+" time df", tt[1].DenDF, float64((plots-trts)*(times-1)), 1e-6, 0)
-		check(t, m.String()+" interaction df", tt[2].DenDF, float64((plots-trts)*(times-1)), 1e-6, 0)
+		testkit.CheckWithin(t, m.String()+" treatment df", tt[0].DenDF, float64(plots-trts), 1e-6, 0)
+		testkit.CheckWithin(t, m.String()+" time df", tt[1].DenDF, float64((plots-trts)*(times-1)), 1e-6, 0)
+		testkit.CheckWithin(t, m.String()+" interaction df", tt[2].DenDF, float64((plots-trts)*(times-1)), 1e-6, 0)
 	}
 }
 

@@ -1,30 +1,14 @@
 package lmm
 
 import (
-	"encoding/json"
 	"math"
-	"os"
 	"path/filepath"
 	"testing"
 
 	"gonum.org/v1/gonum/mat"
+
+	"furrow/internal/testkit"
 )
-
-// near reports whether got is within rel (relative) or abs (absolute) of want.
-func near(got, want, rel, abs float64) bool {
-	if math.IsNaN(got) || math.IsNaN(want) {
-		return false
-	}
-	d := math.Abs(got - want)
-	return d <= abs || d <= rel*math.Abs(want)
-}
-
-func check(t *testing.T, what string, got, want, rel, abs float64) {
-	t.Helper()
-	if !near(got, want, rel, abs) {
-		t.Errorf("%s = %.12g, want %.12g (rel %.2g, abs %.2g; diff %.3g)", what, got, want, rel, abs, got-want)
-	}
-}
 
 type refAnova struct {
 	Term  string  `json:"term"`
@@ -88,16 +72,10 @@ type refCase struct {
 
 func loadRef(t *testing.T) []refCase {
 	t.Helper()
-	b, err := os.ReadFile(filepath.Join("testdata", "ref.json"))
-	if err != nil {
-		t.Fatalf("reading reference values: %v", err)
-	}
 	var doc struct {
 		Cases []refCase `json:"cases"`
 	}
-	if err := json.Unmarshal(b, &doc); err != nil {
-		t.Fatalf("parsing reference values: %v", err)
-	}
+	testkit.DecodeFile(t, filepath.Join("testdata", "ref.json"), &doc)
 	return doc.Cases
 }
 
@@ -151,28 +129,28 @@ func TestAgainstLme4(t *testing.T) {
 				t.Errorf("status %v", fit.Status)
 			}
 			ref := c.REML
-			check(t, "REML criterion", fit.Objective, ref.Criterion, 0, 1e-7)
-			check(t, "logLik", fit.LogLik, ref.LogLik, 0, 1e-7)
-			check(t, "AIC", fit.AIC, ref.AIC, 0, 1e-7)
-			check(t, "BIC", fit.BIC, ref.BIC, 0, 1e-7)
+			testkit.CheckWithin(t, "REML criterion", fit.Objective, ref.Criterion, 0, 1e-7)
+			testkit.CheckWithin(t, "logLik", fit.LogLik, ref.LogLik, 0, 1e-7)
+			testkit.CheckWithin(t, "AIC", fit.AIC, ref.AIC, 0, 1e-7)
+			testkit.CheckWithin(t, "BIC", fit.BIC, ref.BIC, 0, 1e-7)
 			for k, gr := range c.Groups {
-				check(t, "variance "+gr.Name, fit.Components[k].Variance, vcOf(&c, ref.VcGroup, ref.VcVar, gr.Name), 1e-6, 1e-10)
+				testkit.CheckWithin(t, "variance "+gr.Name, fit.Components[k].Variance, vcOf(&c, ref.VcGroup, ref.VcVar, gr.Name), 1e-6, 1e-10)
 				for a, b := range gr.BLUP {
-					check(t, "blup "+gr.Name, fit.BLUPs[k][a], b, 1e-5, 1e-7)
+					testkit.CheckWithin(t, "blup "+gr.Name, fit.BLUPs[k][a], b, 1e-5, 1e-7)
 				}
 			}
-			check(t, "residual variance", fit.Components[len(g)].Variance, vcOf(&c, ref.VcGroup, ref.VcVar, "Residual"), 1e-6, 0)
+			testkit.CheckWithin(t, "residual variance", fit.Components[len(g)].Variance, vcOf(&c, ref.VcGroup, ref.VcVar, "Residual"), 1e-6, 0)
 			for j := range ref.Beta {
 				name := c.Colnames[j]
-				check(t, "beta "+name, fit.Coef[j].Estimate, ref.Beta[j], 1e-6, 1e-9)
-				check(t, "se "+name, fit.Coef[j].SE, ref.SE[j], 1e-6, 0)
+				testkit.CheckWithin(t, "beta "+name, fit.Coef[j].Estimate, ref.Beta[j], 1e-6, 1e-9)
+				testkit.CheckWithin(t, "se "+name, fit.Coef[j].SE, ref.SE[j], 1e-6, 0)
 				// lmerTest differentiates numerically (about 1e-6 relative).
-				check(t, "satterthwaite df "+name, fit.Coef[j].DF, ref.DF[j], 1e-3, 0)
-				check(t, "p "+name, fit.Coef[j].P, ref.Pv[j], 0, 1e-5)
+				testkit.CheckWithin(t, "satterthwaite df "+name, fit.Coef[j].DF, ref.DF[j], 1e-3, 0)
+				testkit.CheckWithin(t, "p "+name, fit.Coef[j].P, ref.Pv[j], 0, 1e-5)
 			}
 			for i := range y {
-				check(t, "fitted", fit.Fitted[i], ref.Fitted[i], 1e-6, 1e-7)
-				check(t, "residual", fit.Resid[i], ref.Resid[i], 1e-6, 1e-6)
+				testkit.CheckWithin(t, "fitted", fit.Fitted[i], ref.Fitted[i], 1e-6, 1e-7)
+				testkit.CheckWithin(t, "residual", fit.Resid[i], ref.Resid[i], 1e-6, 1e-6)
 			}
 			terms := c.termCols()
 			a3, err := fit.TermTests(terms, 3, Satterthwaite)
@@ -180,18 +158,18 @@ func TestAgainstLme4(t *testing.T) {
 				t.Fatal(err)
 			}
 			for i, r := range ref.A3Sat {
-				check(t, "type III F "+r.Term, a3[i].F, r.F, 1e-6, 0)
-				check(t, "type III df "+r.Term, a3[i].DenDF, r.DenDF, 1e-3, 0)
-				check(t, "type III p "+r.Term, a3[i].P, r.P, 0, 1e-5)
+				testkit.CheckWithin(t, "type III F "+r.Term, a3[i].F, r.F, 1e-6, 0)
+				testkit.CheckWithin(t, "type III df "+r.Term, a3[i].DenDF, r.DenDF, 1e-3, 0)
+				testkit.CheckWithin(t, "type III p "+r.Term, a3[i].P, r.P, 0, 1e-5)
 			}
 			a1, err := fit.TermTests(terms, 1, Satterthwaite)
 			if err != nil {
 				t.Fatal(err)
 			}
 			for i, r := range ref.A1Sat {
-				check(t, "type I F "+r.Term, a1[i].F, r.F, 1e-6, 0)
-				check(t, "type I df "+r.Term, a1[i].DenDF, r.DenDF, 1e-3, 0)
-				check(t, "type I p "+r.Term, a1[i].P, r.P, 0, 1e-5)
+				testkit.CheckWithin(t, "type I F "+r.Term, a1[i].F, r.F, 1e-6, 0)
+				testkit.CheckWithin(t, "type I df "+r.Term, a1[i].DenDF, r.DenDF, 1e-3, 0)
+				testkit.CheckWithin(t, "type I p "+r.Term, a1[i].P, r.P, 0, 1e-5)
 			}
 			// Kenward-Roger (pbkrtest, analytic). pbkrtest 0.5.2 builds the
 			// residual covariance as sigma^2 I without the prior weights (from
@@ -207,7 +185,7 @@ func TestAgainstLme4(t *testing.T) {
 			va := kr.CoefCov()
 			for i := 0; i < c.P; i++ {
 				for j := 0; j < c.P; j++ {
-					check(t, "KR adjusted covariance", va.At(i, j), ref.KrVcov[j*c.P+i], 1e-6, 1e-12)
+					testkit.CheckWithin(t, "KR adjusted covariance", va.At(i, j), ref.KrVcov[j*c.P+i], 1e-6, 1e-12)
 				}
 				l := make([]float64, c.P)
 				l[i] = 1
@@ -215,18 +193,18 @@ func TestAgainstLme4(t *testing.T) {
 				if err != nil {
 					t.Fatal(err)
 				}
-				check(t, "KR se "+c.Colnames[i], cc.SE, ref.KrSE[i], 1e-6, 0)
-				check(t, "KR df "+c.Colnames[i], cc.DF, ref.KrDF[i], 1e-3, 0)
-				check(t, "KR p "+c.Colnames[i], cc.P, ref.KrP[i], 0, 1e-5)
+				testkit.CheckWithin(t, "KR se "+c.Colnames[i], cc.SE, ref.KrSE[i], 1e-6, 0)
+				testkit.CheckWithin(t, "KR df "+c.Colnames[i], cc.DF, ref.KrDF[i], 1e-3, 0)
+				testkit.CheckWithin(t, "KR p "+c.Colnames[i], cc.P, ref.KrP[i], 0, 1e-5)
 			}
 			a3k, err := fit.TermTests(terms, 3, KenwardRoger)
 			if err != nil {
 				t.Fatal(err)
 			}
 			for i, r := range ref.A3KR {
-				check(t, "KR type III F "+r.Term, a3k[i].F, r.F, 1e-6, 0)
-				check(t, "KR type III df "+r.Term, a3k[i].DenDF, r.DenDF, 1e-3, 0)
-				check(t, "KR type III p "+r.Term, a3k[i].P, r.P, 0, 1e-5)
+				testkit.CheckWithin(t, "KR type III F "+r.Term, a3k[i].F, r.F, 1e-6, 0)
+				testkit.CheckWithin(t, "KR type III df "+r.Term, a3k[i].DenDF, r.DenDF, 1e-3, 0)
+				testkit.CheckWithin(t, "KR type III p "+r.Term, a3k[i].P, r.P, 0, 1e-5)
 			}
 			testML(t, &c, y, X, g)
 		})
@@ -238,15 +216,15 @@ func testML(t *testing.T, c *refCase, y []float64, X *mat.Dense, g []Grouping) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	check(t, "ML deviance", ml.Objective, c.ML.Deviance, 0, 1e-7)
-	check(t, "ML AIC", ml.AIC, c.ML.AIC, 0, 1e-7)
-	check(t, "ML BIC", ml.BIC, c.ML.BIC, 0, 1e-7)
+	testkit.CheckWithin(t, "ML deviance", ml.Objective, c.ML.Deviance, 0, 1e-7)
+	testkit.CheckWithin(t, "ML AIC", ml.AIC, c.ML.AIC, 0, 1e-7)
+	testkit.CheckWithin(t, "ML BIC", ml.BIC, c.ML.BIC, 0, 1e-7)
 	for k, gr := range c.Groups {
-		check(t, "ML variance "+gr.Name, ml.Components[k].Variance, vcOf(c, c.ML.VcGroup, c.ML.VcVar, gr.Name), 1e-6, 1e-10)
+		testkit.CheckWithin(t, "ML variance "+gr.Name, ml.Components[k].Variance, vcOf(c, c.ML.VcGroup, c.ML.VcVar, gr.Name), 1e-6, 1e-10)
 	}
 	for j := range c.ML.Beta {
-		check(t, "ML beta", ml.Coef[j].Estimate, c.ML.Beta[j], 1e-6, 1e-9)
-		check(t, "ML se", ml.Coef[j].SE, c.ML.SE[j], 1e-6, 0)
-		check(t, "ML df", ml.Coef[j].DF, c.ML.DF[j], 1e-3, 0)
+		testkit.CheckWithin(t, "ML beta", ml.Coef[j].Estimate, c.ML.Beta[j], 1e-6, 1e-9)
+		testkit.CheckWithin(t, "ML se", ml.Coef[j].SE, c.ML.SE[j], 1e-6, 0)
+		testkit.CheckWithin(t, "ML df", ml.Coef[j].DF, c.ML.DF[j], 1e-3, 0)
 	}
 }

@@ -1,6 +1,10 @@
 package multcomp
 
-import "testing"
+import (
+	"testing"
+
+	"furrow/internal/testkit"
+)
 
 // R 4.2.2 stats::p.adjust (testdata/ref.R): the same step formulas, so the
 // values agree to rounding (1e-14).
@@ -19,7 +23,7 @@ func TestAdjustAgainstR(t *testing.T) {
 				t.Fatalf("set %s, %s: %d adjusted values, R has %d", name, m.method, len(got), len(m.want))
 			}
 			for i := range got {
-				if !closeTo(got[i], m.want[i], 1e-14) {
+				if !testkit.Close(got[i], m.want[i], 1e-14) {
 					t.Errorf("set %s, %s: p[%d] = %.15g, R p.adjust %.15g", name, m.method, i, got[i], m.want[i])
 				}
 			}

@@ -8,6 +8,7 @@ import (
 	"gonum.org/v1/gonum/mat"
 
 	"furrow/stats/dist"
+	"furrow/stats/internal/fsum"
 )
 
 // productTol is the largest deviation |ρ_ij - λ_i λ_j| accepted for the
@@ -153,7 +154,7 @@ func (mn *maxNormal) logUpper(x float64, two bool) float64 {
 	nx := -x
 	mn.buf = mn.buf[:0]
 	top := math.Inf(-1)
-	var sum kahan
+	var sum fsum.Sum
 	for p := 0; p < n; p++ {
 		c := -zmax + h*(2*float64(p)+1)
 		var ps float64
@@ -194,10 +195,10 @@ func (mn *maxNormal) logUpper(x float64, two bool) float64 {
 			mn.buf = append(mn.buf, lv)
 			top = math.Max(top, lv)
 		}
-		sum.add(ps)
+		sum.Add(ps)
 	}
 	if fast {
-		return math.Log(sum.value())
+		return math.Log(sum.Value())
 	}
 	return logSumExp(mn.buf, top)
 }
@@ -241,11 +242,11 @@ func logSumExp(v []float64, top float64) float64 {
 	if math.IsInf(top, -1) {
 		return top
 	}
-	var s kahan
+	var s fsum.Sum
 	for _, x := range v {
-		s.add(math.Exp(x - top))
+		s.Add(math.Exp(x - top))
 	}
-	return top + math.Log(s.value())
+	return top + math.Log(s.Value())
 }
 
 // maxT evaluates P(max T_i >= c) (or of |T_i|) for T_i = X_i/S, X as in

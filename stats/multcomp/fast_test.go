@@ -6,6 +6,8 @@ import (
 	"testing"
 
 	"gonum.org/v1/gonum/mat"
+
+	"furrow/internal/testkit"
 )
 
 // Dunnett on chickwts (control casein) against the deterministic
@@ -29,14 +31,14 @@ func TestDunnettChickwts(t *testing.T) {
 	if f.Algorithm != AlgQuadrature || f.AbsError != 0 {
 		t.Errorf("algorithm %q, error %v", f.Algorithm, f.AbsError)
 	}
-	if !relClose(f.Critical, r.CriticalQuadrature, 1e-8, 0) {
+	if !testkit.Within(f.Critical, r.CriticalQuadrature, 1e-8, 0) {
 		t.Errorf("critical %.12g, R quadrature %.12g", f.Critical, r.CriticalQuadrature)
 	}
 	for i, c := range f.Comparisons {
-		if !relClose(c.PAdjusted, r.PQuad[i], 1e-8, 1e-11) {
+		if !testkit.Within(c.PAdjusted, r.PQuad[i], 1e-8, 1e-11) {
 			t.Errorf("%s: p %.15g, R quadrature %.15g", r.Comparison[i], c.PAdjusted, r.PQuad[i])
 		}
-		if !relClose(c.PAdjusted, r.PGlht[i], 0, 1e-6) {
+		if !testkit.Within(c.PAdjusted, r.PGlht[i], 0, 1e-6) {
 			t.Errorf("%s: p %.15g, glht %.15g", r.Comparison[i], c.PAdjusted, r.PGlht[i])
 		}
 	}
@@ -44,11 +46,11 @@ func TestDunnettChickwts(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if !relClose(g.Critical, r.CriticalQuadratureGreat, 1e-8, 0) {
+	if !testkit.Within(g.Critical, r.CriticalQuadratureGreat, 1e-8, 0) {
 		t.Errorf("one-sided critical %.12g, R quadrature %.12g", g.Critical, r.CriticalQuadratureGreat)
 	}
 	for i, c := range g.Comparisons {
-		if !relClose(c.PAdjusted, r.PQuadGreater[i], 1e-8, 1e-11) {
+		if !testkit.Within(c.PAdjusted, r.PQuadGreater[i], 1e-8, 1e-11) {
 			t.Errorf("%s: one-sided p %.15g, R quadrature %.15g", r.Comparison[i], c.PAdjusted, r.PQuadGreater[i])
 		}
 	}

@@ -9,6 +9,7 @@ import (
 	"gonum.org/v1/gonum/mat"
 
 	"furrow/stats/dist"
+	"furrow/stats/internal/fsum"
 )
 
 // Settings of the randomised quasi-Monte Carlo fallback. QMCSeed is fixed
@@ -260,7 +261,7 @@ func (q *mvtQMC) inside(c float64, n int) (float64, float64) {
 	yb := make([]float64, q.m)
 	var mean, m2 float64
 	for k, sh := range q.shift {
-		var acc kahan
+		var acc fsum.Sum
 		for j := 1; j <= n; j++ {
 			for i := range w {
 				v := float64(j)*q.gen[i] + sh[i]
@@ -268,9 +269,9 @@ func (q *mvtQMC) inside(c float64, n int) (float64, float64) {
 				v = math.Abs(2*v - 1) // baker's (tent) transformation
 				w[i], wa[i] = v, 1-v
 			}
-			acc.add(0.5 * (q.sample(w, c, yb) + q.sample(wa, c, yb)))
+			acc.Add(0.5 * (q.sample(w, c, yb) + q.sample(wa, c, yb)))
 		}
-		est := acc.value() / float64(n)
+		est := acc.Value() / float64(n)
 		d := est - mean
 		mean += d / float64(k+1)
 		m2 += d * (est - mean)

@@ -3,6 +3,8 @@ package multcomp
 import (
 	"math"
 	"sync"
+
+	"furrow/stats/internal/fsum"
 )
 
 // glOrder is the number of Gauss-Legendre nodes used on every panel.
@@ -101,7 +103,7 @@ func integrate(f func(float64) float64, breaks []float64, abstol, reltol float64
 		}
 	}
 	tol := math.Max(abstol, reltol*est) / float64(n)
-	var sum kahan
+	var sum fsum.Sum
 	for i := 0; i < n; i++ {
 		switch {
 		case !(breaks[i+1] > breaks[i]):
@@ -109,28 +111,13 @@ func integrate(f func(float64) float64, breaks []float64, abstol, reltol float64
 			// A panel whose whole value is far below its share of the
 			// tolerance cannot change the result; the panels are laid out
 			// by the callers so that no narrow peak hides inside one.
-			sum.add(whole[i])
+			sum.Add(whole[i])
 		default:
-			sum.add(refine(f, breaks[i], breaks[i+1], whole[i], tol, maxDepth))
+			sum.Add(refine(f, breaks[i], breaks[i+1], whole[i], tol, maxDepth))
 		}
 	}
-	return sum.value()
+	return sum.Value()
 }
-
-// kahan is a compensated (Neumaier) running sum.
-type kahan struct{ s, c float64 }
-
-func (k *kahan) add(x float64) {
-	t := k.s + x
-	if math.Abs(k.s) >= math.Abs(x) {
-		k.c += (k.s - t) + x
-	} else {
-		k.c += (x - t) + k.s
-	}
-	k.s = t
-}
-
-func (k *kahan) value() float64 { return k.s + k.c }
 
 // normCDF returns Φ(x), accurate in relative terms in the lower tail.
 func normCDF(x float64) float64 { return 0.5 * math.Erfc(-x/math.Sqrt2) }

@@ -8,20 +8,6 @@ import (
 	"testing"
 )
 
-// closeTo reports whether got is within tol of want, relative to |want| when
-// |want| > 1 and absolute otherwise.
-func closeTo(got, want, tol float64) bool {
-	if math.IsInf(want, 0) {
-		return got == want
-	}
-	return math.Abs(got-want) <= tol*math.Max(1, math.Abs(want))
-}
-
-// relClose reports whether got is within rel·|want| + abs of want.
-func relClose(got, want, rel, abs float64) bool {
-	return math.Abs(got-want) <= rel*math.Abs(want)+abs
-}
-
 // nullInf reads a JSON number where null stands for +Inf (R's Inf written
 // by jsonlite with na = "null").
 type nullInf float64
@@ -113,15 +99,4 @@ func loadRef(t testing.TB) *refValues {
 	r.TukeyChickwts.Diff, r.TukeyChickwts.Lwr, r.TukeyChickwts.Upr, r.TukeyChickwts.PAdj = tk.Diff, tk.Lwr, tk.Upr, tk.PAdj
 	refCache = &r
 	return refCache
-}
-
-// sharedRef returns the path of a file under the team's shared reference
-// folder, or skips the test when the folder is absent.
-func sharedRef(t testing.TB, rel string) string {
-	t.Helper()
-	p := filepath.Join("..", "..", "..", "shared", "reference", rel)
-	if _, err := os.Stat(p); err != nil {
-		t.Skipf("shared reference data not found at %s (expected beside the checkout): %v", p, err)
-	}
-	return p
 }

@@ -9,6 +9,8 @@ import (
 	"testing"
 
 	"gonum.org/v1/gonum/mat"
+
+	"furrow/internal/testkit"
 )
 
 // Oracle case 5 (R 4.2.2, multcomp 1.4.22; shared/reference/oracle):
@@ -18,7 +20,7 @@ import (
 // critical value (qmvt) is 2.3335384, off by 1.3e-4 (5e-5 relative) from
 // the quadrature's 2.3334115; it is checked only to 2e-4.
 func TestPlantGrowthOracle(t *testing.T) {
-	b, err := os.ReadFile(sharedRef(t, "oracle/ref/case05_plantgrowth.json"))
+	b, err := os.ReadFile(testkit.SharedPath(t, "oracle/ref/case05_plantgrowth.json"))
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -53,10 +55,10 @@ func TestPlantGrowthOracle(t *testing.T) {
 	}
 	for i, c := range f.Comparisons {
 		w := r.Tukey[i]
-		if !relClose(c.PAdjusted, w.PAdj, 0, 2e-7) {
+		if !testkit.Within(c.PAdjusted, w.PAdj, 0, 2e-7) {
 			t.Errorf("tukey %d: p %.12g, TukeyHSD %.12g", i, c.PAdjusted, w.PAdj)
 		}
-		if !relClose(c.Lower, w.Lwr, 0, 1e-4) || !relClose(c.Upper, w.Upr, 0, 1e-4) {
+		if !testkit.Within(c.Lower, w.Lwr, 0, 1e-4) || !testkit.Within(c.Upper, w.Upr, 0, 1e-4) {
 			t.Errorf("tukey %d: (%.8g, %.8g), TukeyHSD (%.8g, %.8g)", i, c.Lower, c.Upper, w.Lwr, w.Upr)
 		}
 	}
@@ -67,7 +69,7 @@ func TestPlantGrowthOracle(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		if !relClose(p, q.P, 1e-8, 0) {
+		if !testkit.Within(p, q.P, 1e-8, 0) {
 			t.Errorf("dunnett p for t=%v: %.15g, quadrature %.15g", q.T, p, q.P)
 		}
 	}
@@ -75,10 +77,10 @@ func TestPlantGrowthOracle(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if !relClose(c, r.CritQuad, 1e-8, 0) {
+	if !testkit.Within(c, r.CritQuad, 1e-8, 0) {
 		t.Errorf("dunnett critical %.12g, quadrature %.12g", c, r.CritQuad)
 	}
-	if !relClose(c, r.CritConfint, 0, 2e-4) {
+	if !testkit.Within(c, r.CritConfint, 0, 2e-4) {
 		t.Errorf("dunnett critical %.12g, multcomp confint %.12g", c, r.CritConfint)
 	}
 }
@@ -86,7 +88,7 @@ func TestPlantGrowthOracle(t *testing.T) {
 // NIST/SEMATECH e-Handbook 7.4.7.1 (prc471): four groups of 5, Tukey 95%
 // intervals printed to 2 decimals, checked to 0.005 + 1e-9.
 func TestNISTTukeyPrc471(t *testing.T) {
-	f, err := os.Open(sharedRef(t, "nist-ehandbook/tukey_prc471_4groups.csv"))
+	f, err := os.Open(testkit.SharedPath(t, "nist-ehandbook/tukey_prc471_4groups.csv"))
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -155,7 +157,7 @@ func TestProductFactors(t *testing.T) {
 		t.Fatal("product form not recognised")
 	}
 	for i := range lam {
-		if !relClose(got[i], lam[i], 1e-12, 0) {
+		if !testkit.Within(got[i], lam[i], 1e-12, 0) {
 			t.Errorf("λ_%d = %.15g, want %.15g", i, got[i], lam[i])
 		}
 	}

@@ -7,6 +7,7 @@ import (
 	"sync"
 
 	"furrow/stats/dist"
+	"furrow/stats/internal/fsum"
 )
 
 // innerLo is the left end of the fixed z grid of the range integral; the
@@ -133,7 +134,7 @@ func (ri *rangeIntegral) logTail(w float64, upper bool) float64 {
 	km1 := float64(ri.k - 1)
 	if (upper && w < 30) || (!upper && km1*math.Log(w) > -500) {
 		// Fast path: no value the sum depends on underflows.
-		var sum kahan
+		var sum fsum.Sum
 		for j := j0; j < j1; j++ {
 			var ps float64
 			for _, n := range ri.panel(form, j) {
@@ -160,9 +161,9 @@ func (ri *rangeIntegral) logTail(w float64, upper bool) float64 {
 					}
 				}
 			}
-			sum.add(ps)
+			sum.Add(ps)
 		}
-		return math.Log(sum.value())
+		return math.Log(sum.Value())
 	}
 	ri.buf = ri.buf[:0]
 	top := math.Inf(-1)
@@ -201,11 +202,11 @@ func (ri *rangeIntegral) logTail(w float64, upper bool) float64 {
 	if math.IsInf(top, -1) {
 		return top
 	}
-	var sum kahan
+	var sum fsum.Sum
 	for _, lv := range ri.buf {
-		sum.add(math.Exp(lv - top))
+		sum.Add(math.Exp(lv - top))
 	}
-	return top + math.Log(sum.value())
+	return top + math.Log(sum.Value())
 }
 
 // tukeyDist evaluates the studentised range distribution of k means with

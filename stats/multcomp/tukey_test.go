@@ -8,6 +8,8 @@ import (
 	"testing"
 
 	"furrow/stats/dist"
+
+	"furrow/internal/testkit"
 )
 
 // R 4.2.2 ptukey integrates with fixed Gauss-Legendre panels; compared
@@ -34,10 +36,10 @@ func TestPTukeyAgainstR(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		if !relClose(lo, r.Lower[i], 0, tol) {
+		if !testkit.Within(lo, r.Lower[i], 0, tol) {
 			t.Errorf("PTukey(%v, %d, %v) = %.15g, R ptukey %.15g", q, k, df, lo, r.Lower[i])
 		}
-		if !relClose(up, r.Upper[i], 0, tol) {
+		if !testkit.Within(up, r.Upper[i], 0, tol) {
 			t.Errorf("PTukeyUpper(%v, %d, %v) = %.15g, R ptukey(lower.tail=FALSE) %.15g", q, k, df, up, r.Upper[i])
 		}
 	}
@@ -64,7 +66,7 @@ func TestPTukeyAgainstScipy(t *testing.T) {
 	for _, c := range r.PTukey {
 		up, _ := PTukeyUpper(c.Q, c.K, float64(c.DF))
 		lo, _ := PTukey(c.Q, c.K, float64(c.DF))
-		if !relClose(up, c.Upper, 1e-9, 1e-12) || !relClose(lo, c.Lower, 1e-9, 1e-12) {
+		if !testkit.Within(up, c.Upper, 1e-9, 1e-12) || !testkit.Within(lo, c.Lower, 1e-9, 1e-12) {
 			t.Errorf("k=%d df=%v q=%v: upper %.15g lower %.15g, scipy %.15g %.15g", c.K, float64(c.DF), c.Q, up, lo, c.Upper, c.Lower)
 		}
 	}
@@ -88,11 +90,11 @@ func TestPTukeyTwoMeansIsT(t *testing.T) {
 			if want < 1e-15 {
 				abs = 1e-9 * want // kept from the former absolute floor of 1e-15
 			}
-			if !relClose(got, want, 1e-10, abs+1e-17) {
+			if !testkit.Within(got, want, 1e-10, abs+1e-17) {
 				t.Errorf("PTukeyUpper(%v, 2, %v) = %.15g, two-sided t %.15g (rel %.2g)", q, df, got, want, math.Abs(got-want)/want)
 			}
 			lo, _ := PTukey(q, 2, df)
-			if !relClose(lo, 1-want, 1e-10, 1e-15) {
+			if !testkit.Within(lo, 1-want, 1e-10, 1e-15) {
 				t.Errorf("PTukey(%v, 2, %v) = %.15g, want %.15g", q, df, lo, 1-want)
 			}
 		}
@@ -125,11 +127,11 @@ func TestQTukeyAgainstReferences(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		if !relClose(q, c.Q, 1e-9, 0) {
+		if !testkit.Within(q, c.Q, 1e-9, 0) {
 			t.Errorf("QTukey(%v, %d, %v) = %.12g, scipy ppf %.12g", c.P, c.K, float64(c.DF), q, c.Q)
 		}
 		back, _ := PTukey(q, c.K, float64(c.DF))
-		if !relClose(back, c.P, 1e-11, 0) {
+		if !testkit.Within(back, c.P, 1e-11, 0) {
 			t.Errorf("PTukey(QTukey(%v)) = %.15g", c.P, back)
 		}
 	}
@@ -144,10 +146,10 @@ func TestQTukeyAgainstReferences(t *testing.T) {
 			t.Logf("df %v: QTukey(%v, %d) = %.8g, R qtukey %.8g (R inaccurate here)", df, p, k, q, r.Qtukey[i])
 			continue
 		}
-		if !relClose(q, r.Root[i], 1e-6, 0) {
+		if !testkit.Within(q, r.Root[i], 1e-6, 0) {
 			t.Errorf("QTukey(%v, %d, %v) = %.12g, root of R ptukey %.12g", p, k, df, q, r.Root[i])
 		}
-		if !relClose(q, r.Qtukey[i], 1e-4, 0) {
+		if !testkit.Within(q, r.Qtukey[i], 1e-4, 0) {
 			t.Errorf("QTukey(%v, %d, %v) = %.12g, R qtukey %.12g", p, k, df, q, r.Qtukey[i])
 		}
 	}

@@ -4,6 +4,8 @@ import (
 	"errors"
 	"math"
 	"testing"
+
+	"furrow/internal/testkit"
 )
 
 // TestDegenerate checks that data problems give errors, never panics.
@@ -72,23 +74,23 @@ func TestExactDistributions(t *testing.T) {
 		var s float64
 		for i := range p {
 			s += p[i]
-			if !near(p[i], p[len(p)-1-i], 1e-12) {
+			if !testkit.Close(p[i], p[len(p)-1-i], 1e-12) {
 				t.Fatalf("signed-rank n=%d not symmetric at %d", n, i)
 			}
 		}
-		if !near(s, 1, 1e-12) {
+		if !testkit.Close(s, 1, 1e-12) {
 			t.Errorf("signed-rank n=%d sums to %g", n, s)
 		}
 	}
-	if p := signedRankDist(4); !near(p[0], 1.0/16, 1e-15) || !near(p[5], 2.0/16, 1e-15) {
+	if p := signedRankDist(4); !testkit.Close(p[0], 1.0/16, 1e-15) || !testkit.Close(p[5], 2.0/16, 1e-15) {
 		t.Errorf("n=4: %v", p)
 	}
 	p := rankSumDist(3, 4)
-	if !near(p[0], 1.0/35, 1e-15) || !near(p[6], p[6], 0) || len(p) != 13 {
+	if !testkit.Close(p[0], 1.0/35, 1e-15) || !testkit.Close(p[6], p[6], 0) || len(p) != 13 {
 		t.Errorf("rank-sum 3,4: %v", p)
 	}
 	for u := range p {
-		if !near(p[u], p[12-u], 1e-15) {
+		if !testkit.Close(p[u], p[12-u], 1e-15) {
 			t.Errorf("rank-sum 3,4 not symmetric at %d", u)
 		}
 	}
@@ -108,7 +110,7 @@ func TestVanElterenOneStratum(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if !near(ve.Z, rs.Z, 1e-12) || !relNear(ve.P, rs.P, 1e-12) {
+	if !testkit.Close(ve.Z, rs.Z, 1e-12) || !testkit.RelClose(ve.P, rs.P, 1e-12) {
 		t.Errorf("van elteren %+v vs rank-sum %+v", ve, rs)
 	}
 }

@@ -1,8 +1,9 @@
 package rank
 
 import (
-	"os"
 	"testing"
+
+	"furrow/internal/testkit"
 )
 
 type htRef struct {
@@ -69,12 +70,8 @@ type genRef struct {
 
 func loadGen(t *testing.T) genRef {
 	t.Helper()
-	b, err := os.ReadFile("testdata/ref.json")
-	if err != nil {
-		t.Fatalf("reading generated reference: %v", err)
-	}
 	var r genRef
-	decodeJSON(t, b, &r)
+	testkit.DecodeFile(t, "testdata/ref.json", &r)
 	return r
 }
 
@@ -94,7 +91,7 @@ func TestKruskalGenerated(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		if !near(got.H, c.Res.Stat, 1e-12) || !relNear(got.P, c.Res.P, 1e-12) || got.DF != c.Res.DF.(float64) {
+		if !testkit.Close(got.H, c.Res.Stat, 1e-12) || !testkit.RelClose(got.P, c.Res.P, 1e-12) || got.DF != c.Res.DF.(float64) {
 			t.Errorf("case %d: H=%.16g p=%.16g, R H=%.16g p=%.16g", i, got.H, got.P, c.Res.Stat, c.Res.P)
 		}
 	}
@@ -108,7 +105,7 @@ func TestFriedmanGenerated(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		if !near(got.Stat, c.Res.Stat, 1e-12) || !relNear(got.P, c.Res.P, 1e-12) {
+		if !testkit.Close(got.Stat, c.Res.Stat, 1e-12) || !testkit.RelClose(got.P, c.Res.P, 1e-12) {
 			t.Errorf("case %d: S=%.16g p=%.16g, R S=%.16g p=%.16g", i, got.Stat, got.P, c.Res.Stat, c.Res.P)
 		}
 	}
@@ -127,7 +124,7 @@ func TestSignedRankGenerated(t *testing.T) {
 		if err != nil {
 			t.Fatalf("case %d: %v", i, err)
 		}
-		if !near(got.V, c.V, 1e-12) || !relNear(got.P, c.P, 1e-12) {
+		if !testkit.Close(got.V, c.V, 1e-12) || !testkit.RelClose(got.P, c.P, 1e-12) {
 			t.Errorf("case %d (%s exact=%v cc=%v): V=%g p=%.16g, R V=%g p=%.16g", i, c.Alt, c.Exact, c.Correct, got.V, got.P, c.V, c.P)
 		}
 		// MethodAuto must pick the same method R picked.
@@ -159,7 +156,7 @@ func TestRankSumGenerated(t *testing.T) {
 		if len(c.X) > 20 && c.Exact {
 			tol = 1e-10
 		}
-		if !near(got.U, c.U, 1e-12) || !relNear(got.P, c.P, tol) {
+		if !testkit.Close(got.U, c.U, 1e-12) || !testkit.RelClose(got.P, c.P, tol) {
 			t.Errorf("case %d (%s exact=%v cc=%v): U=%g p=%.16g, R W=%g p=%.16g", i, c.Alt, c.Exact, c.Correct, got.U, got.P, c.U, c.P)
 		}
 	}
@@ -181,8 +178,8 @@ func TestVanElterenGenerated(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		if !near(got.T, ve.Res.T, 1e-12) || !near(got.E, ve.Res.E, 1e-12) || !near(got.Var, ve.Res.Var, 1e-12) ||
-			!near(got.Z, ve.Res.Z, 1e-12) || !relNear(got.P, alt.p, 1e-12) {
+		if !testkit.Close(got.T, ve.Res.T, 1e-12) || !testkit.Close(got.E, ve.Res.E, 1e-12) || !testkit.Close(got.Var, ve.Res.Var, 1e-12) ||
+			!testkit.Close(got.Z, ve.Res.Z, 1e-12) || !testkit.RelClose(got.P, alt.p, 1e-12) {
 			t.Errorf("%v: got %+v, R %+v", alt.a, got, ve.Res)
 		}
 	}
@@ -190,14 +187,14 @@ func TestVanElterenGenerated(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if !near(vk.Q, r.VanElterenK.Res.Q, 1e-12) || vk.DF != 2 || !relNear(vk.P, r.VanElterenK.Res.P, 1e-12) {
+	if !testkit.Close(vk.Q, r.VanElterenK.Res.Q, 1e-12) || vk.DF != 2 || !testkit.RelClose(vk.P, r.VanElterenK.Res.P, 1e-12) {
 		t.Errorf("k-sample: got %+v, R %+v", vk, r.VanElterenK.Res)
 	}
 	vk2, err := VanElterenK(strata(ve.Strata))
 	if err != nil {
 		t.Fatal(err)
 	}
-	if !near(vk2.Q, r.VanElterenK2.Q, 1e-12) || !near(vk2.Q, ve.Res.Z*ve.Res.Z, 1e-12) || !relNear(vk2.P, ve.Res.PTwo, 1e-12) {
+	if !testkit.Close(vk2.Q, r.VanElterenK2.Q, 1e-12) || !testkit.Close(vk2.Q, ve.Res.Z*ve.Res.Z, 1e-12) || !testkit.RelClose(vk2.P, ve.Res.PTwo, 1e-12) {
 		t.Errorf("k=2: Q=%.16g, R %.16g, Z²=%.16g", vk2.Q, r.VanElterenK2.Q, ve.Res.Z*ve.Res.Z)
 	}
 }
@@ -210,7 +207,7 @@ func TestWelchGenerated(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		if !near(got.F, c.Res.Stat, 1e-12) || got.DF1 != c.Res.DF[0] || !near(got.DF2, c.Res.DF[1], 1e-12) || !relNear(got.P, c.Res.P, 1e-11) {
+		if !testkit.Close(got.F, c.Res.Stat, 1e-12) || got.DF1 != c.Res.DF[0] || !testkit.Close(got.DF2, c.Res.DF[1], 1e-12) || !testkit.RelClose(got.P, c.Res.P, 1e-11) {
 			t.Errorf("case %d: %+v, R %+v", i, got, c.Res)
 		}
 	}

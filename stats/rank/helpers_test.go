@@ -4,31 +4,15 @@ import (
 	"bytes"
 	"encoding/csv"
 	"encoding/json"
-	"math"
-	"os"
-	"path/filepath"
 	"strconv"
 	"testing"
+
+	"furrow/internal/testkit"
 )
-
-// sharedRef is the shared reference folder beside the checkout.
-const sharedRef = "../../../shared/reference"
-
-func readShared(t *testing.T, rel string) []byte {
-	t.Helper()
-	b, err := os.ReadFile(filepath.Join(sharedRef, rel))
-	if err != nil {
-		if os.IsNotExist(err) {
-			t.Skipf("shared reference data not available (%s): %v", rel, err)
-		}
-		t.Fatalf("reading %s: %v", rel, err)
-	}
-	return b
-}
 
 func readCSV(t *testing.T, rel string) [][]string {
 	t.Helper()
-	recs, err := csv.NewReader(bytes.NewReader(readShared(t, rel))).ReadAll()
+	recs, err := csv.NewReader(bytes.NewReader(testkit.ReadShared(t, rel))).ReadAll()
 	if err != nil {
 		t.Fatalf("parsing %s: %v", rel, err)
 	}
@@ -67,23 +51,6 @@ func decodeJSON(t *testing.T, b []byte, v any) {
 	if err := json.Unmarshal(b, v); err != nil {
 		t.Fatalf("decoding json: %v", err)
 	}
-}
-
-// near: relative tolerance, absolute when |want| < 1.
-func near(got, want, tol float64) bool {
-	if math.IsNaN(got) || math.IsNaN(want) {
-		return false
-	}
-	d := math.Abs(got - want)
-	return d <= tol || d <= tol*math.Abs(want)
-}
-
-// relNear is purely relative, for p-values.
-func relNear(got, want, tol float64) bool {
-	if want == 0 {
-		return got == 0
-	}
-	return math.Abs(got-want) <= tol*math.Abs(want)
 }
 
 func altOf(s string) Alternative {

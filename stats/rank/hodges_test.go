@@ -4,8 +4,9 @@ import (
 	"encoding/json"
 	"errors"
 	"math"
-	"os"
 	"testing"
+
+	"furrow/internal/testkit"
 )
 
 // jnum is a JSON number that also reads jsonlite's "Inf" and "-Inf".
@@ -61,12 +62,8 @@ type hlRef struct {
 
 func loadHL(t *testing.T) hlRef {
 	t.Helper()
-	b, err := os.ReadFile("testdata/ref_hl.json")
-	if err != nil {
-		t.Fatal(err)
-	}
 	var r hlRef
-	decodeJSON(t, b, &r)
+	testkit.DecodeFile(t, "testdata/ref_hl.json", &r)
 	return r
 }
 
@@ -77,7 +74,7 @@ func bound(got float64, want jnum, tol float64) bool {
 	if math.IsInf(w, 0) {
 		return got == w
 	}
-	return near(got, w, tol)
+	return testkit.Close(got, w, tol)
 }
 
 func methodOf(exact bool) Method {
@@ -101,11 +98,11 @@ func TestHLShiftAgainstR(t *testing.T) {
 		tol := 5e-4
 		if c.Exact {
 			tol = 1e-12
-			if !near(r.Estimate, float64(c.Estimate), tol) {
+			if !testkit.Close(r.Estimate, float64(c.Estimate), tol) {
 				t.Errorf("case %d: estimate %v, R 4.2.2 wilcox.test %v", i, r.Estimate, c.Estimate)
 			}
 		}
-		if !near(r.Estimate, float64(c.HL), 1e-12) {
+		if !testkit.Close(r.Estimate, float64(c.HL), 1e-12) {
 			t.Errorf("case %d: estimate %v, R 4.2.2 median(outer(x, y, \"-\")) %v", i, r.Estimate, c.HL)
 		}
 		if !bound(r.Lower, c.Lower, tol) || !bound(r.Upper, c.Upper, tol) {
@@ -128,11 +125,11 @@ func TestHLLocationAgainstR(t *testing.T) {
 		tol := 5e-4
 		if c.Exact {
 			tol = 1e-12
-			if !near(r.Estimate, float64(c.Estimate), tol) {
+			if !testkit.Close(r.Estimate, float64(c.Estimate), tol) {
 				t.Errorf("case %d: estimate %v, R 4.2.2 wilcox.test %v", i, r.Estimate, c.Estimate)
 			}
 		}
-		if !near(r.Estimate, float64(c.HL), 1e-12) {
+		if !testkit.Close(r.Estimate, float64(c.HL), 1e-12) {
 			t.Errorf("case %d: estimate %v, R 4.2.2 median of Walsh averages %v", i, r.Estimate, c.HL)
 		}
 		if !bound(r.Lower, c.Lower, tol) || !bound(r.Upper, c.Upper, tol) {
@@ -159,7 +156,7 @@ func TestHLStratifiedAgainstR(t *testing.T) {
 		if err != nil {
 			t.Fatalf("case %d: %v", i, err)
 		}
-		if !near(r.Estimate, float64(c.Estimate), 1e-12) || !bound(r.Lower, c.Lower, 1e-12) || !bound(r.Upper, c.Upper, 1e-12) {
+		if !testkit.Close(r.Estimate, float64(c.Estimate), 1e-12) || !bound(r.Lower, c.Lower, 1e-12) || !bound(r.Upper, c.Upper, 1e-12) {
 			t.Errorf("case %d: %v [%v, %v], R 4.2.2 inversion by formula %v [%v, %v]", i, r.Estimate, r.Lower, r.Upper, c.Estimate, c.Lower, c.Upper)
 		}
 	}
@@ -187,7 +184,7 @@ func TestHLStratifiedOneStratum(t *testing.T) {
 			if err != nil {
 				t.Fatal(err)
 			}
-			if !near(st.Estimate, un.Estimate, 1e-12) || st.Lower != un.Lower || st.Upper != un.Upper {
+			if !testkit.Close(st.Estimate, un.Estimate, 1e-12) || st.Lower != un.Lower || st.Upper != un.Upper {
 				t.Errorf("case %d %v: stratified %v [%v, %v], unstratified %v [%v, %v]", i, alt, st.Estimate, st.Lower, st.Upper, un.Estimate, un.Lower, un.Upper)
 			}
 		}
@@ -209,7 +206,7 @@ func TestHLShiftEquivariance(t *testing.T) {
 	c := ref.TwoSample[0]
 	a, _ := HLShift(c.X, c.Y, 0.95, Options{})
 	b, _ := HLShift(add(c.X), c.Y, 0.95, Options{})
-	if !near(b.Estimate, a.Estimate+d, 1e-12) || !near(b.Lower, a.Lower+d, 1e-12) || !near(b.Upper, a.Upper+d, 1e-12) {
+	if !testkit.Close(b.Estimate, a.Estimate+d, 1e-12) || !testkit.Close(b.Lower, a.Lower+d, 1e-12) || !testkit.Close(b.Upper, a.Upper+d, 1e-12) {
 		t.Errorf("two-sample: %v [%v, %v] after shift, %v [%v, %v] before", b.Estimate, b.Lower, b.Upper, a.Estimate, a.Lower, a.Upper)
 	}
 	s := ref.Stratified[0]
@@ -220,13 +217,13 @@ func TestHLShiftEquivariance(t *testing.T) {
 	}
 	a, _ = HLStratified(st, 0.9, Options{})
 	b, _ = HLStratified(sh, 0.9, Options{})
-	if !near(b.Estimate, a.Estimate+d, 1e-12) || !near(b.Lower, a.Lower+d, 1e-12) || !near(b.Upper, a.Upper+d, 1e-12) {
+	if !testkit.Close(b.Estimate, a.Estimate+d, 1e-12) || !testkit.Close(b.Lower, a.Lower+d, 1e-12) || !testkit.Close(b.Upper, a.Upper+d, 1e-12) {
 		t.Errorf("stratified: %v [%v, %v] after shift, %v [%v, %v] before", b.Estimate, b.Lower, b.Upper, a.Estimate, a.Lower, a.Upper)
 	}
 	o := ref.OneSample[0]
 	a, _ = HLLocation(o.D, 0.95, Options{})
 	b, _ = HLLocation(add(o.D), 0.95, Options{})
-	if !near(b.Estimate, a.Estimate+d, 1e-12) || !near(b.Lower, a.Lower+d, 1e-12) || !near(b.Upper, a.Upper+d, 1e-12) {
+	if !testkit.Close(b.Estimate, a.Estimate+d, 1e-12) || !testkit.Close(b.Lower, a.Lower+d, 1e-12) || !testkit.Close(b.Upper, a.Upper+d, 1e-12) {
 		t.Errorf("one-sample: %v [%v, %v] after shift, %v [%v, %v] before", b.Estimate, b.Lower, b.Upper, a.Estimate, a.Lower, a.Upper)
 	}
 }

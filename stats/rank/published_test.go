@@ -3,6 +3,8 @@ package rank
 import (
 	"math"
 	"testing"
+
+	"furrow/internal/testkit"
 )
 
 // TestCase09Oracle checks the heavily tied ordinal data of the shared
@@ -31,7 +33,7 @@ func TestCase09Oracle(t *testing.T) {
 		} `json:"wilcoxon_paired_ties"`
 		Friedman ht `json:"friedman_ties"`
 	}
-	decodeJSON(t, readShared(t, "oracle/ref/case09_rank_tests_ties.json"), &ref)
+	decodeJSON(t, testkit.ReadShared(t, "oracle/ref/case09_rank_tests_ties.json"), &ref)
 
 	for _, c := range []struct {
 		file     string
@@ -45,7 +47,7 @@ func TestCase09Oracle(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		if !near(got.H, c.want.Stat, 1e-12) || !relNear(got.P, c.want.P, 1e-12) || !near(got.HUncorrected, c.hu, 1e-12) || !near(got.TieCorrection, c.corr, 1e-12) {
+		if !testkit.Close(got.H, c.want.Stat, 1e-12) || !testkit.RelClose(got.P, c.want.P, 1e-12) || !testkit.Close(got.HUncorrected, c.hu, 1e-12) || !testkit.Close(got.TieCorrection, c.corr, 1e-12) {
 			t.Errorf("%s: %+v, R %+v", c.file, got, c.want)
 		}
 	}
@@ -64,7 +66,7 @@ func TestCase09Oracle(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		if got.Exact || got.Zeros != ref.Wilcoxon.NZero || !near(got.V, c.want.Stat, 1e-12) || !relNear(got.P, c.want.P, 1e-12) {
+		if got.Exact || got.Zeros != ref.Wilcoxon.NZero || !testkit.Close(got.V, c.want.Stat, 1e-12) || !testkit.RelClose(got.P, c.want.P, 1e-12) {
 			t.Errorf("signed rank (no cc %v): %+v, R %+v", c.noCC, got, c.want)
 		}
 	}
@@ -75,7 +77,7 @@ func TestCase09Oracle(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if !near(got.Stat, ref.Friedman.Stat, 1e-12) || !relNear(got.P, ref.Friedman.P, 1e-12) {
+	if !testkit.Close(got.Stat, ref.Friedman.Stat, 1e-12) || !testkit.RelClose(got.P, ref.Friedman.P, 1e-12) {
 		t.Errorf("friedman: %+v, R %+v", got, ref.Friedman)
 	}
 }
@@ -92,7 +94,7 @@ func TestWorkedExamples(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if math.Abs(kw.H-0.771) > 5e-4 || !near(kw.H, 0.771428571428571, 1e-12) || !near(kw.P, 0.6799648, 1e-6) || kw.DF != 2 {
+	if math.Abs(kw.H-0.771) > 5e-4 || !testkit.Close(kw.H, 0.771428571428571, 1e-12) || !testkit.Close(kw.P, 0.6799648, 1e-6) || kw.DF != 2 {
 		t.Errorf("H&W p116: %+v", kw)
 	}
 	// Conover (1999) p. 291, corn yields: rank sums 196.5, 153, 207, 38.5;
@@ -105,11 +107,11 @@ func TestWorkedExamples(t *testing.T) {
 		t.Fatal(err)
 	}
 	for i, w := range []float64{196.5, 153, 207, 38.5} {
-		if !near(kw.RankSums[i], w, 1e-12) {
+		if !testkit.Close(kw.RankSums[i], w, 1e-12) {
 			t.Errorf("Conover rank sum %d = %g, want %g", i+1, kw.RankSums[i], w)
 		}
 	}
-	if !near(kw.HUncorrected, 25.4643727521097, 1e-9) || math.Abs(kw.HUncorrected-25.46) > 5e-3 || !near(kw.H, 25.62883586696249, 1e-12) || !relNear(kw.P, 1.140573e-05, 1e-6) {
+	if !testkit.Close(kw.HUncorrected, 25.4643727521097, 1e-9) || math.Abs(kw.HUncorrected-25.46) > 5e-3 || !testkit.Close(kw.H, 25.62883586696249, 1e-12) || !testkit.RelClose(kw.P, 1.140573e-05, 1e-6) {
 		t.Errorf("Conover p291: %+v", kw)
 	}
 
@@ -126,18 +128,18 @@ func TestWorkedExamples(t *testing.T) {
 	// Hollander & Wolfe (1973) p. 140, rounding first base: R 11.1428571428571,
 	// p 0.003805041, rank sums 53, 47, 32.
 	fr := friedman("worked-examples/friedman_hollander_wolfe_1973_p140_rounding_first_base.csv")
-	if !near(fr.Stat, 11.1428571428571, 1e-12) || !near(fr.P, 0.003805041, 1e-6) ||
-		!near(fr.RankSums[0], 53, 1e-12) || !near(fr.RankSums[1], 47, 1e-12) || !near(fr.RankSums[2], 32, 1e-12) {
+	if !testkit.Close(fr.Stat, 11.1428571428571, 1e-12) || !testkit.Close(fr.P, 0.003805041, 1e-6) ||
+		!testkit.Close(fr.RankSums[0], 53, 1e-12) || !testkit.Close(fr.RankSums[1], 47, 1e-12) || !testkit.Close(fr.RankSums[2], 32, 1e-12) {
 		t.Errorf("H&W p140: %+v", fr)
 	}
 	// Zar, example 12.6: chi2_F = 10.68 (published), p 0.0135882729582176.
 	fr = friedman("worked-examples/friedman_zar_example_12_6.csv")
-	if !near(fr.Stat, 10.68, 1e-12) || !relNear(fr.P, 0.0135882729582176, 1e-12) {
+	if !testkit.Close(fr.Stat, 10.68, 1e-12) || !testkit.RelClose(fr.P, 0.0135882729582176, 1e-12) {
 		t.Errorf("Zar 12.6: %+v", fr)
 	}
 	// Demsar (2006): tie-corrected 10.2283464566929, p 0.0167215803284414.
 	fr = friedman("worked-examples/friedman_demsar_2006_ties.csv")
-	if !near(fr.Stat, 10.2283464566929, 1e-12) || !relNear(fr.P, 0.0167215803284414, 1e-12) {
+	if !testkit.Close(fr.Stat, 10.2283464566929, 1e-12) || !testkit.RelClose(fr.P, 0.0167215803284414, 1e-12) {
 		t.Errorf("Demsar 2006: %+v", fr)
 	}
 
@@ -154,21 +156,21 @@ func TestWorkedExamples(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if sr.V != 5 || !sr.Exact || !relNear(sr.P, 0.01953125, 1e-14) || math.Abs(sr.P-0.02) > 5e-4 {
+	if sr.V != 5 || !sr.Exact || !testkit.RelClose(sr.P, 0.01953125, 1e-14) || math.Abs(sr.P-0.02) > 5e-4 {
 		t.Errorf("H&W p29 T+: %+v", sr)
 	}
 	sr, err = SignedRankPaired(x, y, Options{})
 	if err != nil {
 		t.Fatal(err)
 	}
-	if sr.V != 40 || !relNear(sr.P, 0.0390625, 1e-14) {
+	if sr.V != 40 || !testkit.RelClose(sr.P, 0.0390625, 1e-14) {
 		t.Errorf("H&W p29 two-sided: %+v", sr)
 	}
 	sr, err = SignedRankPaired(x, y, Options{Alternative: Greater, Method: MethodNormal, NoContinuity: true})
 	if err != nil {
 		t.Fatal(err)
 	}
-	if !near(sr.P, 0.01907586, 1e-6) {
+	if !testkit.Close(sr.P, 0.01907586, 1e-6) {
 		t.Errorf("H&W p29 normal: %+v", sr)
 	}
 
@@ -183,14 +185,14 @@ func TestWorkedExamples(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if rs.U != 35 || ry.W != 30 || !rs.Exact || !near(rs.P, 0.1272061, 1e-6) {
+	if rs.U != 35 || ry.W != 30 || !rs.Exact || !testkit.Close(rs.P, 0.1272061, 1e-6) {
 		t.Errorf("H&W p69: %+v (y: %+v)", rs, ry)
 	}
 	rs, err = RankSum(g[0], g[1], Options{Alternative: Greater, Method: MethodNormal, NoContinuity: true})
 	if err != nil {
 		t.Fatal(err)
 	}
-	if !near(rs.P, 0.1103357, 1e-6) {
+	if !testkit.Close(rs.P, 0.1103357, 1e-6) {
 		t.Errorf("H&W p69 normal: %+v", rs)
 	}
 }
