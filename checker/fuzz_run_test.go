@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"encoding/csv"
 	"furrow/checker/method"
+	"furrow/internal/testkit"
 	"math"
 	"os"
 	"path/filepath"
@@ -12,8 +13,6 @@ import (
 	"time"
 
 	"furrow/plan"
-
-	"gopkg.in/yaml.v3"
 )
 
 // This file holds FuzzRun: the whole run (read, contract, exclusions,
@@ -343,127 +342,6 @@ func FuzzRun(f *testing.F) {
 	})
 }
 
-// explainPalette holds the scalar texts a mutation can write.
-var explainPalette = []string{
-	"", "0", "-1", "1e308", "-1e308", "5e-324", ".nan", ".inf", "-.inf", "null", "~",
-	"true", "1000000000000", "x", "s1", "s2", "treatment", "plot", "time", "before",
-	"2026-02-30", "1.0", "0.5", "2", "3", "linear", "mixed", "friedman", "none",
-}
-
-// mutateExplainYAML is the mutator of plan's FuzzValidate (test files of
-// two packages cannot share code): it decodes src as YAML, applies the mutations in ops (three
-// bytes each: kind, i, j) and returns the re-encoded document. ok is false
-// when src is not a YAML document or re-encoding fails.
-func mutateExplainYAML(src []byte, ops []byte) (out []byte, ok bool) {
-	var doc yaml.Node
-	if err := yaml.Unmarshal(src, &doc); err != nil || doc.Kind != yaml.DocumentNode {
-		return nil, false
-	}
-	for k := 0; k+2 < len(ops) && k/3 < 16; k += 3 {
-		var scalars, maps, seqs, all []*yaml.Node
-		var walk func(n *yaml.Node, depth int)
-		walk = func(n *yaml.Node, depth int) {
-			if depth > 64 {
-				return
-			}
-			all = append(all, n)
-			switch n.Kind {
-			case yaml.ScalarNode:
-				scalars = append(scalars, n)
-			case yaml.MappingNode:
-				maps = append(maps, n)
-			case yaml.SequenceNode:
-				seqs = append(seqs, n)
-			}
-			for _, c := range n.Content {
-				walk(c, depth+1)
-			}
-		}
-		walk(&doc, 0)
-		kind, i, j := ops[k]%8, int(ops[k+1]), int(ops[k+2])
-		switch kind {
-		case 0: // swap two scalar values
-			if len(scalars) > 1 {
-				a, b := scalars[i%len(scalars)], scalars[j%len(scalars)]
-				a.Value, b.Value = b.Value, a.Value
-				a.Tag, b.Tag = "", ""
-			}
-		case 1: // copy one scalar's value into another (references, cycles)
-			if len(scalars) > 1 {
-				a, b := scalars[i%len(scalars)], scalars[j%len(scalars)]
-				a.Value, a.Tag, a.Style = b.Value, "", 0
-			}
-		case 2: // drop a key of a mapping
-			if len(maps) > 0 {
-				m := maps[i%len(maps)]
-				if n := len(m.Content) / 2; n > 0 {
-					p := j % n
-					m.Content = append(m.Content[:2*p], m.Content[2*p+2:]...)
-				}
-			}
-		case 3: // duplicate a list item (a step, a check, a column)
-			if len(seqs) > 0 {
-				s := seqs[i%len(seqs)]
-				if n := len(s.Content); n > 0 && n < 64 {
-					p := j % n
-					c := copyExplainNode(s.Content[p], 0)
-					s.Content = append(s.Content[:p+1], append([]*yaml.Node{c}, s.Content[p+1:]...)...)
-				}
-			}
-		case 4: // remove a list item
-			if len(seqs) > 0 {
-				s := seqs[i%len(seqs)]
-				if n := len(s.Content); n > 0 {
-					p := j % n
-					s.Content = append(s.Content[:p], s.Content[p+1:]...)
-				}
-			}
-		case 5: // write an odd scalar
-			if len(scalars) > 0 {
-				a := scalars[i%len(scalars)]
-				a.Value, a.Tag, a.Style = explainPalette[j%len(explainPalette)], "", 0
-			}
-		case 6: // reverse a list (step order)
-			if len(seqs) > 0 {
-				s := seqs[i%len(seqs)]
-				for l, r := 0, len(s.Content)-1; l < r; l, r = l+1, r-1 {
-					s.Content[l], s.Content[r] = s.Content[r], s.Content[l]
-				}
-			}
-		case 7: // replace a node by an empty mapping, an empty list or a scalar
-			if len(all) > 1 {
-				n := all[1+i%(len(all)-1)]
-				switch j % 3 {
-				case 0:
-					*n = yaml.Node{Kind: yaml.MappingNode, Tag: "!!map"}
-				case 1:
-					*n = yaml.Node{Kind: yaml.SequenceNode, Tag: "!!seq"}
-				default:
-					*n = yaml.Node{Kind: yaml.ScalarNode, Value: explainPalette[j%len(explainPalette)]}
-				}
-			}
-		}
-	}
-	b, err := yaml.Marshal(&doc)
-	if err != nil {
-		return nil, false
-	}
-	return b, true
-}
-
-func copyExplainNode(n *yaml.Node, depth int) *yaml.Node {
-	c := *n
-	if depth > 64 {
-		c.Content = nil
-		return &c
-	}
-	c.Content = make([]*yaml.Node, len(n.Content))
-	for i, x := range n.Content {
-		c.Content[i] = copyExplainNode(x, depth+1)
-	}
-	return &c
-}
-
 // FuzzExplain mutates valid plans as plan's FuzzValidate does; for every
 // mutated plan without errors the plan document must build and render to
 // Markdown and HTML without a panic. Run it with
@@ -484,7 +362,7 @@ func FuzzExplain(f *testing.F) {
 		if len(src) > 1<<14 {
 			return
 		}
-		mut, ok := mutateExplainYAML(src, ops)
+		mut, ok := testkit.MutateYAML(src, ops)
 		if !ok {
 			mut = src
 		}

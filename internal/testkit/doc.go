@@ -1,7 +1,12 @@
-// Package testkit is test support for the stats packages: tolerance
+// Package testkit is the project's shared test support: tolerance
 // comparisons, readers for the shared reference data beside the checkout,
-// and a count of the reference checks that were skipped because that data
-// was absent.
+// a count of the reference checks that were skipped because that data was
+// absent, and the structural plan mutator of the plan fuzzers
+// ([MutateYAML]).
+//
+// It sits at the module root because it serves the tests of stats, plan
+// and checker alike, and Go's internal rule lets only a package there be
+// imported by all three while staying out of the public API.
 //
 // It is imported only from _test.go files, never by production code; a
 // test in this package (TestImports) enforces that and the import rule of
