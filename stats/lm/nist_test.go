@@ -178,14 +178,26 @@ func llsDesign(t *testing.T, c llsCert, rows [][]string) (*mat.Dense, []float64)
 // TestNISTLinear checks every StRD linear least-squares set against its
 // certified values, as log relative errors (LRE, digits).
 func TestNISTLinear(t *testing.T) {
+	// minLRE is the floor on the worst LRE over the coefficients, their
+	// SDs, the residual SD, R², and (where certified non-zero) the
+	// regression SS and F: the worst LRE measured on linux/amd64 (in the
+	// comment; 15 is the cap of lre) minus one digit, against NIST's
+	// certified values.
 	cases := []struct {
 		name   string
-		minLRE float64 // on coefficients, their SDs and the residual SD
+		minLRE float64
 	}{
-		{"Norris", 9}, {"Pontius", 9}, {"NoInt1", 9}, {"NoInt2", 9},
-		{"Longley", 9}, {"Filip", 7},
-		{"Wampler1", 9}, {"Wampler2", 9}, {"Wampler3", 9},
-		{"Wampler4", 9}, {"Wampler5", 9},
+		{"Norris", 12.6},   // 13.69 (F)
+		{"Pontius", 12.5},  // 13.51 (coef)
+		{"NoInt1", 13.7},   // 14.72 (coef)
+		{"NoInt2", 13.9},   // 14.94 (se)
+		{"Longley", 13.6},  // 14.62 (coef)
+		{"Filip", 6.9},     // 7.90 (coef; the ill-conditioned degree-10 polynomial)
+		{"Wampler1", 14},   // 15.00 (exact fit)
+		{"Wampler2", 12.2}, // 13.20 (coef)
+		{"Wampler3", 12.8}, // 13.80 (se)
+		{"Wampler4", 12.8}, // 13.81 (se)
+		{"Wampler5", 12.8}, // 13.80 (se)
 	}
 	for _, tc := range cases {
 		t.Run(tc.name, func(t *testing.T) {
@@ -218,23 +230,19 @@ func TestNISTLinear(t *testing.T) {
 				sdLRE = lre(res.Sigma, c.resSD)
 			}
 			r2LRE := lre(res.R2, c.r2)
-			t.Logf("LRE coef %.1f  se %.1f  resSD %.1f  R2 %.1f", minB, minSE, sdLRE, r2LRE)
-			if minB < tc.minLRE || minSE < tc.minLRE || sdLRE < tc.minLRE {
-				t.Errorf("LRE below %.0f: coef %.1f se %.1f resSD %.1f", tc.minLRE, minB, minSE, sdLRE)
+			worst := math.Min(math.Min(minB, minSE), math.Min(sdLRE, r2LRE))
+			msg := fmt.Sprintf("coef %.1f  se %.1f  resSD %.1f  R2 %.1f", minB, minSE, sdLRE, r2LRE)
+			if c.resSS != 0 {
+				ssLRE, fLRE := lre(res.ModelSS, c.regSS), lre(res.ModelF, c.fval)
+				worst = math.Min(worst, math.Min(ssLRE, fLRE))
+				msg += fmt.Sprintf("  regSS %.1f  F %.1f", ssLRE, fLRE)
 			}
-			if r2LRE < tc.minLRE {
-				t.Errorf("R2 LRE %.1f below %.0f", r2LRE, tc.minLRE)
+			t.Logf("LRE %s (worst %.2f)", msg, worst)
+			if worst < tc.minLRE {
+				t.Errorf("LRE %.1f below the floor %.1f: %s", worst, tc.minLRE, msg)
 			}
 			if res.DFResid != c.resDF || res.ModelDF != c.regDF {
 				t.Errorf("df model %d resid %d, want %d %d", res.ModelDF, res.DFResid, c.regDF, c.resDF)
-			}
-			if c.resSS != 0 {
-				if l := lre(res.ModelSS, c.regSS); l < tc.minLRE {
-					t.Errorf("regression SS LRE %.1f", l)
-				}
-				if l := lre(res.ModelF, c.fval); l < tc.minLRE {
-					t.Errorf("F LRE %.1f", l)
-				}
 			}
 		})
 	}
@@ -272,6 +280,23 @@ func exactShift(t *testing.T, s []string) []float64 {
 
 // TestNISTANOVA fits the one-way StRD ANOVA sets as a linear model with one
 // factor and checks the Type I table against the certified values.
+// anovaFloor is the floor on the worst LRE of TestNISTANOVA, against
+// NIST's certified values: the worst measured on linux/amd64 (in the
+// comment; 15 is the cap of lre) minus one digit.
+var anovaFloor = map[string]float64{
+	"SiRstv":  13.7, // 14.73 (F)
+	"SmLs01":  14,   // 15.00
+	"SmLs02":  14,   // 15.00
+	"SmLs03":  14,   // 15.00
+	"AtmWtAg": 13.5, // 14.50 (within SS)
+	"SmLs04":  14,   // 15.00
+	"SmLs05":  14,   // 15.00
+	"SmLs06":  14,   // 15.00
+	"SmLs07":  14,   // 15.00
+	"SmLs08":  14,   // 15.00
+	"SmLs09":  14,   // 15.00
+}
+
 func TestNISTANOVA(t *testing.T) {
 	names := []string{"SiRstv", "SmLs01", "SmLs02", "SmLs03", "AtmWtAg", "SmLs04", "SmLs05", "SmLs06", "SmLs07", "SmLs08", "SmLs09"}
 	for _, name := range names {
@@ -339,9 +364,9 @@ func TestNISTANOVA(t *testing.T) {
 				worst = math.Min(worst, l)
 				msg += fmt.Sprintf(" %s %.1f", k, l)
 			}
-			t.Logf("LRE%s", msg)
-			if worst < 9 {
-				t.Errorf("LRE below 9:%s", msg)
+			t.Logf("LRE%s (worst %.2f)", msg, worst)
+			if floor := anovaFloor[name]; worst < floor {
+				t.Errorf("LRE %.2f below the floor %.1f:%s", worst, floor, msg)
 			}
 		})
 	}

@@ -104,12 +104,19 @@ func TestLargeAgainstR(t *testing.T) {
 // leaves the certified coefficients unchanged and scales the residual SD
 // and the coefficient SDs by known factors (k copies of n rows, p
 // coefficients): sd_k = sd sqrt(k(n-p)/(kn-p)), se_k = se sqrt((n-p)/(kn-p)).
-// The same LRE floors as TestNISTLinear apply.
+// The floors are the worst LRE (coefficients, their SDs, residual SD)
+// measured on linux/amd64 against NIST's certified values (in the
+// comment) minus one digit.
 func TestNISTReplicated(t *testing.T) {
 	cases := []struct {
 		name   string
 		minLRE float64
-	}{{"Longley", 9}, {"Filip", 7}, {"Wampler4", 9}, {"Pontius", 9}}
+	}{
+		{"Longley", 13.6},  // 14.62 (coef)
+		{"Filip", 6.9},     // 7.90 (coef)
+		{"Wampler4", 12.3}, // 13.39 (se)
+		{"Pontius", 12.5},  // 13.51 (coef)
+	}
 	for _, tc := range cases {
 		t.Run(tc.name, func(t *testing.T) {
 			f := readSTRD(t, strdPath(t, "lls", tc.name+".dat"))
@@ -152,9 +159,9 @@ func TestNISTReplicated(t *testing.T) {
 				minSE = math.Min(minSE, lre(res.StdErr[j], c.sd[j]*fse))
 			}
 			sdLRE := lre(res.Sigma, c.resSD*fsd)
-			t.Logf("%d copies, %d rows: LRE coef %.1f  se %.1f  resSD %.1f", k, N, minB, minSE, sdLRE)
+			t.Logf("%d copies, %d rows: LRE coef %.1f  se %.1f  resSD %.1f (worst %.2f)", k, N, minB, minSE, sdLRE, math.Min(minB, math.Min(minSE, sdLRE)))
 			if minB < tc.minLRE || minSE < tc.minLRE || sdLRE < tc.minLRE {
-				t.Errorf("LRE below %.0f: coef %.1f se %.1f resSD %.1f", tc.minLRE, minB, minSE, sdLRE)
+				t.Errorf("LRE below %.1f: coef %.2f se %.2f resSD %.2f", tc.minLRE, minB, minSE, sdLRE)
 			}
 		})
 	}

@@ -193,8 +193,9 @@ func TestPenicillin(t *testing.T) {
 	testkit.CheckWithin(t, "residual variance", fit.Components[2].Variance, set.Closed.get(t, "var_resid"), 1e-7, 0)
 	testkit.CheckWithin(t, "se intercept", fit.Coef[0].SE, set.Closed.get(t, "se_intercept"), 1e-7, 0)
 	testkit.CheckWithin(t, "REML criterion (lme4 tight)", fit.Objective, set.Tight.REMLCriterion, 0, 1e-8)
-	// lmerTest 3.1-3 Satterthwaite df on the tight fit (numerical derivatives).
-	testkit.CheckWithin(t, "df intercept", fit.Coef[0].DF, set.Tight.FixefSat[0].DF, 1e-3, 0)
+	// lmerTest 3.1-3 Satterthwaite df on the tight fit (numerical
+	// derivatives); measured 5.1e-7, so the 1e-6 floor leaves a margin of 2.
+	testkit.CheckWithin(t, "df intercept", fit.Coef[0].DF, set.Tight.FixefSat[0].DF, 1e-6, 0)
 	ml, err := Fit(y, ones(len(y)), g, &Options{Criterion: ML})
 	if err != nil {
 		t.Fatal(err)
@@ -282,14 +283,16 @@ func TestOatsClosedForm(t *testing.T) {
 	testkit.CheckWithin(t, "block", fit.Components[0].Variance, (3175.05555555556-601.330555555556)/12, 1e-8, 0)
 	testkit.CheckWithin(t, "whole plot", fit.Components[1].Variance, (601.330555555556-177.083333333333)/4, 1e-8, 0)
 	testkit.CheckWithin(t, "residual", fit.Components[2].Variance, 7968.75/45, 1e-8, 0)
+	// Closed-form df; measured agreement 7.8e-9 (Satterthwaite, numerical
+	// Hessian) and 3.4e-15 (Kenward-Roger).
 	for _, m := range []Method{Satterthwaite, KenwardRoger} {
 		tt, err := fit.TermTests(terms, 3, m)
 		if err != nil {
 			t.Fatal(err)
 		}
-		testkit.CheckWithin(t, m.String()+" nitrogen df", tt[0].DenDF, 45, 1e-6, 0)
-		testkit.CheckWithin(t, m.String()+" variety df", tt[1].DenDF, 10, 1e-6, 0)
-		testkit.CheckWithin(t, m.String()+" NxV df", tt[2].DenDF, 45, 1e-6, 0)
+		testkit.CheckWithin(t, m.String()+" nitrogen df", tt[0].DenDF, 45, dfTol(m), 0)
+		testkit.CheckWithin(t, m.String()+" variety df", tt[1].DenDF, 10, dfTol(m), 0)
+		testkit.CheckWithin(t, m.String()+" NxV df", tt[2].DenDF, 45, dfTol(m), 0)
 		testkit.CheckWithin(t, m.String()+" F nitrogen", tt[0].F, 37.68565, 1e-6, 0)
 		testkit.CheckWithin(t, m.String()+" F variety", tt[1].F, 1.48534, 1e-5, 0)
 		testkit.CheckWithin(t, m.String()+" F NxV", tt[2].F, 0.30282, 1e-4, 0)
