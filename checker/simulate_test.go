@@ -220,7 +220,7 @@ func TestSimulateTalliesConsistent(t *testing.T) {
 	// 6.2); with 144 residuals the Shapiro-Wilk test of the mixed step
 	// rejects almost always, so the cascade leaves the first step.
 	sw := ep.Steps[0].Checks[0]
-	if sw.Test != plan.CheckShapiroWilk || sw.NotMet.Rate < 0.8 {
+	if sw.Test != method.ShapiroWilk.Name || sw.NotMet.Rate < 0.8 {
 		t.Errorf("first step %s not met in %.2f of runs, want most", sw.Test, sw.NotMet.Rate)
 	}
 	if ep.Steps[0].Reported.Rate > 0.2 {

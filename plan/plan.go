@@ -165,18 +165,6 @@ type Endpoint struct {
 	Pos        Pos
 }
 
-// Model kinds of a step.
-const (
-	ModelLinear     = "linear"
-	ModelMixed      = "mixed"
-	ModelWelch      = "welch"
-	ModelKruskal    = "kruskal-wallis"
-	ModelFriedman   = "friedman"
-	ModelSignedRank = "signed-rank"
-	ModelRankSum    = "rank-sum"
-	ModelVanElteren = "van-elteren"
-)
-
 // Outcome derivations.
 const (
 	DeriveRaw      = "raw"       // the response as measured, every row
@@ -231,19 +219,9 @@ const (
 	DFKenwardRoger  = "kenward-roger"
 )
 
-// Check test names.
-const (
-	CheckShapiroWilk     = "shapiro-wilk"
-	CheckAndersonDarling = "anderson-darling"
-	CheckLevene          = "levene"
-	CheckBrownForsythe   = "brown-forsythe"
-	CheckBartlett        = "bartlett"
-	CheckBreuschPagan    = "breusch-pagan"
-)
-
 // Check is an assumption check run on a fitted step.
 type Check struct {
-	Test      string
+	Test      string   // a check of the build's registry (furrow/checker/method)
 	By        []string // grouping columns for variance tests (default: the treatment column)
 	FailBelow float64  // the check fails when its p-value is below this
 	OnFail    string   // step to go to when this check fails (overrides the step's OnFail)
@@ -253,7 +231,7 @@ type Check struct {
 // Step is one analysis in an endpoint's cascade.
 type Step struct {
 	ID         string
-	Model      string
+	Model      string // a model kind of the build's registry (furrow/checker/method)
 	Outcome    Outcome
 	Transform  Transform
 	Fixed      []Term
