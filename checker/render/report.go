@@ -1,0 +1,733 @@
+package render
+
+import (
+	"bytes"
+	_ "embed"
+	"encoding/csv"
+	"fmt"
+	"html/template"
+	"math"
+	"os"
+	"path/filepath"
+	"sort"
+	"strconv"
+	"strings"
+
+	"furrow/checker/record"
+)
+
+// Report file names inside a run directory.
+const (
+	ReportHTMLName = "report.html"
+	ReportMDName   = "report.md"
+)
+
+// Report is the human view of a run, built from the Result alone so that
+// the report can never disagree with the audit record.
+type Report struct {
+	R        *record.Result
+	Verdicts []EndpointVerdict
+	Figures  map[string][]Figure // step key "endpoint/step" -> figures
+	// DataFigures are the data-level figures per endpoint id: the response
+	// by each factor, the cell means of two factors and, for repeated
+	// measures, one line per unit.
+	DataFigures map[string][]Figure
+	FigureErr   []string // figures that could not be drawn, with the reason
+}
+
+// EndpointVerdict is the plain-words answer of one endpoint.
+type EndpointVerdict struct {
+	Endpoint string
+	Primary  bool
+	Reported string // step id
+	Status   string // plain words
+	Answers  []string
+}
+
+// BuildReport derives the report view from a run result and draws the
+// figures from the data the record carries.
+func BuildReport(r *record.Result) *Report {
+	rep := &Report{R: r, Figures: map[string][]Figure{}, DataFigures: map[string][]Figure{}}
+	for _, e := range r.Endpoints {
+		rep.Verdicts = append(rep.Verdicts, endpointVerdict(&e))
+		if e.Observed != nil {
+			figs, errs := dataFigures(e.ID, e.Observed)
+			rep.DataFigures[e.ID] = figs
+			rep.FigureErr = append(rep.FigureErr, errs...)
+		}
+		for _, s := range e.Steps {
+			if !s.Executed || s.Figures == nil {
+				continue
+			}
+			key := e.ID + "/" + s.ID
+			figs, errs := stepFigures(key, &e, &s)
+			rep.Figures[key] = figs
+			rep.FigureErr = append(rep.FigureErr, errs...)
+		}
+	}
+	return rep
+}
+
+func endpointVerdict(e *record.EndpointResult) EndpointVerdict {
+	v := EndpointVerdict{Endpoint: e.ID, Primary: e.Primary, Reported: e.Reported}
+	var path []string
+	var accepted *record.StepResult
+	for i := range e.Steps {
+		if e.Steps[i].Executed {
+			path = append(path, e.Steps[i].ID)
+		}
+		if e.Steps[i].ID == e.Reported {
+			accepted = &e.Steps[i]
+		}
+	}
+	after := ""
+	if len(path) > 1 {
+		after = fmt.Sprintf(" after %d fallbacks (%s)", len(path)-1, strings.Join(path, " → "))
+		if len(path) == 2 {
+			after = fmt.Sprintf(" after 1 fallback (%s)", strings.Join(path, " → "))
+		}
+	}
+	switch e.Status {
+	case record.EndpointAccepted:
+		v.Status = fmt.Sprintf("step %s accepted%s: its assumption checks passed", e.Reported, after)
+		if accepted != nil && accepted.Decision.Reason == record.ReasonNoChecks {
+			v.Status = fmt.Sprintf("step %s accepted%s: it declares no assumption checks", e.Reported, after)
+		}
+	case record.EndpointAssumptionsUnmet:
+		v.Status = fmt.Sprintf("step %s reported as the last resort%s: its assumption checks failed, so its results must be read with that caution", e.Reported, after)
+	default:
+		v.Status = "no step could be fitted; no results are reported"
+	}
+	for _, h := range e.Hypotheses {
+		v.Answers = append(v.Answers, hypothesisAnswer(&h)...)
+	}
+	return v
+}
+
+// hypothesisAnswer states each comparison of a hypothesis in plain words.
+func hypothesisAnswer(h *record.HypothesisResult) []string {
+	if !h.Assessable {
+		if h.Note == "" {
+			return []string{fmt.Sprintf("%s: not assessable on step %s.", h.ID, h.Step)}
+		}
+		return []string{fmt.Sprintf("%s: not assessable: %s.", h.ID, strings.TrimSuffix(h.Note, "."))}
+	}
+	if h.TermTest != nil {
+		t := h.TermTest
+		word := "no evidence of an effect"
+		if float64(t.P) < float64(h.Alpha) {
+			word = "an effect is shown"
+		}
+		return []string{fmt.Sprintf("%s: term %s, F = %s on %s and %s df, %s: %s at alpha = %s.",
+			h.ID, t.Term, fmtNum(t.F), fmtNum(t.DF), fmtNum(t.DenDF), pEq(t.P), word, fmtNum(h.Alpha))}
+	}
+	var out []string
+	var rejected []string
+	equiv := false
+	for _, c := range h.Comparisons {
+		if c.Equivalence != nil {
+			equiv = true
+			verdict := c.Equivalence.Verdict
+			if verdict == "not shown" {
+				verdict = h.Kind + " not shown"
+			}
+			out = append(out, fmt.Sprintf("%s: %s versus %s: %s (%s).", h.ID, c.Level, c.Against, verdict, intervalText(&c)))
+			continue
+		}
+		word := "not shown to differ"
+		if c.Reject {
+			word = "differs"
+			switch h.Sides {
+			case "less":
+				word = "is lower"
+			case "greater":
+				word = "is higher"
+			}
+			rejected = append(rejected, c.Level+" versus "+c.Against)
+		}
+		out = append(out, fmt.Sprintf("%s: %s versus %s %s (%s, %s).", h.ID, c.Level, c.Against, word, pText(&c), intervalText(&c)))
+	}
+	if len(h.Comparisons) > maxListedComparisons && !equiv {
+		// Many pairwise comparisons: one summary line instead of a list;
+		// the full table follows in the hypotheses section.
+		list := "none"
+		if len(rejected) > 0 {
+			list = strings.Join(rejected, "; ")
+		}
+		return []string{fmt.Sprintf("%s: %d of %d comparisons differ at alpha = %s (%s): %s.", h.ID, len(rejected), len(h.Comparisons), fmtNum(h.Alpha), h.AdjustUsed, list)}
+	}
+	return out
+}
+
+// maxListedComparisons is the most comparisons of one hypothesis the
+// verdict lists one by one; above it the verdict summarises.
+const maxListedComparisons = 8
+
+// pText gives the adjusted p-value, or the unadjusted one labelled as such
+// when no adjustment was computed.
+func pText(c *record.Comparison) string {
+	if math.IsNaN(float64(c.PAdjusted)) {
+		return "unadjusted " + pEq(c.P)
+	}
+	return "adjusted " + pEq(c.PAdjusted)
+}
+
+func intervalText(c *record.Comparison) string {
+	if c.Ratio != 0 && !math.IsNaN(float64(c.Ratio)) {
+		if math.IsNaN(float64(c.RatioLower)) {
+			return "ratio " + fmtNum(c.Ratio)
+		}
+		return fmt.Sprintf("ratio %s, CI %s to %s", fmtNum(c.Ratio), fmtNum(c.RatioLower), fmtNum(c.RatioUpper))
+	}
+	if math.IsNaN(float64(c.Lower)) {
+		return "difference " + fmtNum(c.Estimate)
+	}
+	return fmt.Sprintf("difference %s, CI %s to %s", fmtNum(c.Estimate), fmtNum(c.Lower), fmtNum(c.Upper))
+}
+
+// pEq writes "p = 0.0123" or "p < 0.0001".
+func pEq(n record.Num) string {
+	s := fmtP(n)
+	if strings.HasPrefix(s, "<") {
+		return "p " + s
+	}
+	return "p = " + s
+}
+
+func stepFigures(key string, e *record.EndpointResult, s *record.StepResult) ([]Figure, []string) {
+	d := s.Figures
+	var figs []Figure
+	var errs []string
+	add := func(f Figure, err error) {
+		if err != nil {
+			errs = append(errs, fmt.Sprintf("%s: %v", key, err))
+			return
+		}
+		figs = append(figs, f)
+	}
+	// Rank tests have no model residuals; their figures show the analysed
+	// values only.
+	modelBased := s.Model.Kind == "linear" || s.Model.Kind == "mixed" || s.Model.Kind == "welch"
+	fitted, resid := floats(d.Fitted), floats(d.Residuals)
+	if modelBased && len(resid) > 0 && len(fitted) == len(resid) {
+		add(ResidualsVersusFitted(key+"/residuals-fitted", fitted, resid))
+	}
+	if modelBased && len(resid) >= 3 {
+		add(NormalQQ(key+"/qq", resid))
+		add(ResidualHistogram(key+"/histogram", resid))
+	}
+	vals := floats(d.Values)
+	if len(d.Groups) == len(vals) && len(vals) > 0 {
+		levels := uniqueInOrder(d.Groups)
+		if e.Observed != nil {
+			for _, f := range e.Observed.Factors {
+				if f.Name == s.Model.Compare || (s.Model.Compare == "" && f.Role == "treatment") {
+					levels = f.Levels
+				}
+			}
+		}
+		factor := s.Model.Compare
+		if factor == "" {
+			factor = "treatment"
+		}
+		scale := "analysed value"
+		if s.Results != nil && s.Results.Scale != "" {
+			scale = s.Results.Scale
+		}
+		add(BoxPoints(key+"/box", factor, scale, levels, d.Groups, vals))
+	}
+	if s.Results != nil && len(s.Results.MarginalMeans) > 0 {
+		mm := s.Results.MarginalMeans
+		labels := make([]string, len(mm))
+		est, lo, hi := make([]float64, len(mm)), make([]float64, len(mm)), make([]float64, len(mm))
+		for i, m := range mm {
+			labels[i] = m.Level
+			est[i], lo[i], hi[i] = float64(m.Response), float64(m.ResponseLower), float64(m.ResponseUpper)
+		}
+		add(MeansWithCI(key+"/means", "Estimated marginal means of "+e.Response, "response scale", labels, est, lo, hi))
+	}
+	return figs, errs
+}
+
+// dataFigures draws the observed response by each design factor, the
+// cell-means plot of the first two factors (or of the treatment and the
+// repeated measure) and the lines-per-unit plot of a repeated measure.
+func dataFigures(id string, od *record.ObservedData) ([]Figure, []string) {
+	var figs []Figure
+	var errs []string
+	add := func(f Figure, err error) {
+		if err != nil {
+			errs = append(errs, fmt.Sprintf("%s: %v", id, err))
+			return
+		}
+		figs = append(figs, f)
+	}
+	vals := floats(od.Values)
+	if len(vals) == 0 {
+		return nil, nil
+	}
+	type factor struct {
+		name           string
+		levels, values []string
+	}
+	var fs []factor
+	for _, f := range od.Factors {
+		// Blocks are usually labelled within sites, so a plot by block
+		// label mixes unrelated plots; treatment and factors come first.
+		if len(f.Values) != len(vals) || f.Role == "block" {
+			continue
+		}
+		levels := f.Levels
+		if len(levels) == 0 {
+			levels = uniqueInOrder(f.Values)
+		}
+		fs = append(fs, factor{f.Name, levels, f.Values})
+	}
+	// Treatment first, then other factors, then sites.
+	rank := map[string]int{"treatment": 0, "factor": 1, "site": 2}
+	roles := map[string]string{}
+	for _, f := range od.Factors {
+		roles[f.Name] = f.Role
+	}
+	sort.SliceStable(fs, func(i, j int) bool { return rank[roles[fs[i].name]] < rank[roles[fs[j].name]] })
+	for _, f := range fs {
+		if od.Repeat != "" && len(od.RepeatValues) == len(vals) && len(od.RepeatLevels) > 0 {
+			// One box per level and time would hide the change; draw the
+			// last level of the repeated measure, where effects show.
+			last := od.RepeatLevels[len(od.RepeatLevels)-1]
+			var v []float64
+			var g []string
+			for i := range vals {
+				if od.RepeatValues[i] == last {
+					v = append(v, vals[i])
+					g = append(g, f.values[i])
+				}
+			}
+			add(BoxPoints(id+"/box-"+f.name, f.name, od.Response+" at "+last, f.levels, g, v))
+			continue
+		}
+		add(BoxPoints(id+"/box-"+f.name, f.name, od.Response, f.levels, f.values, vals))
+	}
+	switch {
+	case len(fs) > 0 && od.Repeat != "" && len(od.RepeatValues) == len(vals):
+		add(CellMeans(id+"/cells", od.Repeat, fs[0].name, od.Response, od.RepeatLevels, fs[0].levels, od.RepeatValues, fs[0].values, vals))
+	case len(fs) > 1:
+		a, b := fs[0], fs[1]
+		if len(b.levels) > len(a.levels) {
+			a, b = b, a
+		}
+		add(CellMeans(id+"/cells", a.name, b.name, od.Response, a.levels, b.levels, a.values, b.values, vals))
+	}
+	if od.Repeat != "" && len(od.Unit) == len(vals) && len(od.RepeatValues) == len(vals) {
+		add(UnitLines(id+"/units", od.Repeat, od.Response, od.RepeatLevels, od.Unit, od.RepeatValues, vals))
+	}
+	return figs, errs
+}
+
+func uniqueInOrder(xs []string) []string {
+	seen := map[string]bool{}
+	var out []string
+	for _, x := range xs {
+		if !seen[x] {
+			seen[x] = true
+			out = append(out, x)
+		}
+	}
+	return out
+}
+
+func floats(ns []record.Num) []float64 {
+	out := make([]float64, len(ns))
+	for i, n := range ns {
+		out[i] = float64(n)
+	}
+	return out
+}
+
+// fmtNum formats a number with 4 significant digits (fixed, documented
+// precision for the human report; the audit record keeps full precision).
+func fmtNum(n record.Num) string {
+	f := float64(n)
+	switch {
+	case math.IsNaN(f):
+		return "-"
+	case math.IsInf(f, 1):
+		return "inf"
+	case math.IsInf(f, -1):
+		return "-inf"
+	case f == 0:
+		return "0"
+	}
+	a := math.Abs(f)
+	if a >= 1e6 || a < 1e-4 {
+		return strconv.FormatFloat(f, 'e', 3, 64)
+	}
+	return strconv.FormatFloat(f, 'g', 4, 64)
+}
+
+// fmtP formats a p-value: four decimals, or "< 0.0001".
+func fmtP(n record.Num) string {
+	f := float64(n)
+	if math.IsNaN(f) {
+		return "-"
+	}
+	if f < 0.0001 {
+		return "< 0.0001"
+	}
+	return strconv.FormatFloat(f, 'f', 4, 64)
+}
+
+//go:embed report.css
+var reportCSS string
+
+//go:embed report.tmpl.html
+var reportHTMLTmpl string
+
+var reportFuncs = template.FuncMap{
+	"num": fmtNum,
+	"p":   fmtP,
+	"pct": func(n record.Num) string {
+		if math.IsNaN(float64(n)) {
+			return "-"
+		}
+		return strconv.FormatFloat(100*float64(n), 'f', 1, 64) + "%"
+	},
+	"svg":  func(s string) template.HTML { return template.HTML(s) },
+	"join": strings.Join,
+	"nums": func(ns []record.Num) string {
+		var parts []string
+		for _, n := range ns {
+			parts = append(parts, fmtNum(n))
+		}
+		return strings.Join(parts, ", ")
+	},
+	"stepkey": func(e, s string) string { return e + "/" + s },
+	"verdictClass": func(v record.Verdict) string {
+		return "v-" + v.String()
+	},
+	"inc": func(i int) int { return i + 1 },
+	"peq": pEq,
+	"sides": func(s string) string {
+		switch s {
+		case "less":
+			return "one-sided, alternative: less than"
+		case "greater":
+			return "one-sided, alternative: greater than"
+		}
+		return "two-sided"
+	},
+	"ci": func(lo, hi record.Num) string {
+		if math.IsNaN(float64(lo)) && math.IsNaN(float64(hi)) {
+			return "-"
+		}
+		return fmtNum(lo) + " to " + fmtNum(hi)
+	},
+}
+
+var reportTemplate = template.Must(template.New("report").Funcs(reportFuncs).Parse(reportHTMLTmpl))
+
+// HTML renders the self-contained report page: inline CSS and SVG, no
+// scripts, nothing fetched.
+func (rep *Report) HTML() ([]byte, error) {
+	var b bytes.Buffer
+	view := struct {
+		*Report
+		CSS     template.CSS
+		Caution string
+	}{rep, template.CSS(reportCSS), Caution}
+	if err := reportTemplate.Execute(&b, view); err != nil {
+		return nil, fmt.Errorf("rendering report: %w", err)
+	}
+	return b.Bytes(), nil
+}
+
+// Markdown renders the verdict, the decision trail and the key tables.
+func (rep *Report) Markdown() []byte {
+	r := rep.R
+	var b bytes.Buffer
+	w := func(format string, args ...any) { fmt.Fprintf(&b, format, args...) }
+	w("# Analysis report: %s\n\n", r.Trial.Title)
+	if r.Unregistered {
+		w("> **UNREGISTERED RUN.** This analysis was run without a matching registration record.\n\n")
+	}
+	w("| Item | Value |\n| --- | --- |\n")
+	w("| Trial | %s |\n| Plan version | %s |\n| Plan hash | `%s` |\n", r.Trial.ID, r.Trial.PlanVersion, r.Inputs.PlanHash)
+	w("| Registered | %s |\n", registeredText(r))
+	w("| Data | `%s` (`%s`) |\n", r.Inputs.DataPath, r.Inputs.DataFileSHA256)
+	w("| Rows read / analysed | %d / %d |\n", r.Inputs.Rows, r.Inputs.RowsAnalysed)
+	w("| Tool | %s %s |\n\n", r.Tool.Name, r.Tool.Version)
+	for _, v := range rep.Verdicts {
+		kind := "Secondary"
+		if v.Primary {
+			kind = "Primary"
+		}
+		w("## %s endpoint `%s`\n\n%s.\n\n", kind, v.Endpoint, upperFirst(v.Status))
+		for _, a := range v.Answers {
+			w("- %s\n", a)
+		}
+		if len(v.Answers) > 0 {
+			w("\n")
+		}
+	}
+	for _, e := range r.Endpoints {
+		w("## Decision trail: `%s`\n\n", e.ID)
+		w("| Step | Model | n | Check | Statistic | p | Fails below | Verdict | Decision | Rule |\n")
+		w("| --- | --- | --- | --- | --- | --- | --- | --- | --- | --- |\n")
+		for _, s := range e.Steps {
+			if !s.Executed {
+				w("| `%s` | %s | - | - | - | - | - | - | not reached | - |\n", s.ID, mdCell(s.Model.Kind))
+				continue
+			}
+			dec := s.Decision.Action.String()
+			if s.Decision.Next != "" {
+				dec += " to `" + s.Decision.Next + "`"
+			}
+			if len(s.Checks) == 0 {
+				w("| `%s` | %s | %d | - | - | - | - | - | %s | %s |\n", s.ID, mdCell(s.Model.Text), s.N, dec, s.Decision.Rule)
+			}
+			for i, c := range s.Checks {
+				id, model, n := "", "", ""
+				if i == 0 {
+					id, model, n = "`"+s.ID+"`", mdCell(s.Model.Text), strconv.Itoa(s.N)
+				}
+				d := ""
+				if i == 0 {
+					d = dec
+				}
+				w("| %s | %s | %s | %s | %s | %s | %s | %s | %s | %s |\n", id, model, n, c.Test, fmtNum(c.Statistic), fmtP(c.P), fmtNum(c.FailBelow), c.Verdict, d, c.Pos)
+			}
+		}
+		w("\n")
+		for _, s := range e.Steps {
+			if s.Results == nil {
+				continue
+			}
+			w("### Results of step `%s` (scale: %s)\n\n", s.ID, s.Results.Scale)
+			writeMDTables(&b, s.Results)
+		}
+		for _, h := range e.Hypotheses {
+			if len(h.Comparisons) == 0 {
+				continue
+			}
+			w("### Hypothesis `%s` (%s, adjustment %s)\n\n", h.ID, h.Kind, h.AdjustUsed)
+			if h.Note != "" {
+				w("%s.\n\n", upperFirst(strings.TrimSuffix(h.Note, ".")))
+			}
+			w("| Comparison | Estimate | SE | df | p | p adjusted | Lower | Upper | Ratio | Ratio lower | Ratio upper | Verdict |\n")
+			w("| --- | --- | --- | --- | --- | --- | --- | --- | --- | --- | --- | --- |\n")
+			for _, c := range h.Comparisons {
+				verdict := "not rejected"
+				if c.Reject {
+					verdict = "rejected"
+				}
+				if c.Equivalence != nil {
+					verdict = c.Equivalence.Verdict
+				}
+				w("| %s | %s | %s | %s | %s | %s | %s | %s | %s | %s | %s | %s |\n", mdCell(c.Label), fmtNum(c.Estimate), fmtNum(c.SE), fmtNum(c.DF),
+					fmtP(c.P), fmtP(c.PAdjusted), fmtNum(c.Lower), fmtNum(c.Upper), fmtNum(c.Ratio), fmtNum(c.RatioLower), fmtNum(c.RatioUpper), verdict)
+			}
+			w("\n")
+		}
+	}
+	if d := r.Design; d != nil {
+		w("## Design as seen\n\n%d rows", d.Rows)
+		if d.UnitColumn != "" {
+			w(", %d units (`%s`)", d.Units, d.UnitColumn)
+		}
+		w(", before exclusions")
+		if d.Replicates > 0 {
+			w("; the plan declares %d units per cell", d.Replicates)
+		}
+		w(".\n\n")
+		if len(d.Cells) > 0 {
+			w("| %s | units |\n|%s --- |\n", strings.Join(d.CellColumns, " | "), strings.Repeat(" --- |", len(d.CellColumns)))
+			for _, c := range d.Cells {
+				w("| %s | %d |\n", strings.Join(c.Levels, " | "), c.Units)
+			}
+			w("\n")
+		}
+		if len(d.Missing) > 0 {
+			var parts []string
+			for _, m := range d.Missing {
+				parts = append(parts, fmt.Sprintf("`%s` %d", m.Column, m.Missing))
+			}
+			w("Missing values: %s.\n\n", strings.Join(parts, ", "))
+		}
+	}
+	if len(r.Exclusions) > 0 {
+		w("## Rows excluded\n\n| Row | Unit | Rule | Rule position |\n| --- | --- | --- | --- |\n")
+		for _, x := range r.Exclusions {
+			w("| %d | %s | `%s` | %s |\n", x.Row, mdCell(x.Unit), x.Rule, x.RulePos)
+		}
+		w("\n")
+	}
+	if len(r.DataWarnings) > 0 {
+		w("## Data warnings\n\n")
+		for _, f := range r.DataWarnings {
+			w("- %s: %s\n", f.Pos, f.Summary)
+		}
+		w("\n")
+	}
+	w("## Caution\n\n%s\n", Caution)
+	return b.Bytes()
+}
+
+func writeMDTables(b *bytes.Buffer, d *record.StepDetail) {
+	w := func(format string, args ...any) { fmt.Fprintf(b, format, args...) }
+	if d.Test != nil {
+		w("Global test: %s, statistic %s, df %s, p = %s.\n\n", d.Test.Method, fmtNum(d.Test.Statistic), reportFuncs["nums"].(func([]record.Num) string)(d.Test.DF), fmtP(d.Test.P))
+	}
+	if len(d.Anova) > 0 {
+		w("| Term | Type | df | Den. df | SS | MS | F | p |\n| --- | --- | --- | --- | --- | --- | --- | --- |\n")
+		for _, a := range d.Anova {
+			w("| %s | %d | %s | %s | %s | %s | %s | %s |\n", mdCell(a.Term), a.Type, fmtNum(a.DF), fmtNum(a.DenDF), fmtNum(a.SS), fmtNum(a.MS), fmtNum(a.F), fmtP(a.P))
+		}
+		w("\n")
+	}
+	if len(d.VarianceComponents) > 0 {
+		w("| Random term | Variance | SD | Share of total | Boundary |\n| --- | --- | --- | --- | --- |\n")
+		for _, v := range d.VarianceComponents {
+			w("| %s | %s | %s | %s | %t |\n", mdCell(v.Group), fmtNum(v.Variance), fmtNum(v.SD), reportFuncs["pct"].(func(record.Num) string)(v.Share), v.Boundary)
+		}
+		w("\n")
+	}
+	if len(d.MarginalMeans) > 0 {
+		w("| Level | Mean (analysis scale) | SE | df | Lower | Upper | Response scale | Lower | Upper |\n| --- | --- | --- | --- | --- | --- | --- | --- | --- |\n")
+		for _, m := range d.MarginalMeans {
+			w("| %s | %s | %s | %s | %s | %s | %s | %s | %s |\n", mdCell(m.Level), fmtNum(m.Estimate), fmtNum(m.SE), fmtNum(m.DF), fmtNum(m.Lower), fmtNum(m.Upper), fmtNum(m.Response), fmtNum(m.ResponseLower), fmtNum(m.ResponseUpper))
+		}
+		w("\n")
+	}
+	if len(d.GroupSummaries) > 0 {
+		w("| Level | n | Mean | Median | SD |\n| --- | --- | --- | --- | --- |\n")
+		for _, g := range d.GroupSummaries {
+			w("| %s | %d | %s | %s | %s |\n", mdCell(g.Level), g.N, fmtNum(g.Mean), fmtNum(g.Median), fmtNum(g.SD))
+		}
+		w("\n")
+	}
+}
+
+func registeredText(r *record.Result) string {
+	switch {
+	case r.Unregistered:
+		return "no: unregistered run"
+	case r.Inputs.Registration != nil && r.Inputs.Registration.Matches:
+		return fmt.Sprintf("yes (chain of %d, head `%s`)", len(r.Inputs.Registration.Chain), r.Inputs.Registration.Head)
+	}
+	return "no matching registration"
+}
+
+func mdCell(s string) string {
+	s = strings.ReplaceAll(s, "|", "\\|")
+	return strings.ReplaceAll(s, "\n", " ")
+}
+
+func upperFirst(s string) string {
+	if s == "" {
+		return s
+	}
+	return strings.ToUpper(s[:1]) + s[1:]
+}
+
+// CSVTables returns the main result tables as CSV files (name -> bytes),
+// one row per table row, with full-precision numbers.
+func (rep *Report) CSVTables() (map[string][]byte, error) {
+	r := rep.R
+	tables := map[string][][]string{
+		"checks.csv":       {{"endpoint", "step", "executed", "test", "statistic", "p", "fail_below", "verdict", "action", "reason", "next", "rule"}},
+		"anova.csv":        {{"endpoint", "step", "term", "type", "df", "den_df", "ss", "ms", "f", "p"}},
+		"coefficients.csv": {{"endpoint", "step", "name", "estimate", "se", "df", "t", "p"}},
+		"means.csv":        {{"endpoint", "step", "factor", "level", "estimate", "se", "df", "lower", "upper", "response", "response_lower", "response_upper"}},
+		"comparisons.csv":  {{"endpoint", "hypothesis", "step", "label", "estimate", "se", "df", "statistic", "p", "p_adjusted", "lower", "upper", "ratio", "ratio_lower", "ratio_upper", "reject", "verdict"}},
+		"variance.csv":     {{"endpoint", "step", "group", "variance", "sd", "share", "boundary"}},
+	}
+	f := func(n record.Num) string {
+		b, _ := n.MarshalJSON()
+		return strings.Trim(string(b), `"`)
+	}
+	for _, e := range r.Endpoints {
+		for _, s := range e.Steps {
+			d := s.Decision
+			if len(s.Checks) == 0 {
+				tables["checks.csv"] = append(tables["checks.csv"], []string{e.ID, s.ID, strconv.FormatBool(s.Executed), "", "", "", "", "", d.Action.String(), d.Reason.String(), d.Next, d.Rule})
+			}
+			for _, c := range s.Checks {
+				tables["checks.csv"] = append(tables["checks.csv"], []string{e.ID, s.ID, strconv.FormatBool(s.Executed), c.Test, f(c.Statistic), f(c.P), f(c.FailBelow), c.Verdict.String(), d.Action.String(), d.Reason.String(), d.Next, c.Pos})
+			}
+			if s.Results == nil {
+				continue
+			}
+			for _, a := range s.Results.Anova {
+				tables["anova.csv"] = append(tables["anova.csv"], []string{e.ID, s.ID, a.Term, strconv.Itoa(a.Type), f(a.DF), f(a.DenDF), f(a.SS), f(a.MS), f(a.F), f(a.P)})
+			}
+			for _, c := range s.Results.Coefficients {
+				tables["coefficients.csv"] = append(tables["coefficients.csv"], []string{e.ID, s.ID, c.Name, f(c.Estimate), f(c.SE), f(c.DF), f(c.T), f(c.P)})
+			}
+			for _, m := range s.Results.MarginalMeans {
+				tables["means.csv"] = append(tables["means.csv"], []string{e.ID, s.ID, m.Factor, m.Level, f(m.Estimate), f(m.SE), f(m.DF), f(m.Lower), f(m.Upper), f(m.Response), f(m.ResponseLower), f(m.ResponseUpper)})
+			}
+			for _, v := range s.Results.VarianceComponents {
+				tables["variance.csv"] = append(tables["variance.csv"], []string{e.ID, s.ID, v.Group, f(v.Variance), f(v.SD), f(v.Share), strconv.FormatBool(v.Boundary)})
+			}
+		}
+		for _, h := range e.Hypotheses {
+			for _, c := range h.Comparisons {
+				verdict := ""
+				if c.Equivalence != nil {
+					verdict = c.Equivalence.Verdict
+				}
+				tables["comparisons.csv"] = append(tables["comparisons.csv"], []string{e.ID, h.ID, h.Step, c.Label, f(c.Estimate), f(c.SE), f(c.DF), f(c.Statistic), f(c.P), f(c.PAdjusted), f(c.Lower), f(c.Upper), f(c.Ratio), f(c.RatioLower), f(c.RatioUpper), strconv.FormatBool(c.Reject), verdict})
+			}
+		}
+	}
+	out := map[string][]byte{}
+	for name, rows := range tables {
+		var b bytes.Buffer
+		cw := csv.NewWriter(&b)
+		if err := cw.WriteAll(rows); err != nil {
+			return nil, fmt.Errorf("writing %s: %w", name, err)
+		}
+		out[name] = b.Bytes()
+	}
+	return out, nil
+}
+
+// TablesDir is the folder, inside a run directory, that holds the result
+// tables as CSV files.
+const TablesDir = "tables"
+
+// WriteReports renders the report of r and writes DIR/report.html,
+// DIR/report.md and DIR/tables/*.csv, each atomically. It is called after
+// the audit record is sealed, so the report shows the record's content hash.
+func WriteReports(dir string, r *record.Result) error {
+	rep := BuildReport(r)
+	page, err := rep.HTML()
+	if err != nil {
+		return err
+	}
+	if err := record.WriteFileAtomic(filepath.Join(dir, ReportHTMLName), page, 0o644, false); err != nil {
+		return err
+	}
+	if err := record.WriteFileAtomic(filepath.Join(dir, ReportMDName), rep.Markdown(), 0o644, false); err != nil {
+		return err
+	}
+	tables, err := rep.CSVTables()
+	if err != nil {
+		return err
+	}
+	tdir := filepath.Join(dir, TablesDir)
+	if err := os.MkdirAll(tdir, 0o755); err != nil {
+		return fmt.Errorf("creating %s: %w", tdir, err)
+	}
+	names := make([]string, 0, len(tables))
+	for name := range tables {
+		names = append(names, name)
+	}
+	sort.Strings(names)
+	for _, name := range names {
+		if err := record.WriteFileAtomic(filepath.Join(tdir, name), tables[name], 0o644, false); err != nil {
+			return err
+		}
+	}
+	return nil
+}

@@ -1,0 +1,383 @@
+package verify
+
+import (
+	"bytes"
+	"crypto/ed25519"
+	"encoding/json"
+	"fmt"
+	"math"
+	"os"
+	"path/filepath"
+	"sort"
+	"strconv"
+	"time"
+
+	"furrow/checker/engine"
+	"furrow/checker/record"
+)
+
+// DeviationCode is a stable code of a kind of deviation found by Verify.
+type DeviationCode string
+
+// Deviation vocabulary. Codes are stable; they are what --json prints.
+const (
+	// DevUnregisteredRun: the record says the run was not checked against a registration.
+	DevUnregisteredRun DeviationCode = "unregistered-run"
+	// DevPlanChanged: the plan differs from the one recorded, or from its
+	// registration, or the registration chain is broken or postdates the run.
+	DevPlanChanged DeviationCode = "plan-changed-after-registration"
+	// DevAmendmentAfterLock: a registration entry was added after the run
+	// (the data were analysed before the amendment was registered).
+	DevAmendmentAfterLock DeviationCode = "amendment-after-data-lock"
+	// DevDataChanged: the data file's hash differs from the recorded one.
+	DevDataChanged DeviationCode = "data-changed"
+	// DevRecordEdited: the content hash or the signature does not match.
+	DevRecordEdited DeviationCode = "record-edited"
+	// DevResultsDiffer: re-running the analysis gives a different number or decision.
+	DevResultsDiffer DeviationCode = "results-differ"
+	// DevStepNotDeclared: the record contains a step the plan does not declare.
+	DevStepNotDeclared DeviationCode = "step-not-declared"
+	// DevToolVersion: the record was made by another tool version (informational).
+	DevToolVersion DeviationCode = "tool-version-differs"
+)
+
+// Informational reports whether the code does not by itself fail verification.
+func (c DeviationCode) Informational() bool { return c == DevToolVersion }
+
+// Deviation is one finding of Verify.
+type Deviation struct {
+	Code DeviationCode `json:"code"`
+	// Field is the record field concerned, as a path like
+	// "endpoints[0].steps[1].checks[0].p"; empty when the finding is about a file.
+	Field string `json:"field"`
+	// Recorded and Now are the recorded value and the value found now (when they apply).
+	Recorded string `json:"recorded"`
+	Now      string `json:"now"`
+	Summary  string `json:"summary"`
+}
+
+// VerifyOptions are the inputs of Verify.
+type VerifyOptions struct {
+	// Dir is the run directory (or the audit.json path).
+	Dir string
+	// PlanPath and DataPath override the paths in the record ("" = from the record).
+	PlanPath, DataPath string
+	// PublicKey, when set, requires a signature by that key.
+	PublicKey ed25519.PublicKey
+	// Tool is the running tool, to compare versions.
+	Tool record.ToolInfo
+	// RelTol is the relative tolerance for re-computed numbers (0 = DefaultRelTol).
+	RelTol float64
+}
+
+// DefaultRelTol is the tolerance verify uses for floating-point numbers:
+// |a-b| <= RelTol*max(|a|,|b|) or |a-b| <= RelTol (absolute, near zero).
+// Integers, strings, decisions and counts are compared exactly.
+const DefaultRelTol = 1e-9
+
+// VerifyReport is the outcome of Verify.
+type VerifyReport struct {
+	Record     string      `json:"record"`
+	Deviations []Deviation `json:"deviations"`
+}
+
+// OK reports whether no deviation other than informational ones was found.
+func (v *VerifyReport) OK() bool {
+	for _, d := range v.Deviations {
+		if !d.Code.Informational() {
+			return false
+		}
+	}
+	return true
+}
+
+// Verify checks a run directory: the record's integrity hash and signature,
+// the plan against the record and the registration chain, the data file
+// against its hash, and re-runs the analysis to compare every number and
+// decision. The error is for problems that stop the check itself
+// (unreadable record); deviations are in the report.
+func Verify(opt VerifyOptions) (*VerifyReport, error) {
+	recPath := opt.Dir
+	dir := opt.Dir
+	if st, err := os.Stat(recPath); err == nil && st.IsDir() {
+		recPath = filepath.Join(recPath, record.AuditFileName)
+	} else {
+		dir = filepath.Dir(recPath)
+	}
+	raw, err := os.ReadFile(recPath)
+	if err != nil {
+		return nil, fmt.Errorf("reading audit record: %w", err)
+	}
+	rep := &VerifyReport{Record: filepath.ToSlash(recPath), Deviations: []Deviation{}}
+	add := func(code DeviationCode, field, rec, now, summary string) {
+		rep.Deviations = append(rep.Deviations, Deviation{Code: code, Field: field, Recorded: rec, Now: now, Summary: summary})
+	}
+	if err := record.ValidateRecord(raw); err != nil {
+		add(DevRecordEdited, "", "", "", err.Error())
+		return rep, nil
+	}
+	var rec record.Result
+	if err := json.Unmarshal(raw, &rec); err != nil {
+		add(DevRecordEdited, "", "", "", "the record cannot be decoded: "+err.Error())
+		return rep, nil
+	}
+	// 1. Integrity.
+	h, err := record.ContentHash(raw)
+	if err != nil {
+		return nil, err
+	}
+	if h != rec.Integrity.ContentHash {
+		add(DevRecordEdited, "integrity.content_hash", rec.Integrity.ContentHash, h, "the record's content does not match its hash: it was edited after it was written")
+	}
+	if sig := rec.Integrity.Signature; sig != nil {
+		if err := record.VerifySignature(sig, rec.Integrity.ContentHash, rec.RunAt, opt.PublicKey); err != nil {
+			add(DevRecordEdited, "integrity.signature", "", "", err.Error())
+		}
+	} else if opt.PublicKey != nil {
+		add(DevRecordEdited, "integrity.signature", "", "", "the record is not signed, but a public key was given")
+	}
+	if rec.Unregistered {
+		add(DevUnregisteredRun, "unregistered", "true", "", "the run was made without a matching registration")
+	}
+	if rec.Tool.Version != opt.Tool.Version {
+		add(DevToolVersion, "tool.version", rec.Tool.Version, opt.Tool.Version, "the record was written by another furrow version")
+	}
+	// 2. Plan and data files.
+	planPath := opt.PlanPath
+	if planPath == "" {
+		planPath = filepath.Join(dir, filepath.FromSlash(rec.Inputs.PlanPath))
+	}
+	dataPath := opt.DataPath
+	if dataPath == "" {
+		dataPath = filepath.Join(dir, filepath.FromSlash(rec.Inputs.DataPath))
+	}
+	if b, err := os.ReadFile(dataPath); err != nil {
+		add(DevDataChanged, "inputs.data_path", rec.Inputs.DataPath, "", "the data file cannot be read: "+err.Error())
+	} else if got := record.SHA256Hex(b); got != rec.Inputs.DataFileSHA256 {
+		add(DevDataChanged, "inputs.data_file_sha256", rec.Inputs.DataFileSHA256, got, "the data file differs from the one analysed")
+	}
+	if _, err := os.Stat(planPath); err != nil {
+		add(DevPlanChanged, "inputs.plan_path", rec.Inputs.PlanPath, "", "the plan file cannot be read: "+err.Error())
+		return rep, nil
+	}
+	// 3. Registration chain (read fresh, next to the plan).
+	if !rec.Unregistered {
+		verifyRegistration(planPath, &rec, add)
+	}
+	// 4. Re-run and compare.
+	now, err := engine.Run(engine.RunOptions{PlanPath: planPath, DataPath: dataPath, OutDir: dir, Tool: rec.Tool,
+		Unregistered: true, Now: time.Time{}})
+	if err != nil {
+		add(DevResultsDiffer, "", "", "", "the analysis could not be re-run: "+err.Error())
+		return rep, nil
+	}
+	now.Unregistered = rec.Unregistered
+	now.Inputs.Registration = rec.Inputs.Registration // compared above from the file itself
+	if opt.PlanPath != "" {
+		now.Inputs.PlanPath = rec.Inputs.PlanPath
+	}
+	if opt.DataPath != "" {
+		now.Inputs.DataPath = rec.Inputs.DataPath
+	}
+	if now.Inputs.PlanHash != rec.Inputs.PlanHash {
+		add(DevPlanChanged, "inputs.plan_hash", rec.Inputs.PlanHash, now.Inputs.PlanHash, "the plan differs from the one the record was made with")
+	}
+	declared := map[string]map[string]bool{}
+	for _, ep := range now.Endpoints {
+		declared[ep.ID] = map[string]bool{}
+		for _, s := range ep.Steps {
+			declared[ep.ID][s.ID] = true
+		}
+	}
+	for i, ep := range rec.Endpoints {
+		for j, s := range ep.Steps {
+			if !declared[ep.ID][s.ID] {
+				add(DevStepNotDeclared, fmt.Sprintf("endpoints[%d].steps[%d].id", i, j), s.ID, "", fmt.Sprintf("step %s of endpoint %s is not declared in the plan", s.ID, ep.ID))
+			}
+		}
+	}
+	nb, err := record.EncodeRecord(now)
+	if err != nil {
+		return nil, err
+	}
+	tol := opt.RelTol
+	if tol == 0 {
+		tol = DefaultRelTol
+	}
+	var a, b any
+	if err := decodeNumbers(raw, &a); err != nil {
+		return nil, err
+	}
+	if err := decodeNumbers(nb, &b); err != nil {
+		return nil, err
+	}
+	am, bm := a.(map[string]any), b.(map[string]any)
+	for _, k := range []string{"run_at", "integrity", "tool", "unregistered"} {
+		delete(am, k)
+		delete(bm, k)
+	}
+	var diffs []Deviation
+	compareJSON("", am, bm, tol, &diffs)
+	for _, d := range diffs {
+		code := DevResultsDiffer
+		switch {
+		case d.Field == "inputs.data_file_sha256" || d.Field == "inputs.table_hash":
+			code = DevDataChanged
+		case d.Field == "inputs.plan_hash" || d.Field == "inputs.plan_file_sha256":
+			continue // reported above from the plan itself
+		}
+		d.Code = code
+		if d.Summary == "" {
+			d.Summary = "the re-run gives a different value"
+		}
+		rep.Deviations = append(rep.Deviations, d)
+	}
+	return rep, nil
+}
+
+// verifyRegistration checks the plan's registration record against the
+// record: chain intact, the plan registered as run, registration before the run.
+func verifyRegistration(planPath string, rec *record.Result, add func(DeviationCode, string, string, string, string)) {
+	rp := record.RegistrationPath(planPath)
+	reg, _, err := record.ReadRegistration(rp)
+	if err != nil {
+		add(DevPlanChanged, "inputs.registration", "", "", "the registration record cannot be read: "+err.Error())
+		return
+	}
+	for _, ce := range reg.CheckChain() {
+		add(DevPlanChanged, fmt.Sprintf("registration.entries[%d].%s", ce.Seq-1, ce.Field), "", "", "broken registration chain: "+ce.Summary)
+	}
+	ref := rec.Inputs.Registration
+	if ref == nil {
+		add(DevPlanChanged, "inputs.registration", "", "", "the record names no registration")
+		return
+	}
+	// The entry the run was checked against must still be in the chain, unchanged.
+	found := -1
+	for i, e := range reg.Entries {
+		if e.EntryHash == ref.Head {
+			found = i
+		}
+	}
+	if found < 0 {
+		add(DevPlanChanged, "inputs.registration.head", ref.Head, "", "the registration entry the run was checked against is no longer in the registration record (history rewritten)")
+		return
+	}
+	e := reg.Entries[found]
+	if e.PlanHash != rec.Inputs.PlanHash {
+		add(DevPlanChanged, "inputs.plan_hash", rec.Inputs.PlanHash, e.PlanHash, "the plan that was run is not the registered one")
+	}
+	// Times are compared as instants, not as strings: run_at is outside
+	// the content hash, so an unsigned record's run_at may hold anything.
+	runAt, err := time.Parse(time.RFC3339, rec.RunAt)
+	if err != nil {
+		add(DevRecordEdited, "run_at", rec.RunAt, "", "the run time is not an RFC 3339 time, so it cannot be compared with the registration")
+		return
+	}
+	regAt := func(i int, s string) (time.Time, bool) {
+		t, err := time.Parse(time.RFC3339, s)
+		if err != nil {
+			add(DevPlanChanged, fmt.Sprintf("registration.entries[%d].registered_at", i), s, "", "the registration time is not an RFC 3339 time")
+			return time.Time{}, false
+		}
+		return t, true
+	}
+	if at, ok := regAt(found, e.RegisteredAt); ok && at.After(runAt) {
+		add(DevPlanChanged, "inputs.registration.chain", e.RegisteredAt, rec.RunAt, "the registration is dated after the run")
+	}
+	for k, later := range reg.Entries[found+1:] {
+		if at, ok := regAt(found+1+k, later.RegisteredAt); ok && !at.Before(runAt) {
+			add(DevAmendmentAfterLock, fmt.Sprintf("registration.entries[%d]", later.Seq-1), rec.RunAt, later.RegisteredAt,
+				fmt.Sprintf("plan version %s was registered after the data were analysed (%s)", later.PlanVersion, later.Reason))
+		}
+	}
+}
+
+func decodeNumbers(b []byte, v *any) error {
+	dec := json.NewDecoder(bytes.NewReader(b))
+	dec.UseNumber()
+	return dec.Decode(v)
+}
+
+// compareJSON walks two decoded records and appends one deviation per
+// differing leaf, named by its field path.
+func compareJSON(path string, a, b any, tol float64, out *[]Deviation) {
+	switch x := a.(type) {
+	case map[string]any:
+		y, ok := b.(map[string]any)
+		if !ok {
+			*out = append(*out, Deviation{Field: path, Recorded: short(a), Now: short(b)})
+			return
+		}
+		keys := map[string]bool{}
+		for k := range x {
+			keys[k] = true
+		}
+		for k := range y {
+			keys[k] = true
+		}
+		ks := make([]string, 0, len(keys))
+		for k := range keys {
+			ks = append(ks, k)
+		}
+		sort.Strings(ks)
+		for _, k := range ks {
+			p := k
+			if path != "" {
+				p = path + "." + k
+			}
+			compareJSON(p, x[k], y[k], tol, out)
+		}
+	case []any:
+		y, ok := b.([]any)
+		if !ok || len(x) != len(y) {
+			*out = append(*out, Deviation{Field: path, Recorded: lenText(a), Now: lenText(b), Summary: "the re-run gives a different number of entries"})
+			return
+		}
+		for i := range x {
+			compareJSON(fmt.Sprintf("%s[%d]", path, i), x[i], y[i], tol, out)
+		}
+	case json.Number:
+		y, ok := b.(json.Number)
+		if !ok {
+			*out = append(*out, Deviation{Field: path, Recorded: short(a), Now: short(b)})
+			return
+		}
+		if x == y {
+			return
+		}
+		fa, e1 := strconv.ParseFloat(string(x), 64)
+		fb, e2 := strconv.ParseFloat(string(y), 64)
+		isInt := !bytes.ContainsAny([]byte(string(x)+string(y)), ".eE")
+		if e1 != nil || e2 != nil || isInt || !closeEnough(fa, fb, tol) {
+			*out = append(*out, Deviation{Field: path, Recorded: string(x), Now: string(y)})
+		}
+	default:
+		if fmt.Sprint(a) != fmt.Sprint(b) || (a == nil) != (b == nil) {
+			*out = append(*out, Deviation{Field: path, Recorded: short(a), Now: short(b)})
+		}
+	}
+}
+
+func closeEnough(a, b, tol float64) bool {
+	d := math.Abs(a - b)
+	return d <= tol || d <= tol*math.Max(math.Abs(a), math.Abs(b))
+}
+
+func short(v any) string {
+	if v == nil {
+		return "null"
+	}
+	b, _ := json.Marshal(v)
+	if len(b) > 80 {
+		return string(b[:77]) + "..."
+	}
+	return string(b)
+}
+
+func lenText(v any) string {
+	if x, ok := v.([]any); ok {
+		return fmt.Sprintf("%d entries", len(x))
+	}
+	return short(v)
+}

@@ -1,0 +1,293 @@
+package verify
+
+import (
+	"bytes"
+	"encoding/json"
+	"os"
+	"path/filepath"
+	"slices"
+	"strings"
+	"testing"
+	"time"
+
+	"furrow/checker/engine"
+	"furrow/checker/record"
+)
+
+func verifyCodes(t *testing.T, opt VerifyOptions) (*VerifyReport, map[DeviationCode][]string) {
+	t.Helper()
+	rep, err := Verify(opt)
+	if err != nil {
+		t.Fatalf("verify: %v", err)
+	}
+	m := map[DeviationCode][]string{}
+	for _, d := range rep.Deviations {
+		m[d.Code] = append(m[d.Code], d.Field)
+	}
+	return rep, m
+}
+
+func TestVerifyCatchesEdits(t *testing.T) {
+	pp := writeCascade(t, "0.99999", "1e-12", "1e-12")
+	register(t, pp, t0)
+	dir := filepath.Dir(pp)
+	out := filepath.Join(dir, "out")
+	orig := writeRun(t, pp, out, t0.Add(time.Hour), nil)
+	rec := filepath.Join(out, record.AuditFileName)
+	if rep, _ := verifyCodes(t, VerifyOptions{Dir: out, Tool: record.ToolInfo{Version: "test"}}); !rep.OK() || len(rep.Deviations) != 0 {
+		t.Fatalf("clean run: %+v", rep.Deviations)
+	}
+	edits := []struct {
+		name, old, new string
+		field          string
+	}{
+		{"decision", `"reason": "checks-passed"`, `"reason": "no-checks"`, "endpoints[0].steps[1].decision.reason"},
+		{"verdict", `"verdict": "fail"`, `"verdict": "pass"`, "endpoints[0].steps[0].checks[0].verdict"},
+		{"count", `"rows_analysed": 17`, `"rows_analysed": 18`, "inputs.rows_analysed"},
+		{"hash", `"table_hash": "sha256:`, `"table_hash": "sha256:0`, "inputs.table_hash"},
+	}
+	for _, e := range edits {
+		t.Run(e.name, func(t *testing.T) {
+			edited := strings.Replace(string(orig), e.old, e.new, 1)
+			if e.name == "hash" {
+				edited = strings.Replace(edited, e.new, e.new[:len(e.new)], 1)
+				i := strings.Index(edited, e.new)
+				edited = edited[:i+len(e.new)] + edited[i+len(e.new)+1:] // keep 64 hex digits
+			}
+			if edited == string(orig) {
+				t.Fatal("edit did not apply")
+			}
+			write(t, rec, edited)
+			defer write(t, rec, string(orig))
+			rep, m := verifyCodes(t, VerifyOptions{Dir: out, Tool: record.ToolInfo{Version: "test"}})
+			if rep.OK() || m[DevRecordEdited] == nil {
+				t.Fatalf("edit not caught: %+v", rep.Deviations)
+			}
+			all := strings.Join(append(m[DevResultsDiffer], m[DevDataChanged]...), " ")
+			if !strings.Contains(all, e.field) {
+				t.Errorf("field %s not named; got %v", e.field, m)
+			}
+		})
+	}
+	// Every number: edit a p-value.
+	t.Run("number", func(t *testing.T) {
+		var r record.Result
+		rr, raw, err := record.ReadRecord(out)
+		if err != nil {
+			t.Fatal(err)
+		}
+		_ = raw
+		r = *rr
+		r.Endpoints[0].Steps[1].Checks[0].P *= 1.001
+		b, _ := record.EncodeRecord(&r)
+		write(t, rec, string(b))
+		defer write(t, rec, string(orig))
+		rep, m := verifyCodes(t, VerifyOptions{Dir: out, Tool: record.ToolInfo{Version: "test"}})
+		if rep.OK() || !strings.Contains(strings.Join(m[DevResultsDiffer], " "), "endpoints[0].steps[1].checks[0].p") {
+			t.Fatalf("number edit not named: %v", m)
+		}
+	})
+	// run_at is outside the content hash; a value that is not a time must
+	// not slip through the registration-date comparison.
+	t.Run("run_at", func(t *testing.T) {
+		edited := strings.Replace(string(orig), `"run_at": "`, `"run_at": "zz`, 1)
+		if edited == string(orig) {
+			t.Fatal("edit did not apply")
+		}
+		write(t, rec, edited)
+		defer write(t, rec, string(orig))
+		rep, m := verifyCodes(t, VerifyOptions{Dir: out, Tool: record.ToolInfo{Version: "test"}})
+		if rep.OK() || !slices.Contains(m[DevRecordEdited], "run_at") {
+			t.Fatalf("unparsable run_at not caught: %v", m)
+		}
+	})
+	t.Run("data edited", func(t *testing.T) {
+		dp := filepath.Join(dir, "data.csv")
+		d, _ := os.ReadFile(dp)
+		write(t, dp, strings.Replace(string(d), "u1,control,", "u1,control,1", 1))
+		defer write(t, dp, string(d))
+		_, m := verifyCodes(t, VerifyOptions{Dir: out, Tool: record.ToolInfo{Version: "test"}})
+		if m[DevDataChanged] == nil {
+			t.Fatalf("data edit not caught: %v", m)
+		}
+	})
+	t.Run("plan edited after registration", func(t *testing.T) {
+		pb, _ := os.ReadFile(pp)
+		write(t, pp, strings.Replace(string(pb), "adjust: holm", "adjust: bonferroni", 1))
+		defer write(t, pp, string(pb))
+		_, m := verifyCodes(t, VerifyOptions{Dir: out, Tool: record.ToolInfo{Version: "test"}})
+		if m[DevPlanChanged] == nil {
+			t.Fatalf("plan edit not caught: %v", m)
+		}
+		// And run refuses it.
+		if _, err := engine.Run(engine.RunOptions{PlanPath: pp, OutDir: out, Now: t0}); err == nil {
+			t.Error("run accepted a plan that differs from its registration")
+		}
+	})
+	t.Run("tool version informational", func(t *testing.T) {
+		rep, m := verifyCodes(t, VerifyOptions{Dir: out, Tool: record.ToolInfo{Version: "other"}})
+		if !rep.OK() || m[DevToolVersion] == nil {
+			t.Fatalf("tool version: ok=%v %v", rep.OK(), m)
+		}
+	})
+}
+
+func TestRegistrationChain(t *testing.T) {
+	pp := writeCascade(t, "1e-12", "1e-12", "1e-12")
+	register(t, pp, t0)
+	pb, _ := os.ReadFile(pp)
+	// Amending without a new version is refused.
+	write(t, pp, strings.Replace(string(pb), "adjust: holm", "adjust: hochberg", 1))
+	if _, _, err := record.Register(pp, record.RegisterOptions{Now: t0.Add(time.Hour), GitCommit: func(string) string { return "" }}); err == nil {
+		t.Fatal("amendment without a new version accepted")
+	}
+	amended := strings.Replace(strings.Replace(string(pb), "adjust: holm", "adjust: hochberg", 1),
+		`version: "1.0"
+  amendments: []`, `version: "1.1"
+  amendments:
+    - version: "1.1"
+      date: "2026-03-02"
+      reason: step-up procedure preferred
+      changes: adjust holm -> hochberg`, 1)
+	write(t, pp, amended)
+	res, ds, err := record.Register(pp, record.RegisterOptions{Now: t0.Add(24 * time.Hour), GitCommit: func(string) string { return "" }})
+	if err != nil {
+		t.Fatalf("amendment: %v %v", err, ds)
+	}
+	if !res.Amendment || res.Entry.Seq != 2 || res.Entry.Reason != "step-up procedure preferred" {
+		t.Fatalf("amendment entry %+v", res.Entry)
+	}
+	reg, _, err := record.ReadRegistration(record.RegistrationPath(pp))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if errs := reg.CheckChain(); errs != nil || reg.Entries[1].Previous != reg.Entries[0].EntryHash {
+		t.Fatalf("fresh chain broken: %v", errs)
+	}
+	// Run after the amendment, then register another amendment: verify
+	// reports an amendment after data lock.
+	out := filepath.Join(filepath.Dir(pp), "out")
+	writeRun(t, pp, out, t0.Add(48*time.Hour), nil)
+	// Break a link: rewrite the first entry's reason.
+	rp := record.RegistrationPath(pp)
+	rb, _ := os.ReadFile(rp)
+	write(t, rp, strings.Replace(string(rb), "initial registration", "initial registration (edited)", 1))
+	reg2, _, _ := record.ReadRegistration(rp)
+	errs := reg2.CheckChain()
+	if len(errs) == 0 {
+		t.Fatal("edited entry not caught")
+	}
+	_, m := verifyCodes(t, VerifyOptions{Dir: out, Tool: record.ToolInfo{Version: "test"}})
+	if m[DevPlanChanged] == nil {
+		t.Fatalf("broken chain not reported by verify: %v", m)
+	}
+	if _, _, err := record.Register(pp, record.RegisterOptions{Now: t0.Add(50 * time.Hour), GitCommit: func(string) string { return "" }}); err == nil {
+		t.Error("register accepted a broken record")
+	}
+	write(t, rp, string(rb))
+	// An amendment registered after the run.
+	amended2 := strings.Replace(strings.Replace(strings.Replace(amended, "adjust: hochberg", "adjust: bonferroni", 1),
+		`version: "1.1"
+  amendments:`, `version: "1.2"
+  amendments:`, 1), `changes: adjust holm -> hochberg`, `changes: adjust holm -> hochberg
+    - version: "1.2"
+      date: "2026-03-04"
+      reason: late change
+      changes: adjust`, 1)
+	write(t, pp, amended2)
+	if _, ds, err := record.Register(pp, record.RegisterOptions{Now: t0.Add(72 * time.Hour), GitCommit: func(string) string { return "" }}); err != nil {
+		t.Fatal(err, ds)
+	}
+	write(t, pp, amended) // the plan as it was run
+	_, m = verifyCodes(t, VerifyOptions{Dir: out, Tool: record.ToolInfo{Version: "test"}})
+	if m[DevAmendmentAfterLock] == nil {
+		t.Fatalf("amendment after the run not reported: %v", m)
+	}
+}
+
+func TestSignature(t *testing.T) {
+	pp := writeCascade(t, "1e-12", "1e-12", "1e-12")
+	register(t, pp, t0)
+	out := filepath.Join(filepath.Dir(pp), "out")
+	pub1, priv1, err := record.GenerateKey(nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	pub2, _, _ := record.GenerateKey(nil)
+	if _, err := record.ParsePublicKey(priv1); err == nil {
+		t.Fatal("a private key was accepted as a public key")
+	}
+	if _, err := record.ParsePrivateKey(pub1); err == nil {
+		t.Fatal("a public key was accepted as a private key")
+	}
+	key, _ := record.ParsePrivateKey(priv1)
+	writeRun(t, pp, out, t0.Add(time.Hour), key)
+	k1, _ := record.ParsePublicKey(pub1)
+	k2, _ := record.ParsePublicKey(pub2)
+	if rep, _ := verifyCodes(t, VerifyOptions{Dir: out, PublicKey: k1, Tool: record.ToolInfo{Version: "test"}}); !rep.OK() {
+		t.Fatalf("good signature rejected: %+v", rep.Deviations)
+	}
+	rep, m := verifyCodes(t, VerifyOptions{Dir: out, PublicKey: k2, Tool: record.ToolInfo{Version: "test"}})
+	if rep.OK() || !strings.Contains(strings.Join(m[DevRecordEdited], " "), "integrity.signature") {
+		t.Fatalf("signature by another key accepted: %+v", rep.Deviations)
+	}
+	// Re-signing an edited record with another key does not pass the given key.
+	b, _ := os.ReadFile(filepath.Join(out, record.AuditFileName))
+	if !bytes.Contains(b, []byte(record.PublicKeyPrefix)) {
+		t.Fatal("signature block has no public key")
+	}
+	// The run time is outside the content hash but inside the signature:
+	// moving it (say, to after an amendment) breaks the signature.
+	var rec map[string]any
+	if err := json.Unmarshal(b, &rec); err != nil {
+		t.Fatal(err)
+	}
+	moved := strings.Replace(string(b), `"run_at": "`+rec["run_at"].(string)+`"`, `"run_at": "2026-01-01T00:00:00Z"`, 1)
+	if moved == string(b) {
+		t.Fatal("run_at not found in the record")
+	}
+	write(t, filepath.Join(out, record.AuditFileName), moved)
+	rep, m = verifyCodes(t, VerifyOptions{Dir: out, PublicKey: k1, Tool: record.ToolInfo{Version: "test"}})
+	if rep.OK() || !strings.Contains(strings.Join(m[DevRecordEdited], " "), "integrity.signature") {
+		t.Fatalf("a signed record with a moved run time passed: %+v", rep.Deviations)
+	}
+}
+
+func TestUnregisteredRun(t *testing.T) {
+	pp := writeCascade(t, "1e-12", "1e-12", "1e-12")
+	out := filepath.Join(filepath.Dir(pp), "out")
+	if _, err := engine.Run(engine.RunOptions{PlanPath: pp, OutDir: out, Now: t0}); err == nil {
+		t.Fatal("run without registration accepted")
+	}
+	r, err := engine.Run(engine.RunOptions{PlanPath: pp, OutDir: out, Now: t0, Unregistered: true, Tool: record.ToolInfo{Version: "test"}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !r.Unregistered {
+		t.Fatal("record not marked unregistered")
+	}
+	os.MkdirAll(out, 0o755)
+	if err := record.WriteRecord(out, r, nil); err != nil {
+		t.Fatal(err)
+	}
+	rep, m := verifyCodes(t, VerifyOptions{Dir: out, Tool: record.ToolInfo{Version: "test"}})
+	if rep.OK() || m[DevUnregisteredRun] == nil {
+		t.Fatalf("unregistered run passed verify: %v", m)
+	}
+}
+
+// A record with a rank step validates against the published schema and
+// verifies clean when re-run.
+func TestRankRecordVerifies(t *testing.T) {
+	_, pp := rankRun(t, false, "      - id: ve\n        model: van-elteren\n"+changeLog+"        compare: treatment\n        within: site\n",
+		"      - id: vs\n        kind: versus-control\n        adjust: holm\n")
+	out := filepath.Join(filepath.Dir(pp), "rec")
+	writeRun(t, pp, out, t0.Add(2*time.Hour), nil)
+	rep, err := Verify(VerifyOptions{Dir: out, Tool: record.ToolInfo{Version: "test"}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !rep.OK() {
+		t.Fatalf("deviations: %+v", rep.Deviations)
+	}
+}
