@@ -71,6 +71,7 @@ endpoints:
   alpha: 0.05
   id: density
   primary: true
+  not-computable: fail
   response: count
   hypotheses:
   - {kind: versus-control, id: versus-control, sides: less, factor: treatment, adjust: dunnett, alpha: 0.050}

@@ -98,6 +98,7 @@ endpoints:
   - id: e
     response: y
     primary: true
+    not-computable: fail
     steps:
       - {id: s, model: welch, compare: y}
 `

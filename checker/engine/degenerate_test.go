@@ -48,6 +48,7 @@ endpoints:
   - id: ep
     response: y
     primary: true
+    not-computable: fail
     steps:
 %s
     hypotheses:

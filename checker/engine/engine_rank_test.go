@@ -148,6 +148,7 @@ endpoints:
   - id: density
     response: juveniles
     primary: true
+    not-computable: fail
     steps:
 %s
     hypotheses:

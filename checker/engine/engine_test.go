@@ -49,6 +49,7 @@ endpoints:
   - id: yield
     response: y
     primary: true
+    not-computable: fail
     steps:
       - id: first
         model: linear

@@ -30,6 +30,7 @@ endpoints:
   - id: e
     response: y
     primary: true
+    not-computable: fail
     alpha: 0.05
     steps:
       - id: lin
