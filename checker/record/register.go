@@ -191,7 +191,7 @@ func Register(planPath string, opt RegisterOptions) (*RegisterResult, plan.Diagn
 	}
 	e := RegEntry{
 		PlanVersion:    p.Trial.Version,
-		PlanHash:       planHash(p),
+		PlanHash:       PlanHash(p),
 		PlanFileSHA256: SHA256Hex(raw),
 		RegisteredAt:   opt.Now.UTC().Format(time.RFC3339),
 		ToolVersion:    opt.ToolVersion,
@@ -270,7 +270,7 @@ func gitCommitOf(path string) string {
 	return strings.TrimSpace(string(out))
 }
 
-// planHash is the single place that calls plan.Hash.
-func planHash(p *plan.Plan) string {
+// PlanHash is the single place that calls plan.Hash.
+func PlanHash(p *plan.Plan) string {
 	return plan.Hash(p)
 }
