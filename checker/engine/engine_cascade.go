@@ -34,6 +34,8 @@ type Cascade struct {
 	checks map[string]checkFunc
 }
 
+// NewCascade returns a Cascade with every model fitter and check, the one
+// Run uses.
 func NewCascade() *Cascade {
 	return &Cascade{fits: modelFitters(), checks: checkFuncs()}
 }

@@ -270,7 +270,8 @@ func gitCommitOf(path string) string {
 	return strings.TrimSpace(string(out))
 }
 
-// PlanHash is the single place that calls plan.Hash.
+// PlanHash returns the canonical hash of p (plan.Hash); Register and the
+// engine's Run take it from here.
 func PlanHash(p *plan.Plan) string {
 	return plan.Hash(p)
 }
