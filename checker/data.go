@@ -2,9 +2,16 @@ package checker
 
 import (
 	"furrow/checker/contract"
+	"furrow/checker/method"
 	"furrow/checker/table"
 	"furrow/plan"
 )
+
+// LoadPlan reads and validates a plan file against this build's methods
+// (the registry of checks and model kinds); see [plan.Load].
+func LoadPlan(path string) (*plan.Plan, plan.Diagnostics, error) {
+	return plan.Load(path, method.Default)
+}
 
 // Table is a data file read into columns by name; see [table.Table].
 type Table = table.Table

@@ -88,7 +88,7 @@ func Run(opt RunOptions) (*record.Result, error) {
 	}
 	r.Inputs.PlanPath = relSlash(opt.OutDir, opt.PlanPath)
 	r.Inputs.PlanFileSHA256 = record.SHA256Hex(planRaw)
-	r.Inputs.PlanHash = plan.Hash(p)
+	r.Inputs.PlanHash = record.PlanHash(p)
 
 	// Registration.
 	ref, regErr := registrationRef(opt.PlanPath, opt.OutDir, r.Inputs.PlanHash)

@@ -36,7 +36,8 @@ type Cascade struct {
 	fits    map[string]fitFunc
 }
 
-// NewCascade returns the cascade runner of this build's registry.
+// NewCascade returns a Cascade with every model kind and check of this
+// build's registry, the one Run uses.
 func NewCascade() *Cascade {
 	return &Cascade{methods: method.Default, fits: modelFitters()}
 }

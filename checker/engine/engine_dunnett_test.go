@@ -11,7 +11,7 @@ import (
 // versus-control contrasts depart from the one-factor form, so the Dunnett
 // family is computed by randomised quasi-Monte Carlo. Reference: R 4.2.2,
 // multcomp 1.4.22 glht(lm(y ~ block + trt), mcp(trt = "Dunnett")),
-// single-step, abseps 1e-6 (checker/testdata/published/dunnett_qmc.R).
+// single-step, abseps 1e-6 (checker/engine/testdata/published/dunnett_qmc.R).
 // Both sides are randomised with errors near 1e-4, so the tolerance is
 // 1e-3 absolute.
 func TestDunnettNonProductCorrelation(t *testing.T) {

@@ -20,7 +20,7 @@ func unitColumn(p *plan.Plan) string {
 	return ""
 }
 
-// columnRole returns the plan column with the given role, or nil.
+// ColumnByRole returns the plan column with the given role, or nil.
 func ColumnByRole(p *plan.Plan, role string) *plan.Column {
 	for i := range p.Columns {
 		if p.Columns[i].Role == role {
@@ -30,6 +30,7 @@ func ColumnByRole(p *plan.Plan, role string) *plan.Column {
 	return nil
 }
 
+// PlanColumn returns the plan column with the given name, or nil.
 func PlanColumn(p *plan.Plan, name string) *plan.Column {
 	for i := range p.Columns {
 		if p.Columns[i].Name == name {

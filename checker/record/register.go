@@ -192,7 +192,7 @@ func Register(planPath string, opt RegisterOptions) (*RegisterResult, plan.Diagn
 	}
 	e := RegEntry{
 		PlanVersion:    p.Trial.Version,
-		PlanHash:       planHash(p),
+		PlanHash:       PlanHash(p),
 		PlanFileSHA256: SHA256Hex(raw),
 		RegisteredAt:   opt.Now.UTC().Format(time.RFC3339),
 		ToolVersion:    opt.ToolVersion,
@@ -271,7 +271,8 @@ func gitCommitOf(path string) string {
 	return strings.TrimSpace(string(out))
 }
 
-// planHash is the single place that calls plan.Hash.
-func planHash(p *plan.Plan) string {
+// PlanHash returns the canonical hash of p (plan.Hash); Register and the
+// engine's Run take it from here.
+func PlanHash(p *plan.Plan) string {
 	return plan.Hash(p)
 }

@@ -61,7 +61,7 @@ func exampleRun(t *testing.T, name string) (*record.Result, string) {
 
 // update rewrites the golden reports and plan documents under
 // testdata/golden (and, with Chromium, the README screenshot):
-// go test ./checker -run TestExample -update
+// go test ./checker/render -run TestExample -update
 var update = flag.Bool("update", false, "rewrite the golden reports and plan documents (testdata/golden) and the README screenshot")
 
 var exampleNames = []string{"soil-nematodes", "wheat-varieties", "irrigation-split-plot"}
@@ -82,10 +82,10 @@ func compareGolden(t *testing.T, name string, got []byte) {
 	}
 	want, err := os.ReadFile(path)
 	if err != nil {
-		t.Fatalf("%v (create it with: go test ./checker -run %s -update)", err, t.Name())
+		t.Fatalf("%v (create it with: go test ./checker/render -run %s -update)", err, t.Name())
 	}
 	if !bytes.Equal(got, want) {
-		t.Errorf("%s differs from the golden file; if the change is intended, regenerate with: go test ./checker -run %s -update\n%s",
+		t.Errorf("%s differs from the golden file; if the change is intended, regenerate with: go test ./checker/render -run %s -update\n%s",
 			path, t.Name(), lineDiff(string(want), string(got)))
 	}
 }

@@ -330,7 +330,7 @@ var fuzzRunSeeds = []struct {
 func seedExample(exs []fuzzExample, i uint8) *fuzzExample { return &exs[int(i)%len(exs)] }
 
 // FuzzRun runs the whole pipeline on mutated example data. Run it with
-// go test -fuzz=FuzzRun -fuzztime=60s ./checker; the committed corpus in
+// go test -fuzz=FuzzRun -fuzztime=60s ./checker/render; the committed corpus in
 // testdata/fuzz/FuzzRun holds the inputs that once crashed.
 func FuzzRun(f *testing.F) {
 	exs := loadFuzzExamples(f)
@@ -347,7 +347,7 @@ func FuzzRun(f *testing.F) {
 // FuzzExplain mutates valid plans as plan's FuzzValidate does; for every
 // mutated plan without errors the plan document must build and render to
 // Markdown and HTML without a panic. Run it with
-// go test -fuzz=FuzzExplain ./checker.
+// go test -fuzz=FuzzExplain ./checker/render.
 func FuzzExplain(f *testing.F) {
 	files, _ := filepath.Glob("../../examples/*/plan.yaml")
 	more, _ := filepath.Glob("../../plan/testdata/*.yaml")

@@ -333,7 +333,7 @@ func TestSimulateRefusesBadOptions(t *testing.T) {
 
 // The check tallies agree with a direct simulation in R: the size of
 // Levene's and the Brown-Forsythe test for 8 groups of 4 normal values
-// (checker/testdata/simulate/ref.R, R 4.2.2; Levene's mean-centred test
+// (checker/simulate/testdata/ref.R, R 4.2.2; Levene's mean-centred test
 // is far above its nominal 0.05 at this group size). Tolerance: 4
 // combined binomial standard errors of the two simulations.
 func TestSimulateCheckSizeMatchesR(t *testing.T) {

@@ -5,8 +5,6 @@ import (
 	"path/filepath"
 
 	"furrow/checker"
-	"furrow/checker/method"
-	"furrow/plan"
 )
 
 const checkUsage = `usage: furrow check [--json] [--summary] PLAN [DATA]
@@ -58,7 +56,7 @@ func runCheck(e *env, c *command, args []string) int {
 	if len(pos) == 2 {
 		dataPath = pos[1]
 	}
-	p, ds, err := plan.Load(planPath, method.Default)
+	p, ds, err := checker.LoadPlan(planPath)
 	if err != nil {
 		return fail(e, c, err)
 	}

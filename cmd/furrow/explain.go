@@ -4,7 +4,6 @@ import (
 	"fmt"
 
 	"furrow/checker"
-	"furrow/checker/method"
 	"furrow/plan"
 )
 
@@ -49,7 +48,7 @@ func runExplain(e *env, c *command, args []string) int {
 	if !ok {
 		return code
 	}
-	p, ds, err := plan.Load(pos[0], method.Default)
+	p, ds, err := checker.LoadPlan(pos[0])
 	if err != nil {
 		return fail(e, c, err)
 	}

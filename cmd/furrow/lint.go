@@ -3,7 +3,7 @@ package main
 import (
 	"fmt"
 
-	"furrow/checker/method"
+	"furrow/checker"
 	"furrow/plan"
 )
 
@@ -44,7 +44,7 @@ func runLint(e *env, c *command, args []string) int {
 		return code
 	}
 	path := pos[0]
-	p, ds, err := plan.Load(path, method.Default)
+	p, ds, err := checker.LoadPlan(path)
 	if err != nil {
 		return fail(e, c, err)
 	}

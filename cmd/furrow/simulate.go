@@ -7,8 +7,6 @@ import (
 	"strings"
 
 	"furrow/checker"
-	"furrow/checker/method"
-	"furrow/plan"
 )
 
 const simulateUsage = `usage: furrow simulate [--runs N] [--seed S] [--errors SHAPE] [--effect LEVEL=DELTA ...] [--json] PLAN
@@ -90,7 +88,7 @@ func runSimulate(e *env, c *command, args []string) int {
 	if *runs < 1 || *runs > 1_000_000 {
 		return usageError(e, c, fmt.Sprintf("--runs %d is outside 1 to 1000000", *runs))
 	}
-	p, ds, err := plan.Load(pos[0], method.Default)
+	p, ds, err := checker.LoadPlan(pos[0])
 	if err != nil {
 		return fail(e, c, err)
 	}

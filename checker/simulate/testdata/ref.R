@@ -1,4 +1,4 @@
-# Reference rejection rates for checker/simulate_test.go, by direct
+# Reference rejection rates for checker/simulate/simulate_test.go, by direct
 # simulation in R (base stats only): the size of Levene's test (absolute
 # deviations from the group mean; Levene 1960) and of the Brown-Forsythe
 # variant (deviations from the group median; Brown & Forsythe 1974, JASA

@@ -1,4 +1,4 @@
-# Reference for TestDunnettNonProductCorrelation (checker/engine_dunnett_test.go):
+# Reference for TestDunnettNonProductCorrelation (checker/engine/engine_dunnett_test.go):
 # an unbalanced RCBD whose Dunnett contrasts are not of the one-factor form.
 # Run with: Rscript dunnett_qmc.R (R 4.2.2, multcomp 1.4.22, mvtnorm 1.1.3);
 # it prints the data rows, then the adjusted p-values and t statistics.

@@ -1,6 +1,6 @@
 # Reference values for the published end-to-end checks of the engine
-# (checker/engine_ref_test.go) and the simultaneous comparisons on linear
-# and mixed steps (checker/engine_mixed_test.go).
+# (checker/engine/engine_ref_test.go) and the simultaneous comparisons on linear
+# and mixed steps (checker/engine/engine_mixed_test.go).
 #
 # Run from this folder with Debian's R packages:
 #   Rscript ref.R

@@ -1,6 +1,6 @@
-# Reference values for checker/engine_rank_test.go.
+# Reference values for checker/engine/engine_rank_test.go.
 #
-# Run from checker/testdata/rank:  Rscript ref.R
+# Run from checker/engine/testdata/rank:  Rscript ref.R
 # Writes plots.csv (an invented, seeded multi-site trial: 3 sites x 4
 # blocks x 3 treatments, nematode counts before application and at
 # harvest) and ref.json (R 4.2.2 stats and car 3.1-1 results on the
@@ -165,7 +165,7 @@ ref$vanelteren2 <- ve
 # van Elteren step on the change log(harvest + 1) - log(before + 1) within
 # sites, after the plan's exclusion of plots without a baseline count;
 # versus-untreated sides less, declared dunnett, used holm.
-ex <- read.csv("../../../examples/soil-nematodes/plots.csv", na.strings = c("", "NA"))
+ex <- read.csv("../../../../examples/soil-nematodes/plots.csv", na.strings = c("", "NA"))
 ew <- reshape(ex, idvar = c("site", "block", "plot", "treatment"), timevar = "time", direction = "wide")
 ew <- ew[!is.na(ew$juveniles.before) & !is.na(ew$juveniles.harvest), ]
 ew$change <- log(ew$juveniles.harvest + 1) - log(ew$juveniles.before + 1)

@@ -1,10 +1,10 @@
 # Hodges-Lehmann estimates and intervals for the rank-step comparisons of
-# checker/engine_rank_test.go, on the data of ref.R (plots.csv) and of the
+# checker/engine/engine_rank_test.go, on the data of ref.R (plots.csv) and of the
 # soil-nematodes example. Two-sample and paired: R 4.2.2
 # wilcox.test(conf.int = TRUE); stratified: the inversion of van Elteren's
 # (1960) statistic written out from the formulas (as in
 # stats/rank/testdata/ref_hl.R), evaluated with rank() at gap midpoints.
-# Run from checker/testdata/rank:  Rscript ref_hl.R  (writes ref_hl.json)
+# Run from checker/engine/testdata/rank:  Rscript ref_hl.R  (writes ref_hl.json)
 suppressPackageStartupMessages(library(jsonlite))
 
 Sfun <- function(strata, cc) {
@@ -72,7 +72,7 @@ tt <- table(dd); sig <- sqrt(n * (n + 1) * (2 * n + 1) / 24 - sum(tt^3 - tt) / 4
 clo <- ceiling(M / 2 - qnorm(0.95) * sig - 0.5)
 out$signed_paired_less <- list(estimate = median(wa), upper = wa[M - clo + 1], zeros = sum(dd == 0))
 
-ex <- read.csv("../../../examples/soil-nematodes/plots.csv", na.strings = c("", "NA"))
+ex <- read.csv("../../../../examples/soil-nematodes/plots.csv", na.strings = c("", "NA"))
 ew <- reshape(ex, idvar = c("site", "block", "plot", "treatment"), timevar = "time", direction = "wide")
 ew <- ew[!is.na(ew$juveniles.before) & !is.na(ew$juveniles.harvest), ]
 ew$change <- log(ew$juveniles.harvest + 1) - log(ew$juveniles.before + 1)
