@@ -104,6 +104,7 @@ type cEndpoint struct {
 	Response   string        `json:"response"`
 	Primary    bool          `json:"primary"`
 	Alpha      float64       `json:"alpha"`
+	NotComp    string        `json:"not-computable,omitempty"`
 	Steps      []cStep       `json:"steps"`
 	Hypotheses []cHypothesis `json:"hypotheses"`
 }
@@ -126,6 +127,14 @@ type cCheck struct {
 	By        []string `json:"by"`
 	FailBelow float64  `json:"fail-below"`
 	OnFail    string   `json:"on-fail"`
+	NotComp   string   `json:"not-computable,omitempty"`
+}
+
+type cAnswer struct {
+	Hypothesis string `json:"hypothesis"`
+	Adjust     string `json:"adjust,omitempty"`
+	Estimate   string `json:"estimate,omitempty"`
+	Omit       string `json:"omit,omitempty"`
 }
 
 type cStep struct {
@@ -143,6 +152,7 @@ type cStep struct {
 	Anova      int        `json:"anova"`
 	Checks     []cCheck   `json:"checks"`
 	OnFail     string     `json:"on-fail"`
+	Answers    []cAnswer  `json:"answers,omitempty"`
 }
 
 type cMargin struct {
@@ -165,6 +175,7 @@ type cHypothesis struct {
 	Better  string     `json:"better"`
 	Alpha   float64    `json:"alpha"`
 	Adjust  string     `json:"adjust"`
+	Est     string     `json:"estimate,omitempty"`
 }
 
 func strList(xs []string) []string {
@@ -214,7 +225,7 @@ func canonicalPlan(p *Plan) cPlan {
 			At: e.At, Units: strList(e.Units), Reason: e.Reason})
 	}
 	for _, e := range p.Endpoints {
-		ce := cEndpoint{ID: e.ID, Response: e.Response, Primary: e.Primary, Alpha: e.Alpha, Steps: []cStep{}, Hypotheses: []cHypothesis{}}
+		ce := cEndpoint{ID: e.ID, Response: e.Response, Primary: e.Primary, Alpha: e.Alpha, NotComp: e.NotComputable, Steps: []cStep{}, Hypotheses: []cHypothesis{}}
 		for _, s := range e.Steps {
 			cs := cStep{ID: s.ID, Model: s.Model,
 				Outcome:    cOutcome{s.Outcome.Derive, s.Outcome.From, s.Outcome.To, s.Outcome.At},
@@ -231,14 +242,17 @@ func canonicalPlan(p *Plan) cPlan {
 				cs.Transform.Lambda = floatPtr(&s.Transform.Lambda)
 			}
 			for _, ch := range s.Checks {
-				cs.Checks = append(cs.Checks, cCheck{Test: ch.Test, By: strList(ch.By), FailBelow: ch.FailBelow, OnFail: ch.OnFail})
+				cs.Checks = append(cs.Checks, cCheck{Test: ch.Test, By: strList(ch.By), FailBelow: ch.FailBelow, OnFail: ch.OnFail, NotComp: ch.NotComputable})
+			}
+			for _, a := range s.Answers {
+				cs.Answers = append(cs.Answers, cAnswer{Hypothesis: a.Hypothesis, Adjust: a.Adjust, Estimate: a.Estimate, Omit: a.Omit})
 			}
 			ce.Steps = append(ce.Steps, cs)
 		}
 		for _, h := range e.Hypotheses {
 			ch := cHypothesis{ID: h.ID, Kind: h.Kind, Factor: h.Factor, Levels: strList(h.Levels), Pairs: [][]string{},
 				Test: h.Test, Against: h.Against, Term: strList(h.Term), Sides: h.Sides, Better: h.Better,
-				Alpha: h.Alpha, Adjust: h.Adjust}
+				Alpha: h.Alpha, Adjust: h.Adjust, Est: h.Estimate}
 			for _, pr := range h.Pairs {
 				ch.Pairs = append(ch.Pairs, strList(pr))
 			}

@@ -67,10 +67,12 @@ endpoints:
     anova: 3
     checks: [{test: shapiro-wilk, fail-below: 5e-2}]
     on-fail: change-ranks
-  - {id: change-ranks, model: kruskal-wallis, compare: treatment, outcome: {derive: change, to: after, from: before}, transform: {kind: none}}
+  - {id: change-ranks, model: kruskal-wallis, compare: treatment, outcome: {derive: change, to: after, from: before}, transform: {kind: none},
+     answers: [{estimate: hodges-lehmann, hypothesis: versus-control, adjust: holm}]}
   alpha: 0.05
   id: density
   primary: true
+  not-computable: fail
   response: count
   hypotheses:
   - {kind: versus-control, id: versus-control, sides: less, factor: treatment, adjust: dunnett, alpha: 0.050}

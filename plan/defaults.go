@@ -67,6 +67,9 @@ func (p *Plan) fillDefaults(m Methods) {
 			}
 			for k := range s.Checks {
 				c := &s.Checks[k]
+				if c.NotComputable == "" {
+					c.NotComputable = e.NotComputable
+				}
 				if r, ok := m.Check(c.Test); ok && r.Grouped && c.By == nil && treatment != "" {
 					c.By = []string{treatment}
 				}
@@ -85,6 +88,9 @@ func (p *Plan) fillDefaults(m Methods) {
 			}
 			if h.Alpha == 0 {
 				h.Alpha = e.Alpha
+			}
+			if h.Estimate == "" && h.Kind != HypTerm {
+				h.Estimate = EstimateMeanDifference
 			}
 			if h.Adjust == "" {
 				switch h.Kind {

@@ -71,6 +71,12 @@ type ModelRules struct {
 	// Means says the step's comparisons are of (back-transformed) means,
 	// so that a ratio margin needs a log scale.
 	Means bool
+	// Estimates lists the estimators the step's comparisons give
+	// (EstimateMeanDifference, EstimateHodgesLehmann).
+	Estimates []string
+	// JointAdjust says the step's comparisons have a joint distribution
+	// (a model's contrasts), so that dunnett and tukey apply.
+	JointAdjust bool
 }
 
 // CheckRules are the plan-language rules of one assumption check.

@@ -156,13 +156,17 @@ type Exclusion struct {
 
 // Endpoint is one response analysed by an ordered cascade of steps.
 type Endpoint struct {
-	ID         string
-	Response   string // name of a response column
-	Primary    bool
-	Alpha      float64 // default 0.05
-	Steps      []Step
-	Hypotheses []Hypothesis
-	Pos        Pos
+	ID       string
+	Response string // name of a response column
+	Primary  bool
+	Alpha    float64 // default 0.05
+	// NotComputable is what a check of this endpoint that cannot be
+	// computed on the data counts as, where the check does not say
+	// (NotComputableFail, NotComputablePass or NotComputableStop).
+	NotComputable string
+	Steps         []Step
+	Hypotheses    []Hypothesis
+	Pos           Pos
 }
 
 // Outcome derivations.
@@ -225,8 +229,20 @@ type Check struct {
 	By        []string // grouping columns for variance tests (default: the treatment column)
 	FailBelow float64  // the check fails when its p-value is below this
 	OnFail    string   // step to go to when this check fails (overrides the step's OnFail)
-	Pos       Pos
+	// NotComputable is what the check counts as when it cannot be
+	// computed on the data at hand (Shapiro-Wilk beyond 5000 residuals, a
+	// variance test with one value in a group): NotComputableFail,
+	// NotComputablePass or NotComputableStop. Filled from the endpoint.
+	NotComputable string
+	Pos           Pos
 }
+
+// What a check that cannot be computed counts as.
+const (
+	NotComputableFail = "fail" // as a failed check: its on-fail is taken
+	NotComputablePass = "pass" // as a passed check
+	NotComputableStop = "stop" // the endpoint stops: no step is reported
+)
 
 // Step is one analysis in an endpoint's cascade.
 type Step struct {
@@ -244,8 +260,33 @@ type Step struct {
 	Anova      int // ANOVA type 1, 2 or 3 (default 3)
 	Checks     []Check
 	OnFail     string // step to go to when any check fails; empty = last resort
+	// Answers say how this step answers hypotheses it cannot answer as
+	// the hypothesis declares them (another adjustment or estimator), or
+	// that it does not answer them.
+	Answers []Answer
+	Pos     Pos
+}
+
+// Answer is a step's declared way of answering one hypothesis of its
+// endpoint, overriding the hypothesis's adjustment or estimator on this
+// step, or omitting the hypothesis here with a reason.
+type Answer struct {
+	Hypothesis string // the hypothesis id
+	Adjust     string // multiplicity adjustment on this step ("" = as declared)
+	Estimate   string // estimator on this step ("" = as declared)
+	Omit       string // the reason this step does not answer the hypothesis ("" = it does)
 	Pos        Pos
 }
+
+// Estimators of a comparison.
+const (
+	// EstimateMeanDifference: the difference of (marginal) means on the
+	// analysis scale, a ratio of back-transformed means on a log scale.
+	EstimateMeanDifference = "mean-difference"
+	// EstimateHodgesLehmann: the Hodges-Lehmann shift matching the rank
+	// test (a ratio on a log scale).
+	EstimateHodgesLehmann = "hodges-lehmann"
+)
 
 // Hypothesis kinds.
 const (
@@ -293,5 +334,29 @@ type Hypothesis struct {
 	Better  string  // non-inferiority: "higher" (default) or "lower"
 	Alpha   float64 // filled with the endpoint's alpha when not written
 	Adjust  string
-	Pos     Pos
+	// Estimate is the estimator of a comparison (default
+	// EstimateMeanDifference; empty for a term hypothesis).
+	Estimate string
+	Pos      Pos
+}
+
+// AnswerOn returns how step s answers hypothesis h: the hypothesis's
+// adjustment and estimator, overridden by the step's declared answer for
+// h, if any; Pos is that answer's position (zero when none is declared).
+func AnswerOn(s *Step, h *Hypothesis) Answer {
+	a := Answer{Hypothesis: h.ID, Adjust: h.Adjust, Estimate: h.Estimate}
+	for _, o := range s.Answers {
+		if o.Hypothesis != h.ID {
+			continue
+		}
+		a.Pos, a.Omit = o.Pos, o.Omit
+		if o.Adjust != "" {
+			a.Adjust = o.Adjust
+		}
+		if o.Estimate != "" {
+			a.Estimate = o.Estimate
+		}
+		break
+	}
+	return a
 }

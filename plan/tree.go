@@ -291,6 +291,8 @@ func (d *treeDecoder) endpoint(n *yaml.Node, path string) Endpoint {
 			e.Primary = d.boolean(v)
 		case "alpha":
 			e.Alpha = d.num(v)
+		case "not-computable":
+			e.NotComputable = d.str(v)
 		case "steps":
 			sp := join(path, k)
 			for i, s := range d.items(v, sp) {
@@ -365,9 +367,30 @@ func (d *treeDecoder) step(n *yaml.Node, path string) Step {
 			}
 		case "on-fail":
 			s.OnFail = d.str(v)
+		case "answers":
+			for i, a := range d.items(v, kp) {
+				s.Answers = append(s.Answers, d.answer(a, index(kp, i)))
+			}
 		}
 	}
 	return s
+}
+
+func (d *treeDecoder) answer(n *yaml.Node, path string) Answer {
+	a := Answer{Pos: d.pos(n)}
+	for k, v := range d.members(n, path) {
+		switch k {
+		case "hypothesis":
+			a.Hypothesis = d.str(v)
+		case "adjust":
+			a.Adjust = d.str(v)
+		case "estimate":
+			a.Estimate = d.str(v)
+		case "omit":
+			a.Omit = d.str(v)
+		}
+	}
+	return a
 }
 
 func (d *treeDecoder) check(n *yaml.Node, path string) Check {
@@ -382,6 +405,8 @@ func (d *treeDecoder) check(n *yaml.Node, path string) Check {
 			c.FailBelow = d.num(v)
 		case "on-fail":
 			c.OnFail = d.str(v)
+		case "not-computable":
+			c.NotComputable = d.str(v)
 		}
 	}
 	return c
@@ -431,6 +456,8 @@ func (d *treeDecoder) hypothesis(n *yaml.Node, path string) Hypothesis {
 			h.Alpha = d.num(v)
 		case "adjust":
 			h.Adjust = d.str(v)
+		case "estimate":
+			h.Estimate = d.str(v)
 		}
 	}
 	return h

@@ -270,6 +270,8 @@ func (v *validator) endpoints() {
 		}
 		v.steps(e, path, resp)
 		v.hypotheses(e, path)
+		v.answers(e, path)
+		v.notComputable(e, path)
 	}
 	if len(v.p.Endpoints) > 0 && primary == 0 {
 		v.errf("no-primary", "endpoints", "no endpoint is marked primary: true; a plan needs at least one primary endpoint")
@@ -865,13 +867,7 @@ func (v *validator) margined(e *Endpoint, h *Hypothesis, hp string, f *Column) {
 			}
 		}
 	}
-	if ratio {
-		for _, s := range e.Steps {
-			if r, ok := v.m.Model(s.Model); ok && r.Means && !isLogType(s.Transform.Kind) {
-				v.warnf("ratio-scale", mp+".scale", "a ratio margin compares back-transformed means, but step %q uses transform %s, not a log; the margin cannot be applied on that step", s.ID, s.Transform.Kind)
-			}
-		}
-	}
+
 }
 
 func (v *validator) termHypothesis(e *Endpoint, h *Hypothesis, hp string) {
@@ -955,4 +951,166 @@ func countWord(n int) string {
 		return words[n]
 	}
 	return strconv.Itoa(n)
+}
+
+// adjustments lists every multiplicity adjustment, in plan-language order.
+var adjustments = []string{AdjustNone, AdjustBonferroni, AdjustHolm, AdjustHochberg, AdjustBH, AdjustTukey, AdjustDunnett}
+
+// answers checks that every step of the endpoint answers every hypothesis
+// as declared, or declares how it does (or that it does not): the run
+// never substitutes an adjustment, an estimator or a test for the
+// declared one, so a plan that leaves that choice open is refused here.
+func (v *validator) answers(e *Endpoint, path string) {
+	hyps := map[string]int{}
+	var names []string
+	for k, h := range e.Hypotheses {
+		hyps[h.ID] = k
+		names = append(names, h.ID)
+	}
+	for j := range e.Steps {
+		s := &e.Steps[j]
+		sp := fmt.Sprintf("%s.steps[%d]", path, j)
+		seen := map[string]string{}
+		for k, a := range s.Answers {
+			ap := fmt.Sprintf("%s.answers[%d]", sp, k)
+			hk, ok := hyps[a.Hypothesis]
+			if !ok {
+				msg := fmt.Sprintf("answer names hypothesis %q, which endpoint %q does not have", a.Hypothesis, e.ID)
+				if sug := schema.Suggest(a.Hypothesis, names); sug != "" {
+					msg += fmt.Sprintf(" (did you mean %q?)", sug)
+				}
+				v.add(Error, "unknown-hypothesis", ap+".hypothesis", msg)
+				continue
+			}
+			if first, dup := seen[a.Hypothesis]; dup {
+				v.add(Error, "duplicate-answer", ap+".hypothesis", fmt.Sprintf("step %q answers hypothesis %q twice", s.ID, a.Hypothesis), v.p.PosOf(first))
+				continue
+			}
+			seen[a.Hypothesis] = ap + ".hypothesis"
+			h := &e.Hypotheses[hk]
+			switch {
+			case a.Omit != "" && (a.Adjust != "" || a.Estimate != ""):
+				v.errf("answer-omit", ap+".omit", "an answer that omits hypothesis %q declares no adjust or estimate", h.ID)
+			case a.Omit == "" && a.Adjust == "" && a.Estimate == "":
+				v.errf("answer-empty", ap, "the answer of step %q for hypothesis %q declares nothing; give adjust, estimate, or omit with the reason", s.ID, h.ID)
+			case h.Kind == HypTerm && a.Omit == "":
+				v.errf("answer-term", ap, "term hypothesis %q has no adjustment or estimator; a step can only omit it", h.ID)
+			}
+			switch a.Adjust {
+			case AdjustDunnett:
+				if h.Kind != HypVersusControl {
+					v.errf("adjust-kind", ap+".adjust", "dunnett adjusts comparisons with a control; use it with versus-control hypotheses only")
+				}
+			case AdjustTukey:
+				if h.Kind != HypPairwise {
+					v.errf("adjust-kind", ap+".adjust", "tukey adjusts all pairwise comparisons; use it with pairwise hypotheses only")
+				}
+			}
+		}
+		r, ok := v.m.Model(s.Model)
+		if !ok {
+			continue
+		}
+		for k := range e.Hypotheses {
+			h := &e.Hypotheses[k]
+			a := AnswerOn(s, h)
+			if a.Omit != "" {
+				continue
+			}
+			why := v.unanswerable(s, r, h, a)
+			if len(why) == 0 {
+				continue
+			}
+			where := sp + ".id"
+			if a.Pos.Line > 0 {
+				where = ""
+			}
+			msg := fmt.Sprintf("step %q (%s) cannot answer hypothesis %q as declared: %s; %s",
+				s.ID, s.Model, h.ID, strings.Join(why, "; "), v.validAnswers(s, r, h))
+			d := Diagnostic{Severity: Error, Code: "answer-undeclared", Pos: v.p.PosOf(where), Path: where, Summary: msg,
+				Related: []Pos{v.p.PosOf(fmt.Sprintf("%s.hypotheses[%d].id", path, k))}}
+			if where == "" {
+				d.Pos, d.Path = a.Pos, sp+".answers"
+			}
+			v.ds = append(v.ds, d)
+		}
+	}
+}
+
+// unanswerable lists why step s of the given rules cannot answer h as a
+// says (nothing when it can).
+func (v *validator) unanswerable(s *Step, r ModelRules, h *Hypothesis, a Answer) []string {
+	var why []string
+	if h.Kind == HypTerm {
+		switch {
+		case !r.Model:
+			why = append(why, fmt.Sprintf("a %s step fits no model terms to test", s.Model))
+		case !hasTerm(s.Fixed, h.Term):
+			why = append(why, fmt.Sprintf("term %s is not a fixed term of this step", strings.Join(h.Term, ":")))
+		}
+		return why
+	}
+	switch {
+	case r.Model && h.Factor != "" && !hasTerm(s.Fixed, []string{h.Factor}):
+		why = append(why, fmt.Sprintf("%s is not a fixed term of this step, so it has no marginal means of it", h.Factor))
+	case !r.Model && s.Compare != "" && h.Factor != "" && h.Factor != s.Compare:
+		why = append(why, fmt.Sprintf("the step compares the levels of %s, not of %s", s.Compare, h.Factor))
+	}
+	if a.Estimate != "" && !slices.Contains(r.Estimates, a.Estimate) {
+		why = append(why, fmt.Sprintf("it gives %s estimates, not %s", joinWith(r.Estimates, " or "), a.Estimate))
+	}
+	if (a.Adjust == AdjustDunnett || a.Adjust == AdjustTukey) && !r.JointAdjust {
+		why = append(why, fmt.Sprintf("%s needs the joint distribution of a model's contrasts, and this step compares pairs by separate two-sample tests", a.Adjust))
+	}
+	if h.Margin != nil && h.Margin.Scale == "ratio" && !isLogType(s.Transform.Kind) {
+		why = append(why, fmt.Sprintf("a ratio margin needs a log scale, and the step uses transform %s", s.Transform.Kind))
+	}
+	return why
+}
+
+// validAnswers says what the step's answers may declare for h.
+func (v *validator) validAnswers(s *Step, r ModelRules, h *Hypothesis) string {
+	omit := fmt.Sprintf("or omit %q there with the reason", h.ID)
+	if h.Kind == HypTerm || (h.Margin != nil && h.Margin.Scale == "ratio" && !isLogType(s.Transform.Kind)) ||
+		(r.Model && h.Factor != "" && !hasTerm(s.Fixed, []string{h.Factor})) ||
+		(!r.Model && s.Compare != "" && h.Factor != "" && h.Factor != s.Compare) {
+		return fmt.Sprintf("declare under answers of step %q that it omits %q, with the reason", s.ID, h.ID)
+	}
+	var adj []string
+	for _, a := range adjustments {
+		switch {
+		case a == AdjustDunnett && (h.Kind != HypVersusControl || !r.JointAdjust),
+			a == AdjustTukey && (h.Kind != HypPairwise || !r.JointAdjust):
+			continue
+		}
+		adj = append(adj, a)
+	}
+	return fmt.Sprintf("declare under answers of step %q how it answers %q (adjust: %s; estimate: %s), %s",
+		s.ID, h.ID, joinWith(adj, " or "), joinWith(r.Estimates, " or "), omit)
+}
+
+// hasTerm reports whether terms hold a term of exactly these columns.
+func hasTerm(terms []Term, cols []string) bool {
+	want := slices.Sorted(slices.Values(cols))
+	for _, t := range terms {
+		if slices.Equal(slices.Sorted(slices.Values(t.Columns)), want) {
+			return true
+		}
+	}
+	return false
+}
+
+// notComputable checks that every check says what it counts as when it
+// cannot be computed on the data, itself or through its endpoint.
+func (v *validator) notComputable(e *Endpoint, path string) {
+	for j, s := range e.Steps {
+		for k, c := range s.Checks {
+			if c.NotComputable != "" {
+				continue
+			}
+			v.errf("not-computable-undeclared", fmt.Sprintf("%s.steps[%d].checks[%d]", path, j, k),
+				"check %s of step %q does not say what it counts as when it cannot be computed on the data (too few or too many residuals, a group with one value); declare not-computable: fail, pass or stop on the check or on endpoint %q",
+				c.Test, s.ID, e.ID)
+		}
+	}
 }

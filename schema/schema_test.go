@@ -98,6 +98,7 @@ endpoints:
   - id: e
     response: y
     primary: true
+    not-computable: fail
     steps:
       - {id: s, model: welch, compare: y}
 `
@@ -126,7 +127,7 @@ func TestProblemWording(t *testing.T) {
 			`sheet is empty; give it a value or remove the key`},
 		{"range", "primary: true", "primary: true\n    alpha: 1.5", 10, 12, "endpoints[0].alpha", "out-of-range",
 			`alpha must be between 0 and 1, both excluded; got 1.5`},
-		{"list item type", "{id: s, model: welch, compare: y}", "{id: s, model: linear, fixed: [[y, {a: 1}]]}", 11, 44, "endpoints[0].steps[0].fixed[0][1]", "wrong-type",
+		{"list item type", "{id: s, model: welch, compare: y}", "{id: s, model: linear, fixed: [[y, {a: 1}]]}", 12, 44, "endpoints[0].steps[0].fixed[0][1]", "wrong-type",
 			`fixed[0][1] must be text; got a set of keys`},
 		{"delimiter", "data: {file: d.csv}", "data: {file: d.csv, delimiter: ';;'}", 3, 32, "data.delimiter", "too-many",
 			`delimiter must be a single character; got ";;"`},

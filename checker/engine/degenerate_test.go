@@ -48,6 +48,7 @@ endpoints:
   - id: ep
     response: y
     primary: true
+    not-computable: fail
     steps:
 %s
     hypotheses:
@@ -197,7 +198,10 @@ const linearThenKruskal = `      - id: linear
         on-fail: ranks
       - id: ranks
         model: kruskal-wallis
-        compare: treatment`
+        compare: treatment
+        answers:
+          - hypothesis: vs-control
+            estimate: hodges-lehmann`
 
 // Every unit of treatment b is removed by a listed-unit exclusion.
 func TestDegenerateTreatmentAllExcluded(t *testing.T) {
@@ -275,7 +279,10 @@ func TestDegenerateNoSecondTime(t *testing.T) {
       - id: ranks
         model: kruskal-wallis
         outcome: {derive: change, from: t1, to: t2}
-        compare: treatment`,
+        compare: treatment
+        answers:
+          - hypothesis: vs-control
+            estimate: hodges-lehmann`,
 		rows: rows,
 	}
 	r, err := c.run(t)
@@ -306,7 +313,10 @@ func TestDegenerateAllTies(t *testing.T) {
 		blocks: "B1", layout: "crd",
 		steps: `      - id: ranks
         model: kruskal-wallis
-        compare: treatment`,
+        compare: treatment
+        answers:
+          - hypothesis: vs-control
+            estimate: hodges-lehmann`,
 		rows: crdRows(4, []string{"B1"}, func(k, i int) float64 { return 7 }),
 	}
 	r, err := c.run(t)

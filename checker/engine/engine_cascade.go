@@ -3,6 +3,7 @@ package engine
 import (
 	"fmt"
 	"math"
+	"strings"
 
 	"furrow/checker/method"
 	"furrow/checker/record"
@@ -89,41 +90,82 @@ func (e *Cascade) RunEndpoint(p *plan.Plan, kept *table.Table, ep *plan.Endpoint
 		sum := f.summary
 		sr.Fit = &sum
 		sr.Figures = figureData(f)
-		failed := -1
+		// A check fails when its p-value is below its threshold; one that
+		// cannot be computed counts as its not-computable declares.
+		var failing, notComputed []int
+		stop := -1
 		for k := range s.Checks {
 			c := &s.Checks[k]
 			cr := e.runCheck(f, s, c)
 			sr.Checks[k] = cr
-			if cr.Verdict != record.VerdictPass && failed < 0 {
-				failed = k
+			switch {
+			case cr.Verdict == record.VerdictFail:
+				failing = append(failing, k)
+			case cr.Verdict == record.VerdictError:
+				notComputed = append(notComputed, k)
+				switch c.NotComputable {
+				case plan.NotComputablePass:
+				case plan.NotComputableStop:
+					if stop < 0 {
+						stop = k
+					}
+				default:
+					failing = append(failing, k)
+				}
 			}
 		}
 		switch {
-		case failed < 0:
+		case stop >= 0:
+			c := &s.Checks[stop]
+			sr.Decision = record.Decision{Action: record.ActionStop, Reason: record.ReasonCheckNotComputable, Rule: posText(c.Pos),
+				Detail: fmt.Sprintf("%s could not be computed (%s); the plan declares that this stops the analysis of the endpoint (not-computable: stop)", c.Test, sr.Checks[stop].Error)}
+			er.Status = record.EndpointStopped
+		case len(failing) == 0:
 			reason, detail := record.ReasonChecksPassed, "every declared check passed"
 			if len(s.Checks) == 0 {
 				reason, detail = record.ReasonNoChecks, "the step declares no checks"
+			}
+			if len(notComputed) > 0 {
+				var names []string
+				for _, k := range notComputed {
+					names = append(names, s.Checks[k].Test)
+				}
+				detail = fmt.Sprintf("every declared check passed, %s counting as passed when it cannot be computed, as the plan declares (not-computable: pass)", strings.Join(names, " and "))
 			}
 			sr.Decision = record.Decision{Action: record.ActionAccept, Reason: reason, Rule: posText(s.Pos), Detail: detail}
 			er.Status = record.EndpointAccepted
 			reported = f
 		default:
-			c := &s.Checks[failed]
-			cr := sr.Checks[failed]
-			what := fmt.Sprintf("%s p = %s is below %g", c.Test, decisionP(float64(cr.P)), c.FailBelow)
-			if cr.Verdict == record.VerdictError {
-				what = fmt.Sprintf("%s could not be computed (%s)", c.Test, cr.Error)
+			first := failing[0]
+			c := &s.Checks[first]
+			cr := sr.Checks[first]
+			var whats []string
+			for _, k := range failing {
+				ck, crk := &s.Checks[k], sr.Checks[k]
+				if crk.Verdict == record.VerdictError {
+					whats = append(whats, fmt.Sprintf("%s could not be computed (%s) and counts as failed (not-computable: fail)", ck.Test, crk.Error))
+				} else {
+					whats = append(whats, fmt.Sprintf("%s p = %s is below %g", ck.Test, decisionP(float64(crk.P)), ck.FailBelow))
+				}
 			}
+			what := strings.Join(whats, "; ")
 			if cr.OnFail != "" {
 				next = index[cr.OnFail]
+				via := ""
+				if len(failing) > 1 {
+					via = " (the on-fail of " + c.Test + ", the first failing check)"
+				}
 				sr.Decision = record.Decision{Action: record.ActionFallBack, Reason: record.ReasonCheckFailed, Next: cr.OnFail, Rule: posText(c.Pos),
-					Detail: what + "; the plan moves to " + cr.OnFail}
+					Detail: what + "; the plan moves to " + cr.OnFail + via}
 			} else {
 				sr.Decision = record.Decision{Action: record.ActionReportUnmet, Reason: record.ReasonLastResortAssumptionsUnmet, Rule: posText(c.Pos),
 					Detail: what + "; this is the last declared step, so its results are reported with the assumptions not met"}
 				er.Status = record.EndpointAssumptionsUnmet
 				reported = f
 			}
+		}
+		if stop >= 0 {
+			break
 		}
 		if reported != nil {
 			sr.Results = f.detail

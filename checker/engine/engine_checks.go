@@ -52,7 +52,7 @@ func (e *Cascade) runCheck(f *fitted, s *plan.Step, c *plan.Check) record.CheckR
 		by = []string{f.compare}
 	}
 	cr := record.CheckResult{Test: c.Test, Pos: posText(c.Pos), By: by, FailBelow: record.Num(c.FailBelow), OnFail: onFail,
-		Statistic: record.NaN, P: record.NaN}
+		NotComputable: c.NotComputable, Statistic: record.NaN, P: record.NaN}
 	if m == nil {
 		cr.Verdict, cr.Error = record.VerdictError, fmt.Sprintf("check %q is not available in this build", c.Test)
 		return cr

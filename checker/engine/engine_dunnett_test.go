@@ -45,6 +45,7 @@ endpoints:
   - id: y
     response: y
     primary: true
+    not-computable: fail
     steps:
       - id: ols
         model: linear

@@ -16,8 +16,10 @@ import (
 )
 
 // newHypothesisResult starts the result of hypothesis h on step s with the
-// declared (or default) alpha, sides and adjustment, and returns them with
-// the compared factor (h.Factor, else the plan's treatment column).
+// declared (or default) alpha and sides and the adjustment and estimator
+// the step answers it with (plan.AnswerOn: the hypothesis's, or the step's
+// declared answer), and returns them with the compared factor (h.Factor,
+// else the plan's treatment column).
 func newHypothesisResult(p *plan.Plan, s *plan.Step, h *plan.Hypothesis, epAlpha float64) (hr record.HypothesisResult, alpha float64, sides, adj, factor string) {
 	alpha = h.Alpha
 	if alpha == 0 {
@@ -27,12 +29,20 @@ func newHypothesisResult(p *plan.Plan, s *plan.Step, h *plan.Hypothesis, epAlpha
 	if sides == "" {
 		sides = "two-sided"
 	}
-	adj = h.Adjust
+	a := plan.AnswerOn(s, h)
+	declared := h.Adjust
+	if declared == "" {
+		declared = plan.AdjustNone
+	}
+	adj = a.Adjust
 	if adj == "" {
 		adj = plan.AdjustNone
 	}
 	hr = record.HypothesisResult{ID: h.ID, Pos: posText(h.Pos), Kind: h.Kind, Step: s.ID, Sides: sides, Alpha: record.Num(alpha),
-		Adjust: adj, AdjustUsed: adj, Assessable: true, Comparisons: []record.Comparison{}}
+		Adjust: declared, AdjustUsed: adj, Estimator: a.Estimate, Assessable: true, Comparisons: []record.Comparison{}}
+	if a.Pos.Line > 0 {
+		hr.Answer = posText(a.Pos)
+	}
 	factor = h.Factor
 	if factor == "" {
 		if c := ColumnByRole(p, plan.RoleTreatment); c != nil {
@@ -44,6 +54,12 @@ func newHypothesisResult(p *plan.Plan, s *plan.Step, h *plan.Hypothesis, epAlpha
 
 // hypothesis answers one declared hypothesis on the reported step.
 func hypothesis(p *plan.Plan, ep *plan.Endpoint, s *plan.Step, f *fitted, h *plan.Hypothesis, epAlpha float64) record.HypothesisResult {
+	if a := plan.AnswerOn(s, h); a.Omit != "" {
+		hr, _, _, _, _ := newHypothesisResult(p, s, h, epAlpha)
+		hr.Assessable, hr.AdjustUsed, hr.Estimator = false, "", ""
+		hr.Note = fmt.Sprintf("not answered on step %s, as the plan declares: %s", s.ID, a.Omit)
+		return hr
+	}
 	if f.rankLike {
 		// Rank and Welch steps: pairwise two-sample tests (engine_rank_hyp.go).
 		return rankHypothesis(p, s, f, h, epAlpha)

@@ -273,6 +273,7 @@ endpoints:
   - id: weight
     response: weight
     primary: true
+    not-computable: fail
     steps:
       - id: oneway
         model: linear
@@ -541,6 +542,7 @@ endpoints:
   - id: y
     response: y
     primary: true
+    not-computable: fail
     steps:
       - id: aliased
         model: mixed

@@ -148,6 +148,7 @@ endpoints:
   - id: density
     response: juveniles
     primary: true
+    not-computable: fail
     steps:
 %s
     hypotheses:
@@ -300,6 +301,10 @@ func TestRankStepChecks(t *testing.T) {
 	nearRef(t, "kruskal brown-forsythe p", s.Checks[1].P, ref.KruskalBF.P, tolRef)
 }
 
+// rankAnswers declares how a rank step answers the hypotheses of
+// TestRankStepHypotheses: holm and Hodges-Lehmann shifts, the term omitted.
+const rankAnswers = "        answers:\n          - hypothesis: vs\n            adjust: holm\n            estimate: hodges-lehmann\n          - hypothesis: ni\n            estimate: hodges-lehmann\n          - hypothesis: term\n            omit: a rank test fits no model terms\n"
+
 func TestRankStepHypotheses(t *testing.T) {
 	ref := loadRankRef(t)
 	hl := loadHLRef(t)
@@ -323,11 +328,11 @@ func TestRankStepHypotheses(t *testing.T) {
 		hl         struct{ Estimate, Upper []float64 }
 	}{
 		// R 4.2.2 wilcox.test(x, control, alternative = "less"), p.adjust holm
-		{"kruskal", "model: kruskal-wallis\n" + changeLog + "        compare: treatment\n", ref.VsRankSum,
+		{"kruskal", "model: kruskal-wallis\n" + changeLog + "        compare: treatment\n" + rankAnswers, ref.VsRankSum,
 			// R 4.2.2 wilcox.test(x, control, "less", conf.int = TRUE): exact Moses bound
 			hl.VsRankSum},
 		// van Elteren (1960) two-sample, alternative less, from ref.R; p.adjust holm
-		{"van elteren", "model: van-elteren\n" + changeLog + "        compare: treatment\n        within: site\n", ref.VsVanElt,
+		{"van elteren", "model: van-elteren\n" + changeLog + "        compare: treatment\n        within: site\n" + rankAnswers, ref.VsVanElt,
 			// van Elteren inversion by formula, ref_hl.R
 			hl.VsVanElt},
 	} {
@@ -335,8 +340,8 @@ func TestRankStepHypotheses(t *testing.T) {
 			r, _ := rankRun(t, false, failingLinear+"      - id: only\n        "+c.step, hyps)
 			ep, _ := acceptedStep(t, r)
 			h := ep.Hypotheses[0]
-			if !h.Assessable || h.Adjust != "dunnett" || h.AdjustUsed != "holm" || !strings.Contains(h.Note, "holm") {
-				t.Fatalf("versus-control %+v", h)
+			if !h.Assessable || h.Adjust != "dunnett" || h.AdjustUsed != "holm" || h.Estimator != "hodges-lehmann" || h.Answer == "" || strings.Contains(h.Note, "dunnett") {
+				t.Fatalf("versus-control: want the step's declared holm and Hodges-Lehmann, no substitution: %+v", h)
 			}
 			if len(h.Comparisons) != 2 {
 				t.Fatalf("comparisons %+v", h.Comparisons)
@@ -372,8 +377,8 @@ func TestRankStepHypotheses(t *testing.T) {
 				t.Errorf("non-inferiority verdict %q p %v, interval upper %v", nc.Equivalence.Verdict, nc.P, nc.Upper)
 			}
 			for _, h := range ep.Hypotheses[2:] {
-				if h.Assessable || h.Note == "" || len(h.Comparisons) != 0 {
-					t.Errorf("%s should not be assessable on a rank step: %+v", h.ID, h)
+				if h.Assessable || !strings.Contains(h.Note, "as the plan declares: a rank test fits no model terms") || len(h.Comparisons) != 0 {
+					t.Errorf("%s should be reported as omitted on the rank step, as declared: %+v", h.ID, h)
 				}
 			}
 		})
@@ -385,7 +390,7 @@ func TestRankStepHypotheses(t *testing.T) {
 // as declared (R 4.2.2 p.adjust bonferroni).
 func TestFriedmanStepHypotheses(t *testing.T) {
 	ref := loadRankRef(t)
-	r, _ := rankRun(t, false, "      - id: only\n        model: friedman\n"+changeLog+"        compare: treatment\n        within: block\n",
+	r, _ := rankRun(t, false, "      - id: only\n        model: friedman\n"+changeLog+"        compare: treatment\n        within: block\n        answers:\n          - hypothesis: vs\n            estimate: hodges-lehmann\n",
 		"      - id: vs\n        kind: versus-control\n        adjust: bonferroni\n")
 	ep, _ := acceptedStep(t, r)
 	h := ep.Hypotheses[0]
@@ -408,7 +413,7 @@ func TestFriedmanStepHypotheses(t *testing.T) {
 // TRUE, alternative = "less")), estimate their median.
 func TestPairedSignedRankHypotheses(t *testing.T) {
 	ref := loadRankRef(t)
-	r, _ := rankRun(t, false, "      - id: only\n        model: signed-rank\n        outcome: {derive: raw}\n        transform: {kind: log-offset, offset: 1}\n        compare: time\n        within: plot\n",
+	r, _ := rankRun(t, false, "      - id: only\n        model: signed-rank\n        outcome: {derive: raw}\n        transform: {kind: log-offset, offset: 1}\n        compare: time\n        within: plot\n        answers:\n          - hypothesis: over-time\n            adjust: holm\n            estimate: hodges-lehmann\n",
 		"      - id: over-time\n        kind: pairwise\n        factor: time\n        sides: less\n")
 	ep, _ := acceptedStep(t, r)
 	h := ep.Hypotheses[0]
@@ -441,7 +446,7 @@ func TestWelchStepHypotheses(t *testing.T) {
         kind: term
         term: [treatment]
 `
-	r, _ := rankRun(t, false, failingLinear+"      - id: only\n        model: welch\n"+changeLog+"        compare: treatment\n", hyps)
+	r, _ := rankRun(t, false, failingLinear+"      - id: only\n        model: welch\n"+changeLog+"        compare: treatment\n        answers:\n          - hypothesis: all-pairs\n            adjust: holm\n          - hypothesis: term\n            omit: Welch's test fits no model terms\n", hyps)
 	ep, _ := acceptedStep(t, r)
 	h := ep.Hypotheses[0]
 	if !h.Assessable || h.AdjustUsed != "holm" || len(h.Comparisons) != 3 {

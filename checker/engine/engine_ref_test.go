@@ -62,6 +62,7 @@ endpoints:
   - id: weight
     response: weight
     primary: true
+    not-computable: fail
     steps:
       - id: anova
         model: linear

@@ -49,6 +49,7 @@ endpoints:
   - id: yield
     response: y
     primary: true
+    not-computable: fail
     steps:
       - id: first
         model: linear
@@ -165,7 +166,7 @@ func TestCascadePaths(t *testing.T) {
 					t.Errorf("step %s: results present = %v", s.ID, s.Results != nil)
 				}
 			}
-			if s := ep.Steps[0]; s.Decision.Reason == record.ReasonCheckFailed && (s.Decision.Next != "second" || !strings.HasPrefix(s.Decision.Rule, "plan.yaml:39:")) {
+			if s := ep.Steps[0]; s.Decision.Reason == record.ReasonCheckFailed && (s.Decision.Next != "second" || !strings.HasPrefix(s.Decision.Rule, "plan.yaml:40:")) {
 				t.Errorf("fallback decision %+v", s.Decision)
 			}
 			if len(ep.Hypotheses) != 1 || len(ep.Hypotheses[0].Comparisons) != 2 || ep.Hypotheses[0].Step != c.reported {

@@ -107,6 +107,22 @@ const (
 	StratifiedShift
 )
 
+// Words says in words what a comparison under the pairing estimates and
+// which interval it gives.
+func (p Pairing) Words() string {
+	switch p {
+	case WelchTwoSample:
+		return "differences of means with Welch t intervals"
+	case RankSumShift:
+		return "Hodges-Lehmann shifts with distribution-free intervals from the rank-sum test"
+	case SignedRankPaired:
+		return "Hodges-Lehmann medians of the paired differences with distribution-free intervals from the signed-rank test"
+	case StratifiedShift:
+		return "Hodges-Lehmann shifts common to the strata with intervals from van Elteren's test"
+	}
+	return "differences of marginal means with t intervals"
+}
+
 // Model is one model kind a step can name.
 type Model struct {
 	// Name is the plan's name of the model kind ("kruskal-wallis").

@@ -17,7 +17,7 @@ var Friedman = &Model{
 	Rules: plan.ModelRules{
 		Fixed: plan.Forbidden, Random: plan.Forbidden,
 		Compare: plan.Required, Within: plan.Required,
-		UnitWithin: true, Ranks: true,
+		UnitWithin: true, Ranks: true, Estimates: []string{plan.EstimateHodgesLehmann},
 	},
 	Pairing: func(*plan.Step) Pairing { return StratifiedShift },
 	Describe: func(st *plan.Step, y string) string {

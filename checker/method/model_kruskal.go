@@ -16,7 +16,7 @@ var KruskalWallis = &Model{
 	Rules: plan.ModelRules{
 		Fixed: plan.Forbidden, Random: plan.Forbidden,
 		Compare: plan.Required, Within: plan.Forbidden,
-		Ranks: true,
+		Ranks: true, Estimates: []string{plan.EstimateHodgesLehmann},
 	},
 	Pairing: func(*plan.Step) Pairing { return RankSumShift },
 	Describe: func(st *plan.Step, y string) string {

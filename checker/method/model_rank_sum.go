@@ -17,7 +17,7 @@ var RankSum = &Model{
 	Rules: plan.ModelRules{
 		Fixed: plan.Forbidden, Random: plan.Forbidden,
 		Compare: plan.Required, CompareLevels: 2, Within: plan.Forbidden,
-		Ranks: true,
+		Ranks: true, Estimates: []string{plan.EstimateHodgesLehmann},
 	},
 	Pairing: func(*plan.Step) Pairing { return RankSumShift },
 	Describe: func(st *plan.Step, y string) string {

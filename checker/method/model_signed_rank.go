@@ -18,7 +18,7 @@ var SignedRank = &Model{
 		Fixed: plan.Forbidden, Random: plan.Forbidden,
 		Compare: plan.Required, CompareOptionalPerUnit: true, CompareLevels: 2,
 		Within: plan.Forbidden, WithinWithCompare: true,
-		UnitWithin: true, Ranks: true,
+		UnitWithin: true, Ranks: true, Estimates: []string{plan.EstimateHodgesLehmann},
 	},
 	Pairing: func(s *plan.Step) Pairing {
 		if s.Compare != "" {

@@ -17,7 +17,7 @@ var Welch = &Model{
 	Rules: plan.ModelRules{
 		Fixed: plan.Forbidden, Random: plan.Forbidden,
 		Compare: plan.Required, Within: plan.Forbidden,
-		Means: true,
+		Means: true, Estimates: []string{plan.EstimateMeanDifference},
 	},
 	Pairing: func(*plan.Step) Pairing { return WelchTwoSample },
 	Describe: func(st *plan.Step, y string) string {

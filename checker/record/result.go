@@ -163,6 +163,9 @@ const (
 	EndpointAssumptionsUnmet
 	// EndpointFailed: no step could produce results (every reached step failed to fit).
 	EndpointFailed
+	// EndpointStopped: a check that could not be computed stopped the
+	// analysis, as its not-computable declares; no step is reported.
+	EndpointStopped
 )
 
 // EndpointResult is the record of one endpoint's cascade.
@@ -289,7 +292,11 @@ type CheckResult struct {
 	// OnFail is the step the check sends the cascade to when it fails
 	// (the check's own on-fail, else the step's; empty = last resort).
 	OnFail string `json:"on_fail"`
-	Error  string `json:"error"`
+	// NotComputable is what the plan declares the check counts as when it
+	// cannot be computed ("fail", "pass" or "stop"); it applies when
+	// Verdict is "error".
+	NotComputable string `json:"not_computable"`
+	Error         string `json:"error"`
 }
 
 // Action is what the engine did after a step.
@@ -332,6 +339,9 @@ const (
 	// ReasonNotReached: an earlier step was accepted or the cascade did not
 	// lead here.
 	ReasonNotReached
+	// ReasonCheckNotComputable: a check could not be computed on the data
+	// and its not-computable declares that this stops the endpoint.
+	ReasonCheckNotComputable
 )
 
 // Decision is the engine's decision after a step, with the plan rule that
@@ -445,10 +455,17 @@ type HypothesisResult struct {
 	Step  string `json:"step"`
 	Sides string `json:"sides"`
 	Alpha Num    `json:"alpha"`
-	// Adjust is the declared multiplicity adjustment; AdjustUsed the one
-	// applied (they differ only under a rank step, see the package doc).
+	// Adjust is the multiplicity adjustment the hypothesis declares;
+	// AdjustUsed the one applied on Step, which differs only where the
+	// step's declared answer (Answer) gives another. Estimator is the
+	// estimator of the comparisons on Step ("mean-difference",
+	// "hodges-lehmann"; empty for a term hypothesis).
 	Adjust     string `json:"adjust"`
 	AdjustUsed string `json:"adjust_used"`
+	Estimator  string `json:"estimator"`
+	// Answer is the plan position of the step's declared answer for this
+	// hypothesis, empty when the hypothesis's own declaration applies.
+	Answer string `json:"answer"`
 	// Assessable is false when the hypothesis cannot be answered on the
 	// reported step (equivalence under a rank step); Note says why.
 	Assessable  bool         `json:"assessable"`

@@ -10,11 +10,11 @@ import (
 // Stable codes of the enums as written to the record. Codes never change
 // meaning; new values get new codes.
 var (
-	endpointStatusCodes = []string{"accepted", "assumptions-unmet", "failed"}
+	endpointStatusCodes = []string{"accepted", "assumptions-unmet", "failed", "stopped"}
 	verdictCodes        = []string{"pass", "fail", "error", "not-run"}
 	actionCodes         = []string{"accept", "fall-back", "report-unmet", "stop", "skip"}
 	reasonCodes         = []string{"checks-passed", "no-checks", "check-failed", "fit-failed",
-		"last-resort-assumptions-unmet", "last-resort-fit-failed", "not-reached"}
+		"last-resort-assumptions-unmet", "last-resort-fit-failed", "not-reached", "check-not-computable"}
 )
 
 func enumString(codes []string, i int, kind string) string {

@@ -254,6 +254,9 @@ func analysisSection(p *plan.Plan, e *plan.Endpoint) Section {
 		if len(st.Checks) == 0 {
 			items = append(items, "No assumption checks: this step is accepted when it is reached.")
 		}
+		for k := range e.Hypotheses {
+			items = append(items, describeAnswer(st, &e.Hypotheses[k]))
+		}
 		s.Blocks = append(s.Blocks, Block{Text: fmt.Sprintf("Step %d (%s).", i+1, code(st.ID))}, Block{Items: items})
 	}
 	return s
@@ -335,6 +338,37 @@ func describeCheck(c plan.Check, next string, index map[string]int) string {
 		then = fmt.Sprintf("the analysis moves to step %d (%s)", index[next], code(next))
 	}
 	return fmt.Sprintf("The %s: if it gives p < %s, %s.", name, fnum(c.FailBelow), then)
+}
+
+// describeAnswer says how step st answers hypothesis h if it is the step
+// reported: the hypothesis's own adjustment and estimator, or what the
+// step declares instead, or that the step omits it.
+func describeAnswer(st *plan.Step, h *plan.Hypothesis) string {
+	a := plan.AnswerOn(st, h)
+	if a.Omit != "" {
+		return fmt.Sprintf("If this step is reported, %s is not answered on it, as the plan declares: %s.", code(h.ID), strings.TrimSuffix(a.Omit, "."))
+	}
+	if h.Kind == plan.HypTerm {
+		return fmt.Sprintf("If this step is reported, %s is the step's test of the term %s.", code(h.ID), strings.Join(codes(h.Term), " × "))
+	}
+	how := method.Default.PairingOf(st).Words()
+	if h.Kind == plan.HypVersusControl || h.Kind == plan.HypPairwise {
+		how += strings.Replace(adjustText(a.Adjust), ", unadjusted", ", not adjusted for multiplicity", 1)
+	}
+	declared := ""
+	if a.Pos.Line > 0 {
+		var was []string
+		if a.Adjust != h.Adjust {
+			was = append(was, "adjustment "+h.Adjust)
+		}
+		if a.Estimate != h.Estimate {
+			was = append(was, "estimator "+h.Estimate)
+		}
+		if len(was) > 0 {
+			declared = fmt.Sprintf(", as this step declares (the hypothesis itself declares %s)", strings.Join(was, " and "))
+		}
+	}
+	return fmt.Sprintf("If this step is reported, %s is answered with %s%s.", code(h.ID), how, declared)
 }
 
 func describeHypothesis(p *plan.Plan, e *plan.Endpoint, h *plan.Hypothesis) string {

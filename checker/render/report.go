@@ -405,8 +405,9 @@ var reportFuncs = template.FuncMap{
 	"verdictClass": func(v record.Verdict) string {
 		return "v-" + v.String()
 	},
-	"inc": func(i int) int { return i + 1 },
-	"peq": pEq,
+	"inc":    func(i int) int { return i + 1 },
+	"peq":    pEq,
+	"answer": answerText,
 	"sides": func(s string) string {
 		switch s {
 		case "less":
@@ -510,6 +511,7 @@ func (rep *Report) Markdown() []byte {
 				continue
 			}
 			w("### Hypothesis `%s` (%s, adjustment %s)\n\n", h.ID, h.Kind, h.AdjustUsed)
+			w("%s.\n\n", upperFirst(answerText(h)))
 			if h.Note != "" {
 				w("%s.\n\n", upperFirst(strings.TrimSuffix(h.Note, ".")))
 			}
@@ -730,4 +732,25 @@ func WriteReports(dir string, r *record.Result) error {
 		}
 	}
 	return nil
+}
+
+// answerText says how the reported step answered a hypothesis: the
+// adjustment and estimator applied and whether they are the hypothesis's
+// own or the ones the step declares (with the plan position).
+func answerText(h record.HypothesisResult) string {
+	if !h.Assessable && h.AdjustUsed == "" {
+		return "not answered on step " + h.Step
+	}
+	how := "adjustment " + h.AdjustUsed
+	if h.Estimator != "" {
+		how += " and estimator " + h.Estimator
+	}
+	if h.Answer == "" {
+		return fmt.Sprintf("answered on step %s with %s, as the hypothesis declares", h.Step, how)
+	}
+	was := ""
+	if h.Adjust != h.AdjustUsed {
+		was = "; the hypothesis declares adjustment " + h.Adjust
+	}
+	return fmt.Sprintf("answered on step %s with %s, as the step declares (%s%s)", h.Step, how, h.Answer, was)
 }

@@ -30,6 +30,7 @@ endpoints:
   - id: e
     response: y
     primary: true
+    not-computable: fail
     alpha: 0.05
     steps:
       - id: lin
@@ -229,7 +230,7 @@ func TestSimulateTalliesConsistent(t *testing.T) {
 	}
 
 	// A plan whose first step has no checks never reaches the others.
-	p2 := loadSimPlan(t, strings.Replace(simPlan, "        fixed: [trt]\n", "        fixed: [trt]\n        on-fail: ranks\n      - {id: ranks, model: kruskal-wallis, outcome: {derive: raw}, compare: trt}\n", 1))
+	p2 := loadSimPlan(t, strings.Replace(simPlan, "        fixed: [trt]\n", "        fixed: [trt]\n        on-fail: ranks\n      - {id: ranks, model: kruskal-wallis, outcome: {derive: raw}, compare: trt, answers: [{hypothesis: raw, estimate: hodges-lehmann}, {hypothesis: dunnett, adjust: holm, estimate: hodges-lehmann}]}\n", 1))
 	r2, err := Simulate(p2, SimOptions{Runs: 5, Seed: 1})
 	if err != nil {
 		t.Fatal(err)

@@ -54,6 +54,7 @@ endpoints:
   - id: yield
     response: y
     primary: true
+    not-computable: fail
     steps:
       - id: first
         model: linear
@@ -185,6 +186,7 @@ endpoints:
   - id: density
     response: juveniles
     primary: true
+    not-computable: fail
     steps:
 %s
     hypotheses:

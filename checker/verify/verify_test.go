@@ -279,7 +279,7 @@ func TestUnregisteredRun(t *testing.T) {
 // A record with a rank step validates against the published schema and
 // verifies clean when re-run.
 func TestRankRecordVerifies(t *testing.T) {
-	_, pp := rankRun(t, false, "      - id: ve\n        model: van-elteren\n"+changeLog+"        compare: treatment\n        within: site\n",
+	_, pp := rankRun(t, false, "      - id: ve\n        model: van-elteren\n"+changeLog+"        compare: treatment\n        within: site\n        answers:\n          - hypothesis: vs\n            estimate: hodges-lehmann\n",
 		"      - id: vs\n        kind: versus-control\n        adjust: holm\n")
 	out := filepath.Join(filepath.Dir(pp), "rec")
 	writeRun(t, pp, out, t0.Add(2*time.Hour), nil)
