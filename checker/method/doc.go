@@ -16,16 +16,18 @@
 // Write one file, check_<name>.go, declaring a [Check] value with its
 // Name (the plan's spelling), Title, Doc, Words, Target and Run, add it
 // to the checks in registry.go, add the name to the test enum of
-// schema/plan.schema.json, and give it a test with an external reference
-// value. The registry test fails until the schema, explain and the report
-// know it.
+// schema/plan.schema.json, and give the test it runs a check against an
+// external reference value in stats/. TestRegistryMatchesSchema fails
+// until the schema lists it; TestEveryMethodEndToEnd (checker/render)
+// runs it on every model kind through the engine, explain and the report.
 //
 // # Adding a model kind
 //
 // Write model_<name>.go with a [Model] value (Name, Title, Doc, Rules,
 // Pairing, Describe), add it to the models in registry.go and to the
-// model enum of the schema, and give the engine its fit (the engine's
-// fitter table is checked against the registry by a test).
+// model enum of the schema, give the engine its fit (the engine's fitter
+// table is checked against the registry by a test), and add a step of the
+// kind to methodSteps in checker/render/methods_test.go.
 //
 // # Words
 //
