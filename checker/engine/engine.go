@@ -115,6 +115,10 @@ func Run(opt RunOptions) (*record.Result, error) {
 	if all.HasErrors() {
 		return nil, &DataError{Diagnostics: all}
 	}
+	r.PlanWarnings = []record.Finding{}
+	for _, d := range diags {
+		r.PlanWarnings = append(r.PlanWarnings, record.Finding{Severity: d.Severity.String(), Code: d.Code, Pos: posText(d.Pos), Summary: d.Summary})
+	}
 	r.DataWarnings = []record.Finding{}
 	for _, d := range all {
 		r.DataWarnings = append(r.DataWarnings, record.Finding{Severity: d.Severity.String(), Code: d.Code, Pos: posText(d.Pos), Summary: d.Summary})
@@ -260,6 +264,9 @@ func modelSpec(ep *plan.Endpoint, s *plan.Step) record.ModelSpec {
 		}
 	}
 	m.Text = b.String()
+	if rules, _ := method.Default.Model(s.Model); rules.Model {
+		m.Equation = equation(lhs, m, s.Outcome.Derive == plan.DeriveBaseline, baselineName(ep.Response, s.Outcome.From))
+	}
 	return m
 }
 
@@ -287,4 +294,29 @@ func designSeen(s *contract.DesignSummary) *record.DesignSeen {
 		d.Missing = append(d.Missing, record.MissingSeen{Column: m.Column, Missing: m.Missing})
 	}
 	return d
+}
+
+// equation writes a linear or mixed model in furrow's notation: the
+// analysed quantity = intercept + fixed terms (interactions joined by ×, a
+// covariate as slope·x) + random(term) per random term + residual.
+func equation(lhs string, m record.ModelSpec, baseline bool, baselineCol string) string {
+	parts := []string{"intercept"}
+	for _, t := range m.Fixed {
+		parts = append(parts, strings.Join(t, " × "))
+	}
+	for _, c := range m.Covariates {
+		parts = append(parts, "slope·"+c)
+	}
+	if baseline {
+		parts = append(parts, "slope·"+baselineCol)
+	}
+	for _, t := range m.Random {
+		g := t[len(t)-1]
+		if len(t) > 1 {
+			g += " within " + strings.Join(t[:len(t)-1], " × ")
+		}
+		parts = append(parts, "random("+g+")")
+	}
+	parts = append(parts, "residual")
+	return lhs + " = " + strings.Join(parts, " + ")
 }

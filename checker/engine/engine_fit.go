@@ -165,8 +165,7 @@ func fitLinear(p *plan.Plan, ep *plan.Endpoint, s *plan.Step, ds *dataset) (*fit
 	rows = append(rows, record.AnovaRow{Term: "residuals", Type: typ, DF: record.Num(res.DFResid), SS: record.Num(res.RSS), MS: record.Num(sigma2),
 		F: record.NaN, DenDF: record.NaN, P: record.NaN})
 	det.Anova = rows
-	det.MarginalMeans, err = marginalMeans(f.linear, cmpF, responseScale(s), 0.05)
-	if err != nil {
+	if err := meansOf(det, f.linear, cmpF, responseScale(s), ep.Alpha); err != nil {
 		return nil, err
 	}
 	det.GroupSummaries = groupSummaries(p, cmpF, ds)
@@ -351,6 +350,34 @@ func responseScale(s *plan.Step) plan.Transform {
 
 // marginalMeans computes estimated marginal means of factor with CIs and
 // their back-transforms.
+// meansOf fills the marginal means of factor into det with intervals at
+// 1 - alpha, recording the level, the factors averaged over and the
+// covariate values the means are taken at.
+func meansOf(det *record.StepDetail, lf *linearFit, factor string, tr plan.Transform, alpha float64) error {
+	if alpha <= 0 || alpha >= 1 {
+		alpha = plan.DefaultAlpha
+	}
+	mm, err := marginalMeans(lf, factor, tr, alpha)
+	if err != nil {
+		return err
+	}
+	det.MarginalMeans, det.MeansLevel = mm, record.Num(1-alpha)
+	det.MeansOver, det.MeansAt = []string{}, []record.CovariateSetting{}
+	if len(mm) == 0 {
+		return nil
+	}
+	for _, name := range lf.dm.FactorNames() {
+		if name != factor {
+			det.MeansOver = append(det.MeansOver, name)
+		}
+	}
+	names, values := lf.dm.CovariateMeans()
+	for i, name := range names {
+		det.MeansAt = append(det.MeansAt, record.CovariateSetting{Name: name, Value: record.Num(values[i])})
+	}
+	return nil
+}
+
 func marginalMeans(lf *linearFit, factor string, tr plan.Transform, alpha float64) ([]record.MarginalMean, error) {
 	if factor == "" || lf.dm.TermIndex(factor) < 0 {
 		return nil, nil

@@ -9,6 +9,7 @@ import (
 
 	"gonum.org/v1/gonum/mat"
 
+	"furrow/checker/method"
 	"furrow/checker/record"
 	"furrow/plan"
 	"furrow/stats/dist"
@@ -42,6 +43,25 @@ func newHypothesisResult(p *plan.Plan, s *plan.Step, h *plan.Hypothesis, epAlpha
 		Adjust: declared, AdjustUsed: adj, Estimator: a.Estimate, Assessable: true, Comparisons: []record.Comparison{}}
 	if a.Pos.Line > 0 {
 		hr.Answer = posText(a.Pos)
+	}
+	hr.Level, hr.Intervals = record.NaN, ""
+	switch h.Kind {
+	case plan.HypEquivalence, plan.HypNonInferiority:
+		hr.Level, hr.Intervals = record.Num(1-2*alpha), "per-comparison"
+	case plan.HypVersusControl, plan.HypPairwise:
+		hr.Level, hr.Intervals = record.Num(1-alpha), "per-comparison"
+		if (adj == plan.AdjustDunnett || adj == plan.AdjustTukey) && method.Default.PairingOf(s) == method.Contrasts {
+			hr.Intervals = "simultaneous"
+		}
+	}
+	if m := h.Margin; m != nil {
+		hr.Margin = &record.MarginSpec{Scale: m.Scale, Lower: record.NaN, Upper: record.NaN}
+		if m.HasLower {
+			hr.Margin.Lower = record.Num(m.Lower)
+		}
+		if m.HasUpper {
+			hr.Margin.Upper = record.Num(m.Upper)
+		}
 	}
 	factor = h.Factor
 	if factor == "" {
@@ -113,12 +133,14 @@ func hypothesis(p *plan.Plan, ep *plan.Endpoint, s *plan.Step, f *fitted, h *pla
 	pairs, pairNote := hypothesisPairs(p, h, factor, levels)
 	tr := s.Transform
 	var ps []float64
+	counts := levelCounts(f.ds, factor)
 	ls := make([][]float64, 0, len(pairs)) // contrast vector per comparison (nil when a level is missing)
 	for _, pr := range pairs {
 		a, okA := row[pr[0]]
 		b, okB := row[pr[1]]
 		c := record.Comparison{Label: pr[0] + " - " + pr[1], Level: pr[0], Against: pr[1], Estimate: record.NaN, SE: record.NaN, DF: record.NaN,
 			Statistic: record.NaN, P: record.NaN, PAdjusted: record.NaN, Lower: record.NaN, Upper: record.NaN, Ratio: record.NaN, RatioLower: record.NaN, RatioUpper: record.NaN}
+		c.N, c.NAgainst = counts[pr[0]], counts[pr[1]]
 		if !okA || !okB {
 			hr.Comparisons = append(hr.Comparisons, c)
 			ps = append(ps, math.NaN())
@@ -139,17 +161,7 @@ func hypothesis(p *plan.Plan, ep *plan.Endpoint, s *plan.Step, f *fitted, h *pla
 			// Schuirmann (1987): two one-sided tests at alpha, 1-2alpha interval.
 			tq = dist.TUpperQuantile(alpha, df)
 			c.Equivalence = tost(h, tr, est, se, df, alpha)
-			c.P = c.Equivalence.PLower
-			if c.Equivalence.PUpper > c.P || math.IsNaN(float64(c.P)) {
-				c.P = c.Equivalence.PUpper
-			}
-			if h.Kind == plan.HypNonInferiority {
-				if h.Better == "lower" {
-					c.P = c.Equivalence.PUpper
-				} else {
-					c.P = c.Equivalence.PLower
-				}
-			}
+			c.P, c.Statistic = decidingTest(h, c.Equivalence)
 		default:
 			tq = dist.TUpperQuantile(alpha/2, df)
 			c.P = record.Num(pSided(t, df, sides))
@@ -235,12 +247,14 @@ func pSided(t, df float64, sides string) float64 {
 // Pharmacokinet Biopharm 15:657 against the margins, on the analysis scale.
 func tost(h *plan.Hypothesis, tr plan.Transform, est, se, df, alpha float64) *record.EquivalenceResult {
 	lo, hi := equivalenceMargins(h, tr)
-	e := &record.EquivalenceResult{Lower: record.Num(lo), Upper: record.Num(hi), PLower: record.NaN, PUpper: record.NaN}
+	e := &record.EquivalenceResult{Lower: record.Num(lo), Upper: record.Num(hi), PLower: record.NaN, PUpper: record.NaN, TLower: record.NaN, TUpper: record.NaN}
 	if !math.IsInf(lo, 0) {
-		e.PLower = record.Num(dist.TUpper((est-lo)/se, df)) // H0: diff <= lo
+		e.TLower = record.Num((est - lo) / se)
+		e.PLower = record.Num(dist.TUpper(float64(e.TLower), df)) // H0: diff <= lo
 	}
 	if !math.IsInf(hi, 0) {
-		e.PUpper = record.Num(dist.TLower((est-hi)/se, df)) // H0: diff >= hi
+		e.TUpper = record.Num((est - hi) / se)
+		e.PUpper = record.Num(dist.TLower(float64(e.TUpper), df)) // H0: diff >= hi
 	}
 	okLo := math.IsInf(lo, 0) || float64(e.PLower) < alpha
 	okHi := math.IsInf(hi, 0) || float64(e.PUpper) < alpha
@@ -253,6 +267,32 @@ func tost(h *plan.Hypothesis, tr plan.Transform, est, se, df, alpha float64) *re
 		e.Verdict = "not shown"
 	}
 	return e
+}
+
+// decidingTest returns the p-value and statistic of the one-sided test
+// that decides an equivalence or non-inferiority hypothesis: the test
+// against the margin on the inferior side for non-inferiority, the one
+// with the larger p-value for equivalence. The comparison reports this
+// pair, so that its statistic and p belong to the same test.
+func decidingTest(h *plan.Hypothesis, e *record.EquivalenceResult) (p, stat record.Num) {
+	switch {
+	case h.Kind == plan.HypNonInferiority && h.Better == "lower":
+		return e.PUpper, e.TUpper
+	case h.Kind == plan.HypNonInferiority:
+		return e.PLower, e.TLower
+	case math.IsNaN(float64(e.PLower)) || float64(e.PUpper) > float64(e.PLower):
+		return e.PUpper, e.TUpper
+	}
+	return e.PLower, e.TLower
+}
+
+// levelCounts counts the analysed values of each level of factor.
+func levelCounts(ds *dataset, factor string) map[string]int {
+	n := map[string]int{}
+	for _, v := range ds.factors[factor] {
+		n[v]++
+	}
+	return n
 }
 
 // adjustP applies a step-wise p-value adjustment through stats/multcomp

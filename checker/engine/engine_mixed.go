@@ -156,8 +156,7 @@ func fitMixed(p *plan.Plan, ep *plan.Endpoint, s *plan.Step, ds *dataset) (*fitt
 		det.VarianceComponents = append(det.VarianceComponents, record.VarComp{Group: c.Name, Variance: record.Num(c.Variance), SD: record.Num(c.SD),
 			Share: record.Num(c.Share), Boundary: c.Boundary})
 	}
-	det.MarginalMeans, err = marginalMeans(lf, cmpF, responseScale(s), 0.05)
-	if err != nil {
+	if err := meansOf(det, lf, cmpF, responseScale(s), ep.Alpha); err != nil {
 		return nil, err
 	}
 	det.GroupSummaries = groupSummaries(p, cmpF, ds)

@@ -135,7 +135,7 @@ func rankFitted(p *plan.Plan, s *plan.Step, ds *dataset, methodText string, test
 		residOnly: ranks(s),
 	}
 	t := test
-	f.detail = &record.StepDetail{Test: &t, GroupSummaries: groupSummaries(p, cmpF, ds)}
+	f.detail = &record.StepDetail{Test: &t, GroupSummaries: groupSummaries(p, cmpF, ds), MeansLevel: record.NaN, MeansOver: []string{}, MeansAt: []record.CovariateSetting{}}
 	return f
 }
 

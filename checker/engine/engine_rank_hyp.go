@@ -82,9 +82,11 @@ func rankHypothesis(p *plan.Plan, s *plan.Step, f *fitted, h *plan.Hypothesis, e
 		notes = append(notes, rankIntervalNote(s, pairing, h, used, alpha))
 	}
 	cmp := pairComparer(s, pairing, f, factor)
+	counts := levelCounts(f.ds, factor)
 	ps := make([]float64, 0, len(pairs))
 	for _, pr := range pairs {
 		c := cmp(pr[0], pr[1], sides, h, alpha)
+		c.N, c.NAgainst = counts[pr[0]], counts[pr[1]]
 		hr.Comparisons = append(hr.Comparisons, c)
 		ps = append(ps, float64(c.P))
 	}
@@ -285,14 +287,7 @@ func pairComparer(s *plan.Step, pairing method.Pairing, f *fitted, factor string
 				// Schuirmann (1987): two one-sided tests at alpha, 1-2 alpha interval.
 				tq = dist.TUpperQuantile(alpha, df)
 				c.Equivalence = tost(h, tr, est, se, df, alpha)
-				switch {
-				case h.Kind == plan.HypNonInferiority && h.Better == "lower":
-					c.P = c.Equivalence.PUpper
-				case h.Kind == plan.HypNonInferiority:
-					c.P = c.Equivalence.PLower
-				default:
-					c.P = record.Num(math.Max(float64(c.Equivalence.PLower), float64(c.Equivalence.PUpper)))
-				}
+				c.P, c.Statistic = decidingTest(h, c.Equivalence)
 				c.Lower, c.Upper = record.Num(est-tq*se), record.Num(est+tq*se)
 			default:
 				c.P = record.Num(pSided(t, df, sides))
@@ -440,15 +435,15 @@ func rankComparison(c record.Comparison, rp rankPair, h *plan.Hypothesis, tr pla
 	c.Estimate, c.Lower, c.Upper = record.Num(iv.Estimate), record.Num(iv.Lower), record.Num(iv.Upper)
 	if eqv {
 		lo, hi := equivalenceMargins(h, tr)
-		e := &record.EquivalenceResult{Lower: record.Num(lo), Upper: record.Num(hi), PLower: record.NaN, PUpper: record.NaN}
+		e := &record.EquivalenceResult{Lower: record.Num(lo), Upper: record.Num(hi), PLower: record.NaN, PUpper: record.NaN, TLower: record.NaN, TUpper: record.NaN}
 		if !math.IsInf(lo, 0) && !math.IsNaN(lo) {
-			if pl, _, err := rp.test(lo, rank.Greater); err == nil { // H0: shift <= lo
-				e.PLower = record.Num(pl)
+			if pl, zl, err := rp.test(lo, rank.Greater); err == nil { // H0: shift <= lo
+				e.PLower, e.TLower = record.Num(pl), record.Num(zl)
 			}
 		}
 		if !math.IsInf(hi, 0) && !math.IsNaN(hi) {
-			if pu, _, err := rp.test(hi, rank.Less); err == nil { // H0: shift >= hi
-				e.PUpper = record.Num(pu)
+			if pu, zu, err := rp.test(hi, rank.Less); err == nil { // H0: shift >= hi
+				e.PUpper, e.TUpper = record.Num(pu), record.Num(zu)
 			}
 		}
 		okLo := !math.IsInf(lo, 0) && iv.Lower > lo
@@ -462,14 +457,7 @@ func rankComparison(c record.Comparison, rp rankPair, h *plan.Hypothesis, tr pla
 			e.Verdict = "not shown"
 		}
 		c.Equivalence = e
-		switch {
-		case h.Kind == plan.HypNonInferiority && h.Better == "lower":
-			c.P = e.PUpper
-		case h.Kind == plan.HypNonInferiority:
-			c.P = e.PLower
-		default:
-			c.P = record.Num(math.Max(float64(e.PLower), float64(e.PUpper)))
-		}
+		c.P, c.Statistic = decidingTest(h, e)
 	}
 	if IsLogScale(tr) {
 		k := logBase(tr)

@@ -35,6 +35,9 @@ type Result struct {
 	// Design is the design as seen in the data, before exclusions: units
 	// per treatment cell and missing values per column.
 	Design *DesignSeen `json:"design"`
+	// PlanWarnings are the plan's lint warnings, carried into the run so
+	// that the record shows what the analyst registered despite them.
+	PlanWarnings []Finding `json:"plan_warnings"`
 	// DataWarnings are the data-contract warnings carried into the run
 	// (errors stop the run before a record is written).
 	DataWarnings []Finding `json:"data_warnings"`
@@ -219,7 +222,12 @@ type StepResult struct {
 type ModelSpec struct {
 	// Text is a one-line description, e.g.
 	// "mixed (REML) of log(juveniles + 1); fixed: site, treatment, time, treatment × time; random: block within site, plot; satterthwaite df; type III tests".
-	Text       string     `json:"text"`
+	Text string `json:"text"`
+	// Equation writes a linear or mixed step's model in furrow's notation:
+	// the analysed quantity = intercept + each fixed term (× for
+	// interactions, slope·x for a covariate) + random(term) for each
+	// random term + residual. Empty for rank and Welch steps.
+	Equation   string     `json:"equation"`
 	Kind       string     `json:"kind"`
 	Derive     string     `json:"derive"`
 	From       string     `json:"from"`
@@ -370,12 +378,24 @@ type StepDetail struct {
 	// VarianceComponents are the random-effect variances and the residual,
 	// each with its share of the total (mixed models).
 	VarianceComponents []VarComp `json:"variance_components"`
-	// MarginalMeans are estimated marginal means of the compared factor.
-	MarginalMeans []MarginalMean `json:"marginal_means"`
+	// MarginalMeans are estimated marginal means of the compared factor,
+	// with MeansLevel-confidence intervals (1 - the endpoint's alpha),
+	// averaged with equal weights over the factors in MeansOver and with
+	// each covariate held at the value in MeansAt.
+	MarginalMeans []MarginalMean     `json:"marginal_means"`
+	MeansLevel    Num                `json:"means_level"`
+	MeansOver     []string           `json:"means_over"`
+	MeansAt       []CovariateSetting `json:"means_at"`
 	// Test is the global test of rank and Welch steps.
 	Test *GlobalTest `json:"test"`
 	// GroupSummaries are per-level descriptive statistics on the analysis scale.
 	GroupSummaries []GroupSummary `json:"group_summaries"`
+}
+
+// CovariateSetting is the value a covariate is held at for marginal means.
+type CovariateSetting struct {
+	Name  string `json:"name"`
+	Value Num    `json:"value"`
 }
 
 // Coefficient is one fixed-effect estimate.
@@ -466,6 +486,15 @@ type HypothesisResult struct {
 	// Answer is the plan position of the step's declared answer for this
 	// hypothesis, empty when the hypothesis's own declaration applies.
 	Answer string `json:"answer"`
+	// Level is the confidence level of the comparisons' intervals (1 -
+	// alpha; 1 - 2 alpha for equivalence and non-inferiority), and
+	// Intervals says whether they are "simultaneous" (Dunnett, Tukey,
+	// Bonferroni) or "per-comparison" (not adjusted for multiplicity).
+	Level     Num    `json:"level"`
+	Intervals string `json:"intervals"`
+	// Margin is the declared equivalence or non-inferiority margin as
+	// written (scale "difference" or "ratio"); nil for other kinds.
+	Margin *MarginSpec `json:"margin"`
 	// Assessable is false when the hypothesis cannot be answered on the
 	// reported step (equivalence under a rank step); Note says why.
 	Assessable  bool         `json:"assessable"`
@@ -473,6 +502,13 @@ type HypothesisResult struct {
 	Comparisons []Comparison `json:"comparisons"`
 	// TermTest is the F test of a "term" hypothesis.
 	TermTest *AnovaRow `json:"term_test"`
+}
+
+// MarginSpec is a margin as the plan declares it.
+type MarginSpec struct {
+	Scale string `json:"scale"`
+	Lower Num    `json:"lower"`
+	Upper Num    `json:"upper"`
 }
 
 // Comparison is one contrast or pairwise test within a hypothesis.
@@ -500,6 +536,10 @@ type Comparison struct {
 	Ratio      Num `json:"ratio"`
 	RatioLower Num `json:"ratio_lower"`
 	RatioUpper Num `json:"ratio_upper"`
+	// N and NAgainst are the numbers of analysed values of Level and of
+	// Against on the reported step.
+	N        int `json:"n"`
+	NAgainst int `json:"n_against"`
 	// Reject is true when the (adjusted) p-value is below alpha.
 	Reject bool `json:"reject"`
 	// Equivalence is set for equivalence and non-inferiority hypotheses.
@@ -512,9 +552,14 @@ type EquivalenceResult struct {
 	Lower Num `json:"lower"`
 	Upper Num `json:"upper"`
 	// PLower, PUpper: p-values of the one-sided tests against each margin
-	// (non-inferiority uses one of them).
+	// (non-inferiority uses one of them); TLower, TUpper their statistics
+	// (t, or the normal score of a rank test). The comparison's Statistic
+	// and P are those of the test that decides (the larger p for
+	// equivalence).
 	PLower Num `json:"p_lower"`
 	PUpper Num `json:"p_upper"`
+	TLower Num `json:"t_lower"`
+	TUpper Num `json:"t_upper"`
 	// Verdict is "equivalent", "non-inferior", "not shown".
 	Verdict string `json:"verdict"`
 }

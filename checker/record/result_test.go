@@ -29,6 +29,7 @@ func sampleResult() *Result {
 			DataPath: "../data.csv", DataFileSHA256: SHA256Hex([]byte("d")), TableHash: SHA256Hex([]byte("t")),
 			Rows: 13, Columns: []string{"unit", "treatment", "y"}, RowsAnalysed: 12,
 		},
+		PlanWarnings:   []Finding{},
 		DataWarnings:   []Finding{{Severity: "warning", Code: "value-implausible", Pos: "data.csv:4:3", Summary: "value is odd"}},
 		Exclusions:     []ExcludedRow{{Row: 5, Unit: "u4", Rule: "no-y", RulePos: "plan.yaml:30:5"}},
 		ExclusionRules: []ExclusionRule{{ID: "no-y", Pos: "plan.yaml:30:5", Drop: "row", When: "missing", Reason: "r", RowsRemoved: 1, Units: []string{"u4"}}},

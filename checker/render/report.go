@@ -405,18 +405,13 @@ var reportFuncs = template.FuncMap{
 	"verdictClass": func(v record.Verdict) string {
 		return "v-" + v.String()
 	},
-	"inc":    func(i int) int { return i + 1 },
-	"peq":    pEq,
-	"answer": answerText,
-	"sides": func(s string) string {
-		switch s {
-		case "less":
-			return "one-sided, alternative: less than"
-		case "greater":
-			return "one-sided, alternative: greater than"
-		}
-		return "two-sided"
-	},
+	"inc":       func(i int) int { return i + 1 },
+	"peq":       pEq,
+	"answer":    answerText,
+	"terms":     hypothesisTerms,
+	"ivheader":  intervalHeader,
+	"meansText": meansText,
+	"sides":     sidesWords,
 	"ci": func(lo, hi record.Num) string {
 		if math.IsNaN(float64(lo)) && math.IsNaN(float64(hi)) {
 			return "-"
@@ -504,6 +499,9 @@ func (rep *Report) Markdown() []byte {
 				continue
 			}
 			w("### Results of step `%s` (scale: %s)\n\n", s.ID, s.Results.Scale)
+			if s.Model.Equation != "" {
+				w("Model: %s.\n\n", mdCell(s.Model.Equation))
+			}
 			writeMDTables(&b, s.Results)
 		}
 		for _, h := range e.Hypotheses {
@@ -511,12 +509,13 @@ func (rep *Report) Markdown() []byte {
 				continue
 			}
 			w("### Hypothesis `%s` (%s, adjustment %s)\n\n", h.ID, h.Kind, h.AdjustUsed)
-			w("%s.\n\n", upperFirst(answerText(h)))
+			w("%s. %s.\n\n", upperFirst(answerText(h)), hypothesisTerms(h))
 			if h.Note != "" {
 				w("%s.\n\n", upperFirst(strings.TrimSuffix(h.Note, ".")))
 			}
-			w("| Comparison | Estimate | SE | df | p | p adjusted | Lower | Upper | Ratio | Ratio lower | Ratio upper | Verdict |\n")
-			w("| --- | --- | --- | --- | --- | --- | --- | --- | --- | --- | --- | --- |\n")
+			iv := intervalHeader(h)
+			w("| Comparison | n | Estimate | SE | df | p | p adjusted | Lower (%s) | Upper (%s) | Ratio | Ratio lower | Ratio upper | Verdict |\n", iv, iv)
+			w("| --- | --- | --- | --- | --- | --- | --- | --- | --- | --- | --- | --- | --- |\n")
 			for _, c := range h.Comparisons {
 				verdict := "not rejected"
 				if c.Reject {
@@ -525,7 +524,7 @@ func (rep *Report) Markdown() []byte {
 				if c.Equivalence != nil {
 					verdict = c.Equivalence.Verdict
 				}
-				w("| %s | %s | %s | %s | %s | %s | %s | %s | %s | %s | %s | %s |\n", mdCell(c.Label), fmtNum(c.Estimate), fmtNum(c.SE), fmtNum(c.DF),
+				w("| %s | %d / %d | %s | %s | %s | %s | %s | %s | %s | %s | %s | %s | %s |\n", mdCell(c.Label), c.N, c.NAgainst, fmtNum(c.Estimate), fmtNum(c.SE), fmtNum(c.DF),
 					fmtP(c.P), fmtP(c.PAdjusted), fmtNum(c.Lower), fmtNum(c.Upper), fmtNum(c.Ratio), fmtNum(c.RatioLower), fmtNum(c.RatioUpper), verdict)
 			}
 			w("\n")
@@ -563,6 +562,13 @@ func (rep *Report) Markdown() []byte {
 		}
 		w("\n")
 	}
+	if len(r.PlanWarnings) > 0 {
+		w("## Plan warnings\n\n")
+		for _, f := range r.PlanWarnings {
+			w("- %s: %s\n", f.Pos, f.Summary)
+		}
+		w("\n")
+	}
 	if len(r.DataWarnings) > 0 {
 		w("## Data warnings\n\n")
 		for _, f := range r.DataWarnings {
@@ -594,6 +600,7 @@ func writeMDTables(b *bytes.Buffer, d *record.StepDetail) {
 		w("\n")
 	}
 	if len(d.MarginalMeans) > 0 {
+		w("%s.\n\n", meansText(d))
 		w("| Level | Mean (analysis scale) | SE | df | Lower | Upper | Response scale | Lower | Upper |\n| --- | --- | --- | --- | --- | --- | --- | --- | --- |\n")
 		for _, m := range d.MarginalMeans {
 			w("| %s | %s | %s | %s | %s | %s | %s | %s | %s |\n", mdCell(m.Level), fmtNum(m.Estimate), fmtNum(m.SE), fmtNum(m.DF), fmtNum(m.Lower), fmtNum(m.Upper), fmtNum(m.Response), fmtNum(m.ResponseLower), fmtNum(m.ResponseUpper))
@@ -753,4 +760,78 @@ func answerText(h record.HypothesisResult) string {
 		was = "; the hypothesis declares adjustment " + h.Adjust
 	}
 	return fmt.Sprintf("answered on step %s with %s, as the step declares (%s%s)", h.Step, how, h.Answer, was)
+}
+
+// hypothesisTerms states the terms a reviewer needs to check a verdict:
+// sides, alpha, the intervals' level and whether they are simultaneous,
+// and the declared margin with its scale.
+func hypothesisTerms(h record.HypothesisResult) string {
+	var parts []string
+	if h.Kind == "versus-control" || h.Kind == "pairwise" {
+		parts = append(parts, upperFirst(sidesWords(h.Sides)))
+	}
+	parts = append(parts, "alpha = "+fmtNum(h.Alpha))
+	if lv := float64(h.Level); !math.IsNaN(lv) && lv > 0 {
+		pc := strconv.FormatFloat(100*lv, 'f', -1, 64) + "%"
+		if h.Intervals == "simultaneous" {
+			parts = append(parts, "simultaneous "+pc+" intervals")
+		} else {
+			parts = append(parts, pc+" intervals per comparison, not adjusted for multiplicity")
+		}
+	}
+	if m := h.Margin; m != nil {
+		var b []string
+		if !math.IsNaN(float64(m.Lower)) {
+			b = append(b, "lower "+fmtNum(m.Lower))
+		}
+		if !math.IsNaN(float64(m.Upper)) {
+			b = append(b, "upper "+fmtNum(m.Upper))
+		}
+		parts = append(parts, fmt.Sprintf("margin on the %s scale: %s", m.Scale, strings.Join(b, ", ")))
+	}
+	return strings.Join(parts, "; ")
+}
+
+// intervalHeader says the level of a hypothesis's intervals and whether
+// they are simultaneous or per comparison (not adjusted for multiplicity).
+func intervalHeader(h record.HypothesisResult) string {
+	if math.IsNaN(float64(h.Level)) || h.Level == 0 {
+		return ""
+	}
+	lv := strconv.FormatFloat(100*float64(h.Level), 'f', -1, 64) + "%"
+	if h.Intervals == "simultaneous" {
+		return lv + ", simultaneous"
+	}
+	return lv + ", per comparison, unadjusted"
+}
+
+// meansText says how a step's marginal means were formed: the level of
+// their intervals, the factors averaged over, and the covariate values.
+func meansText(d *record.StepDetail) string {
+	s := "Marginal means"
+	if lv := float64(d.MeansLevel); !math.IsNaN(lv) && lv > 0 {
+		s += " with " + strconv.FormatFloat(100*lv, 'f', -1, 64) + "% intervals"
+	}
+	if len(d.MeansOver) > 0 {
+		s += ", averaged with equal weights over " + strings.Join(d.MeansOver, ", ")
+	}
+	if len(d.MeansAt) > 0 {
+		var at []string
+		for _, c := range d.MeansAt {
+			at = append(at, c.Name+" = "+fmtNum(c.Value))
+		}
+		s += ", at " + strings.Join(at, ", ") + " (the covariates' means)"
+	}
+	return s
+}
+
+// sidesWords writes the alternative of a test.
+func sidesWords(s string) string {
+	switch s {
+	case "less":
+		return "one-sided, alternative: less than"
+	case "greater":
+		return "one-sided, alternative: greater than"
+	}
+	return "two-sided"
 }

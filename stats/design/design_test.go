@@ -129,6 +129,14 @@ func TestMeansGridAverages(t *testing.T) {
 	if _, _, err := m.MeansGrid([]string{"dose"}); err == nil {
 		t.Error("grid over a numeric variable: want an error")
 	}
+	// The grid holds dose at its mean (1+...+6)/6 = 3.5, by hand, and
+	// averages over the model's other factor.
+	if names, means := m.CovariateMeans(); !reflect.DeepEqual(names, []string{"dose"}) || !reflect.DeepEqual(means, []float64{3.5}) {
+		t.Errorf("covariate means %v %v", names, means)
+	}
+	if got := m.FactorNames(); !reflect.DeepEqual(got, []string{"trt", "time"}) {
+		t.Errorf("factors %v", got)
+	}
 }
 
 // With several bad reference levels the error names the same one on every

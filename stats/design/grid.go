@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"slices"
 
 	"gonum.org/v1/gonum/mat"
 )
@@ -261,4 +262,32 @@ func rowBasis(a *mat.Dense, scale float64) (*mat.Dense, error) {
 		}
 	}
 	return out, nil
+}
+
+// CovariateMeans returns the numeric variables of the model with the
+// value MeansGrid holds them at (their mean over the rows the matrix was
+// built from), sorted by name.
+func (m *Matrix) CovariateMeans() (names []string, means []float64) {
+	for name := range m.numMeans {
+		names = append(names, name)
+	}
+	slices.Sort(names)
+	for _, name := range names {
+		means = append(means, m.numMeans[name])
+	}
+	return names, means
+}
+
+// FactorNames returns the factors of the model, in the order they first
+// appear in its terms.
+func (m *Matrix) FactorNames() []string {
+	var out []string
+	for _, tp := range m.plans {
+		for _, vc := range tp.vars {
+			if vc.factor != nil && !slices.Contains(out, vc.name) {
+				out = append(out, vc.name)
+			}
+		}
+	}
+	return out
 }

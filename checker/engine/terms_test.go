@@ -1,0 +1,106 @@
+package engine
+
+import (
+	"math"
+	"os"
+	"strings"
+	"testing"
+	"time"
+
+	"furrow/internal/testkit"
+	"furrow/stats/dist"
+)
+
+// rewritePlan edits the plan file written by writeCascade.
+func rewritePlan(t *testing.T, pp string, edits ...[2]string) {
+	t.Helper()
+	b, err := os.ReadFile(pp)
+	if err != nil {
+		t.Fatal(err)
+	}
+	s := string(b)
+	for _, e := range edits {
+		if !strings.Contains(s, e[0]) {
+			t.Fatalf("plan lacks %q", e[0])
+		}
+		s = strings.Replace(s, e[0], e[1], 1)
+	}
+	write(t, pp, s)
+}
+
+// The record holds what a reviewer needs to check a verdict: intervals of
+// marginal means and comparisons at the endpoint's alpha (here 0.1), the
+// level and kind of the intervals, n per group, the model equation, the
+// declared margin, and the statistic of the test whose p decides an
+// equivalence. The expected interval half-widths are t quantiles
+// (stats/dist, itself checked against R 4.2.2 qt) times the SE the record
+// holds; 1e-12 is rounding.
+func TestRecordStatesTheTermsOfEachVerdict(t *testing.T) {
+	pp := writeCascade(t, "0.0000001", "0.0000001", "0.0000001")
+	rewritePlan(t, pp,
+		[2]string{"    not-computable: fail\n", "    not-computable: fail\n    alpha: 0.1\n"},
+		[2]string{"        adjust: holm\n", "        adjust: holm\n      - id: b-as-a\n        kind: equivalence\n        test: b\n        against: a\n        margin: {scale: difference, lower: -3, upper: 3}\n"})
+	register(t, pp, t0)
+	r := run(t, pp, t.TempDir(), t0.Add(time.Hour))
+	ep := r.Endpoints[0]
+	s := ep.Steps[0]
+	if ep.Reported != "first" || s.Results == nil {
+		t.Fatalf("reported %q", ep.Reported)
+	}
+	if want := "y = intercept + treatment + residual"; s.Model.Equation != want {
+		t.Errorf("equation %q, want %q", s.Model.Equation, want)
+	}
+	d := s.Results
+	testkit.CheckClose(t, "means level", float64(d.MeansLevel), 0.9, 1e-15)
+	if len(d.MeansOver) != 0 || len(d.MeansAt) != 0 {
+		t.Errorf("one-factor model: means over %v at %v", d.MeansOver, d.MeansAt)
+	}
+	for _, m := range d.MarginalMeans {
+		half := dist.TUpperQuantile(0.05, float64(m.DF)) * float64(m.SE)
+		testkit.CheckClose(t, m.Level+" mean upper", float64(m.Upper-m.Estimate), half, 1e-12)
+	}
+	counts := map[string]int{}
+	for _, g := range d.GroupSummaries {
+		counts[g.Level] = g.N
+	}
+	vs := ep.Hypotheses[0]
+	testkit.CheckClose(t, "versus-control level", float64(vs.Level), 0.9, 1e-15)
+	if vs.Intervals != "per-comparison" || vs.Margin != nil {
+		t.Errorf("holm intervals %q, margin %+v", vs.Intervals, vs.Margin)
+	}
+	for _, c := range vs.Comparisons {
+		if c.N != counts[c.Level] || c.NAgainst != counts[c.Against] || c.N == 0 {
+			t.Errorf("%s: n %d / %d, groups %v", c.Label, c.N, c.NAgainst, counts)
+		}
+		half := dist.TUpperQuantile(0.05, float64(c.DF)) * float64(c.SE)
+		testkit.CheckClose(t, c.Label+" upper", float64(c.Upper-c.Estimate), half, 1e-12)
+	}
+	eq := ep.Hypotheses[1]
+	if eq.Margin == nil || eq.Margin.Scale != "difference" || eq.Margin.Lower != -3 || eq.Margin.Upper != 3 {
+		t.Errorf("margin %+v", eq.Margin)
+	}
+	testkit.CheckClose(t, "equivalence level", float64(eq.Level), 0.8, 1e-15)
+	c := eq.Comparisons[0]
+	e := c.Equivalence
+	// The reported statistic and p are one test: p is its t tail.
+	if !(c.Statistic == e.TLower && c.P == e.PLower) && !(c.Statistic == e.TUpper && c.P == e.PUpper) {
+		t.Fatalf("statistic %v and p %v are not one of the two one-sided tests %+v", c.Statistic, c.P, e)
+	}
+	testkit.CheckClose(t, "lower test p", float64(e.PLower), dist.TUpper(float64(e.TLower), float64(c.DF)), 1e-15)
+	testkit.CheckClose(t, "upper test p", float64(e.PUpper), dist.TLower(float64(e.TUpper), float64(c.DF)), 1e-15)
+	testkit.CheckClose(t, "lower test t", float64(e.TLower), (float64(c.Estimate)+3)/float64(c.SE), 1e-12)
+	if math.Max(float64(e.PLower), float64(e.PUpper)) != float64(c.P) {
+		t.Errorf("equivalence p %v is not the larger one-sided p", c.P)
+	}
+}
+
+// Lint warnings are carried into the record.
+func TestPlanWarningsInRecord(t *testing.T) {
+	pp := writeCascade(t, "0.0000001", "0.0000001", "0.0000001")
+	rewritePlan(t, pp, [2]string{"  layout: crd\n", "  layout: rcbd\n"})
+	register(t, pp, t0)
+	r := run(t, pp, t.TempDir(), t0.Add(time.Hour))
+	if len(r.PlanWarnings) != 1 || r.PlanWarnings[0].Code != "layout-columns" || r.PlanWarnings[0].Severity != "warning" {
+		t.Errorf("plan warnings %v", r.PlanWarnings)
+	}
+}
