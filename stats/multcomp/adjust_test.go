@@ -6,8 +6,9 @@ import (
 	"furrow/internal/testkit"
 )
 
-// R 4.2.2 stats::p.adjust (testdata/ref.R): the same step formulas, so the
-// values agree to rounding (1e-14).
+// R 4.2.2 stats::p.adjust (testdata/ref.R, 17 digits): the same step
+// formulas, so the values agree to rounding: 1.9e-15 relative at worst
+// (84 of 96 exactly), measured on linux/amd64; relative tolerance 5e-14.
 func TestAdjustAgainstR(t *testing.T) {
 	for name, c := range loadRef(t).PAdjust {
 		in := append([]float64(nil), c.P...)
@@ -23,7 +24,7 @@ func TestAdjustAgainstR(t *testing.T) {
 				t.Fatalf("set %s, %s: %d adjusted values, R has %d", name, m.method, len(got), len(m.want))
 			}
 			for i := range got {
-				if !testkit.Close(got[i], m.want[i], 1e-14) {
+				if !testkit.RelClose(got[i], m.want[i], 5e-14) {
 					t.Errorf("set %s, %s: p[%d] = %.15g, R p.adjust %.15g", name, m.method, i, got[i], m.want[i])
 				}
 			}
