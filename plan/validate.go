@@ -1017,7 +1017,7 @@ func (v *validator) answers(e *Endpoint, path string) {
 			if a.Omit != "" {
 				continue
 			}
-			why := v.unanswerable(s, r, h, a)
+			why, onlyOmit := unanswerable(s, r, h, a)
 			if len(why) == 0 {
 				continue
 			}
@@ -1026,7 +1026,7 @@ func (v *validator) answers(e *Endpoint, path string) {
 				where = ""
 			}
 			msg := fmt.Sprintf("step %q (%s) cannot answer hypothesis %q as declared: %s; %s",
-				s.ID, s.Model, h.ID, strings.Join(why, "; "), v.validAnswers(s, r, h))
+				s.ID, s.Model, h.ID, strings.Join(why, "; "), validAnswers(s, r, h, onlyOmit))
 			d := Diagnostic{Severity: Error, Code: "answer-undeclared", Pos: v.p.PosOf(where), Path: where, Summary: msg,
 				Related: []Pos{v.p.PosOf(fmt.Sprintf("%s.hypotheses[%d].id", path, k))}}
 			if where == "" {
@@ -1038,9 +1038,9 @@ func (v *validator) answers(e *Endpoint, path string) {
 }
 
 // unanswerable lists why step s of the given rules cannot answer h as a
-// says (nothing when it can).
-func (v *validator) unanswerable(s *Step, r ModelRules, h *Hypothesis, a Answer) []string {
-	var why []string
+// says (nothing when it can); onlyOmit is true when no adjustment or
+// estimator would make it answerable, so the step can only omit h.
+func unanswerable(s *Step, r ModelRules, h *Hypothesis, a Answer) (why []string, onlyOmit bool) {
 	if h.Kind == HypTerm {
 		switch {
 		case !r.Model:
@@ -1048,13 +1048,13 @@ func (v *validator) unanswerable(s *Step, r ModelRules, h *Hypothesis, a Answer)
 		case !hasTerm(s.Fixed, h.Term):
 			why = append(why, fmt.Sprintf("term %s is not a fixed term of this step", strings.Join(h.Term, ":")))
 		}
-		return why
+		return why, true
 	}
 	switch {
 	case r.Model && h.Factor != "" && !hasTerm(s.Fixed, []string{h.Factor}):
-		why = append(why, fmt.Sprintf("%s is not a fixed term of this step, so it has no marginal means of it", h.Factor))
+		why, onlyOmit = append(why, fmt.Sprintf("%s is not a fixed term of this step, so it has no marginal means of it", h.Factor)), true
 	case !r.Model && s.Compare != "" && h.Factor != "" && h.Factor != s.Compare:
-		why = append(why, fmt.Sprintf("the step compares the levels of %s, not of %s", s.Compare, h.Factor))
+		why, onlyOmit = append(why, fmt.Sprintf("the step compares the levels of %s, not of %s", s.Compare, h.Factor)), true
 	}
 	if a.Estimate != "" && !slices.Contains(r.Estimates, a.Estimate) {
 		why = append(why, fmt.Sprintf("it gives %s estimates, not %s", joinWith(r.Estimates, " or "), a.Estimate))
@@ -1063,17 +1063,14 @@ func (v *validator) unanswerable(s *Step, r ModelRules, h *Hypothesis, a Answer)
 		why = append(why, fmt.Sprintf("%s needs the joint distribution of a model's contrasts, and this step compares pairs by separate two-sample tests", a.Adjust))
 	}
 	if h.Margin != nil && h.Margin.Scale == "ratio" && !isLogType(s.Transform.Kind) {
-		why = append(why, fmt.Sprintf("a ratio margin needs a log scale, and the step uses transform %s", s.Transform.Kind))
+		why, onlyOmit = append(why, fmt.Sprintf("a ratio margin needs a log scale, and the step uses transform %s", s.Transform.Kind)), true
 	}
-	return why
+	return why, onlyOmit
 }
 
 // validAnswers says what the step's answers may declare for h.
-func (v *validator) validAnswers(s *Step, r ModelRules, h *Hypothesis) string {
-	omit := fmt.Sprintf("or omit %q there with the reason", h.ID)
-	if h.Kind == HypTerm || (h.Margin != nil && h.Margin.Scale == "ratio" && !isLogType(s.Transform.Kind)) ||
-		(r.Model && h.Factor != "" && !hasTerm(s.Fixed, []string{h.Factor})) ||
-		(!r.Model && s.Compare != "" && h.Factor != "" && h.Factor != s.Compare) {
+func validAnswers(s *Step, r ModelRules, h *Hypothesis, onlyOmit bool) string {
+	if onlyOmit {
 		return fmt.Sprintf("declare under answers of step %q that it omits %q, with the reason", s.ID, h.ID)
 	}
 	var adj []string
@@ -1085,8 +1082,8 @@ func (v *validator) validAnswers(s *Step, r ModelRules, h *Hypothesis) string {
 		}
 		adj = append(adj, a)
 	}
-	return fmt.Sprintf("declare under answers of step %q how it answers %q (adjust: %s; estimate: %s), %s",
-		s.ID, h.ID, joinWith(adj, " or "), joinWith(r.Estimates, " or "), omit)
+	return fmt.Sprintf("declare under answers of step %q how it answers %q (adjust: %s; estimate: %s), or omit %q there with the reason",
+		s.ID, h.ID, joinWith(adj, " or "), joinWith(r.Estimates, " or "), h.ID)
 }
 
 // hasTerm reports whether terms hold a term of exactly these columns.
