@@ -1021,17 +1021,15 @@ func (v *validator) answers(e *Endpoint, path string) {
 			if len(why) == 0 {
 				continue
 			}
-			where := sp + ".id"
+			// At the step's declared answer when there is one, else at the step.
+			pos, at := v.p.PosOf(sp+".id"), sp+".id"
 			if a.Pos.Line > 0 {
-				where = ""
+				pos, at = a.Pos, sp+".answers"
 			}
 			msg := fmt.Sprintf("step %q (%s) cannot answer hypothesis %q as declared: %s; %s",
 				s.ID, s.Model, h.ID, strings.Join(why, "; "), validAnswers(s, r, h, onlyOmit))
-			d := Diagnostic{Severity: Error, Code: "answer-undeclared", Pos: v.p.PosOf(where), Path: where, Summary: msg,
+			d := Diagnostic{Severity: Error, Code: "answer-undeclared", Pos: pos, Path: at, Summary: msg,
 				Related: []Pos{v.p.PosOf(fmt.Sprintf("%s.hypotheses[%d].id", path, k))}}
-			if where == "" {
-				d.Pos, d.Path = a.Pos, sp+".answers"
-			}
 			v.ds = append(v.ds, d)
 		}
 	}
