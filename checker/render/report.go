@@ -12,6 +12,7 @@ import (
 	"sort"
 	"strconv"
 	"strings"
+	"unicode"
 
 	"furrow/checker/record"
 )
@@ -442,14 +443,14 @@ func (rep *Report) Markdown() []byte {
 	r := rep.R
 	var b bytes.Buffer
 	w := func(format string, args ...any) { fmt.Fprintf(&b, format, args...) }
-	w("# Analysis report: %s\n\n", r.Trial.Title)
+	w("# Analysis report: %s\n\n", mdCell(r.Trial.Title))
 	if r.Unregistered {
 		w("> **UNREGISTERED RUN.** This analysis was run without a matching registration record.\n\n")
 	}
 	w("| Item | Value |\n| --- | --- |\n")
-	w("| Trial | %s |\n| Plan version | %s |\n| Plan hash | `%s` |\n", r.Trial.ID, r.Trial.PlanVersion, r.Inputs.PlanHash)
+	w("| Trial | %s |\n| Plan version | %s |\n| Plan hash | `%s` |\n", mdCell(r.Trial.ID), mdCell(r.Trial.PlanVersion), r.Inputs.PlanHash)
 	w("| Registered | %s |\n", registeredText(r))
-	w("| Data | `%s` (`%s`) |\n", r.Inputs.DataPath, r.Inputs.DataFileSHA256)
+	w("| Data | %s (`%s`) |\n", mdCode(r.Inputs.DataPath), r.Inputs.DataFileSHA256)
 	w("| Rows read / analysed | %d / %d |\n", r.Inputs.Rows, r.Inputs.RowsAnalysed)
 	w("| Tool | %s %s |\n\n", r.Tool.Name, r.Tool.Version)
 	for _, v := range rep.Verdicts {
@@ -457,40 +458,40 @@ func (rep *Report) Markdown() []byte {
 		if v.Primary {
 			kind = "Primary"
 		}
-		w("## %s endpoint `%s`\n\n%s.\n\n", kind, v.Endpoint, upperFirst(v.Status))
+		w("## %s endpoint %s\n\n%s.\n\n", kind, mdCode(v.Endpoint), mdCell(upperFirst(v.Status)))
 		for _, a := range v.Answers {
-			w("- %s\n", a)
+			w("- %s\n", mdCell(a))
 		}
 		if len(v.Answers) > 0 {
 			w("\n")
 		}
 	}
 	for _, e := range r.Endpoints {
-		w("## Decision trail: `%s`\n\n", e.ID)
+		w("## Decision trail: %s\n\n", mdCode(e.ID))
 		w("| Step | Model | n | Check | Statistic | p | Fails below | Verdict | Decision | Rule |\n")
 		w("| --- | --- | --- | --- | --- | --- | --- | --- | --- | --- |\n")
 		for _, s := range e.Steps {
 			if !s.Executed {
-				w("| `%s` | %s | - | - | - | - | - | - | not reached | - |\n", s.ID, mdCell(s.Model.Kind))
+				w("| %s | %s | - | - | - | - | - | - | not reached | - |\n", mdCode(s.ID), mdCell(s.Model.Kind))
 				continue
 			}
 			dec := s.Decision.Action.String()
 			if s.Decision.Next != "" {
-				dec += " to `" + s.Decision.Next + "`"
+				dec += " to " + mdCode(s.Decision.Next)
 			}
 			if len(s.Checks) == 0 {
-				w("| `%s` | %s | %d | - | - | - | - | - | %s | %s |\n", s.ID, mdCell(s.Model.Text), s.N, dec, s.Decision.Rule)
+				w("| %s | %s | %d | - | - | - | - | - | %s | %s |\n", mdCode(s.ID), mdCell(s.Model.Text), s.N, dec, mdCell(s.Decision.Rule))
 			}
 			for i, c := range s.Checks {
 				id, model, n := "", "", ""
 				if i == 0 {
-					id, model, n = "`"+s.ID+"`", mdCell(s.Model.Text), strconv.Itoa(s.N)
+					id, model, n = mdCode(s.ID), mdCell(s.Model.Text), strconv.Itoa(s.N)
 				}
 				d := ""
 				if i == 0 {
 					d = dec
 				}
-				w("| %s | %s | %s | %s | %s | %s | %s | %s | %s | %s |\n", id, model, n, c.Test, fmtNum(c.Statistic), fmtP(c.P), fmtNum(c.FailBelow), c.Verdict, d, c.Pos)
+				w("| %s | %s | %s | %s | %s | %s | %s | %s | %s | %s |\n", id, model, n, c.Test, fmtNum(c.Statistic), fmtP(c.P), fmtNum(c.FailBelow), c.Verdict, d, mdCell(c.Pos))
 			}
 		}
 		w("\n")
@@ -498,7 +499,7 @@ func (rep *Report) Markdown() []byte {
 			if s.Results == nil {
 				continue
 			}
-			w("### Results of step `%s` (scale: %s)\n\n", s.ID, s.Results.Scale)
+			w("### Results of step %s (scale: %s)\n\n", mdCode(s.ID), mdCell(s.Results.Scale))
 			if s.Model.Equation != "" {
 				w("Model: %s.\n\n", mdCell(s.Model.Equation))
 			}
@@ -508,10 +509,10 @@ func (rep *Report) Markdown() []byte {
 			if len(h.Comparisons) == 0 {
 				continue
 			}
-			w("### Hypothesis `%s` (%s, adjustment %s)\n\n", h.ID, h.Kind, h.AdjustUsed)
-			w("%s. %s.\n\n", upperFirst(answerText(h)), hypothesisTerms(h))
+			w("### Hypothesis %s (%s, adjustment %s)\n\n", mdCode(h.ID), h.Kind, h.AdjustUsed)
+			w("%s. %s.\n\n", mdCell(upperFirst(answerText(h))), mdCell(hypothesisTerms(h)))
 			if h.Note != "" {
-				w("%s.\n\n", upperFirst(strings.TrimSuffix(h.Note, ".")))
+				w("%s.\n\n", mdCell(upperFirst(strings.TrimSuffix(h.Note, "."))))
 			}
 			iv := intervalHeader(h)
 			w("| Comparison | n | Estimate | SE | df | p | p adjusted | Lower (%s) | Upper (%s) | Ratio | Ratio lower | Ratio upper | Verdict |\n", iv, iv)
@@ -533,7 +534,7 @@ func (rep *Report) Markdown() []byte {
 	if d := r.Design; d != nil {
 		w("## Design as seen\n\n%d rows", d.Rows)
 		if d.UnitColumn != "" {
-			w(", %d units (`%s`)", d.Units, d.UnitColumn)
+			w(", %d units (%s)", d.Units, mdCode(d.UnitColumn))
 		}
 		w(", before exclusions")
 		if d.Replicates > 0 {
@@ -541,16 +542,16 @@ func (rep *Report) Markdown() []byte {
 		}
 		w(".\n\n")
 		if len(d.Cells) > 0 {
-			w("| %s | units |\n|%s --- |\n", strings.Join(d.CellColumns, " | "), strings.Repeat(" --- |", len(d.CellColumns)))
+			w("| %s | units |\n|%s --- |\n", strings.Join(mdCells(d.CellColumns), " | "), strings.Repeat(" --- |", len(d.CellColumns)))
 			for _, c := range d.Cells {
-				w("| %s | %d |\n", strings.Join(c.Levels, " | "), c.Units)
+				w("| %s | %d |\n", strings.Join(mdCells(c.Levels), " | "), c.Units)
 			}
 			w("\n")
 		}
 		if len(d.Missing) > 0 {
 			var parts []string
 			for _, m := range d.Missing {
-				parts = append(parts, fmt.Sprintf("`%s` %d", m.Column, m.Missing))
+				parts = append(parts, fmt.Sprintf("%s %d", mdCode(m.Column), m.Missing))
 			}
 			w("Missing values: %s.\n\n", strings.Join(parts, ", "))
 		}
@@ -558,21 +559,21 @@ func (rep *Report) Markdown() []byte {
 	if len(r.Exclusions) > 0 {
 		w("## Rows excluded\n\n| Row | Unit | Rule | Rule position |\n| --- | --- | --- | --- |\n")
 		for _, x := range r.Exclusions {
-			w("| %d | %s | `%s` | %s |\n", x.Row, mdCell(x.Unit), x.Rule, x.RulePos)
+			w("| %d | %s | %s | %s |\n", x.Row, mdCell(x.Unit), mdCode(x.Rule), mdCell(x.RulePos))
 		}
 		w("\n")
 	}
 	if len(r.PlanWarnings) > 0 {
 		w("## Plan warnings\n\n")
 		for _, f := range r.PlanWarnings {
-			w("- %s: %s\n", f.Pos, f.Summary)
+			w("- %s: %s\n", mdCell(f.Pos), mdCell(f.Summary))
 		}
 		w("\n")
 	}
 	if len(r.DataWarnings) > 0 {
 		w("## Data warnings\n\n")
 		for _, f := range r.DataWarnings {
-			w("- %s: %s\n", f.Pos, f.Summary)
+			w("- %s: %s\n", mdCell(f.Pos), mdCell(f.Summary))
 		}
 		w("\n")
 	}
@@ -626,9 +627,74 @@ func registeredText(r *record.Result) string {
 	return "no matching registration"
 }
 
+// mdCell writes text from the plan or the data (names, levels, labels,
+// notes, messages) so that Markdown shows it as text: the characters that
+// could start emphasis, a link, an image, code, a table cell or inline
+// HTML are escaped with a backslash (CommonMark 0.30, backslash escapes),
+// and line breaks become spaces, so nothing a plan or data file holds can
+// add markup, links or script to report.md.
 func mdCell(s string) string {
-	s = strings.ReplaceAll(s, "|", "\\|")
-	return strings.ReplaceAll(s, "\n", " ")
+	rs := []rune(s)
+	var b strings.Builder
+	for i, r := range rs {
+		next := rune(0)
+		if i+1 < len(rs) {
+			next = rs[i+1]
+		}
+		esc := false
+		switch r {
+		case '\\', '`', '*', '_', '[', ']', '|', '~':
+			esc = true
+		case '<': // an HTML tag, comment or autolink
+			esc = unicode.IsLetter(next) || next == '/' || next == '!' || next == '?'
+		case '&': // an entity
+			esc = unicode.IsLetter(next) || next == '#'
+		case '!': // an image
+			esc = next == '['
+		case '#', '>', '-', '+', '=': // a heading, quote, list or rule when it leads
+			esc = i == 0
+		case '\n', '\r':
+			b.WriteByte(' ')
+			continue
+		}
+		if esc {
+			b.WriteByte('\\')
+		}
+		b.WriteRune(r)
+	}
+	return b.String()
+}
+
+// mdCells escapes each text with mdCell.
+func mdCells(ss []string) []string {
+	out := make([]string, len(ss))
+	for i, s := range ss {
+		out[i] = mdCell(s)
+	}
+	return out
+}
+
+// mdCode writes a name from the plan or the data as a code span whose
+// content Markdown shows literally: fenced by one more backtick than the
+// longest run inside, padded when it starts or ends with a backtick, with
+// table-cell bars escaped (GitHub tables unescape them inside code) and
+// line breaks as spaces.
+func mdCode(s string) string {
+	s = strings.NewReplacer("\n", " ", "\r", " ", "|", "\\|").Replace(s)
+	longest, run := 0, 0
+	for _, r := range s {
+		if r == '`' {
+			run++
+			longest = max(longest, run)
+		} else {
+			run = 0
+		}
+	}
+	fence := strings.Repeat("`", longest+1)
+	if strings.HasPrefix(s, "`") || strings.HasSuffix(s, "`") {
+		s = " " + s + " "
+	}
+	return fence + s + fence
 }
 
 func upperFirst(s string) string {
@@ -693,7 +759,7 @@ func (rep *Report) CSVTables() (map[string][]byte, error) {
 	for name, rows := range tables {
 		var b bytes.Buffer
 		cw := csv.NewWriter(&b)
-		if err := cw.WriteAll(rows); err != nil {
+		if err := cw.WriteAll(neutralised(rows)); err != nil {
 			return nil, fmt.Errorf("writing %s: %w", name, err)
 		}
 		out[name] = b.Bytes()
@@ -834,4 +900,26 @@ func sidesWords(s string) string {
 		return "one-sided, alternative: greater than"
 	}
 	return "two-sided"
+}
+
+// neutralised returns the rows with every text cell that a spreadsheet
+// would run as a formula (one starting with =, +, -, @, a tab or a
+// carriage return) prefixed with a single quote, the common practice
+// against CSV injection (OWASP, "CSV Injection"). Numbers, including
+// negative ones and -inf, are left as they are. rows is not modified.
+func neutralised(rows [][]string) [][]string {
+	out := make([][]string, len(rows))
+	for i, row := range rows {
+		out[i] = make([]string, len(row))
+		for j, c := range row {
+			out[i][j] = c
+			if c == "" || !strings.ContainsRune("=+-@\t\r", rune(c[0])) {
+				continue
+			}
+			if _, err := strconv.ParseFloat(c, 64); err != nil {
+				out[i][j] = "'" + c
+			}
+		}
+	}
+	return out
 }
