@@ -23,8 +23,13 @@
 //
 // A number is an optional sign, digits with at most one decimal mark
 // (data.decimal, "." or ","), and an optional exponent; thousands
-// separators, "inf" and "nan" are not numbers. A cell is missing when it is
-// blank or equals one of data.missing.
+// separators, "inf" and "nan" are not numbers. The decimal mark applies to
+// CSV cells and to XLSX text cells: with decimal: "," the text cell "3,75"
+// is 3.75 and "3.75" is not a number, while XLSX number cells keep their
+// value whatever the mark. A workbook has no delimiter, so an XLSX plan
+// declares decimal: "," alone; a CSV file read with "," as both delimiter
+// and decimal mark is an error. A cell is missing when it is blank or
+// equals one of data.missing.
 //
 // A file that cannot be read as declared (missing, empty, binary, not
 // UTF-8, an XLSX given as CSV or the other way round) is an error naming

@@ -361,6 +361,10 @@ func ReadTable(p *plan.Plan, dataPath string) (*Table, plan.Diagnostics, error) 
 	)
 	switch format {
 	case FormatCSV:
+		// The clash matters only to CSV: XLSX cells need no delimiter.
+		if opts.decimal == ',' && opts.delim == ',' {
+			return nil, nil, fmt.Errorf("reading data %s: decimal mark and delimiter are both \",\"; declare another delimiter (for example \";\")", name)
+		}
 		t, diags, err = readCSV(name, data, opts)
 	case FormatXLSX:
 		t, diags, err = readXLSX(name, data, opts)
@@ -405,9 +409,6 @@ func newReadOptions(p *plan.Plan) (*readOptions, error) {
 		o.decimal = ','
 	default:
 		return nil, fmt.Errorf("decimal mark %q is not \".\" or \",\"", p.Data.Decimal)
-	}
-	if o.decimal == ',' && o.delim == ',' {
-		return nil, fmt.Errorf("decimal mark and delimiter are both \",\"; declare another delimiter (for example \";\")")
 	}
 	for _, m := range p.Data.Missing {
 		if m = trimCell(m); m != "" {
