@@ -15,6 +15,14 @@
 // and CRLF line endings are accepted. The delimiter is data.delimiter
 // (default ","). Cells are trimmed of surrounding white space.
 //
+// A file written with another delimiter is caught at its header: when the
+// first non-blank line gives at most one non-blank field with the declared
+// delimiter, but at least two declared column names when split on ";",
+// ",", tab or "|" (tried in that order, the one finding the most names
+// kept), reading stops with one data-delimiter error at the header row
+// that names the delimiter to declare, instead of a missing-column finding
+// for every declared column and a ragged-row finding for every row.
+//
 // XLSX is read from the sheet data.sheet (default: the first sheet). Number
 // cells and the cached values of formulas keep their value, written in
 // shortest round-trip form; cells whose number format shows a date become

@@ -308,7 +308,8 @@ func trimCell(s string) string {
 // unterminated quote, a missing sheet, empty or repeated header names) are
 // diagnostics positioned in the data file. The table is nil when the
 // diagnostics leave nothing to check (no header, a missing sheet, a quote
-// that swallows the rest of the file); otherwise it holds every row read.
+// that swallows the rest of the file, a header that splits only on another
+// delimiter); otherwise it holds every row read.
 func ReadTable(p *plan.Plan, dataPath string) (*Table, plan.Diagnostics, error) {
 	if p == nil {
 		return nil, nil, fmt.Errorf("reading data: no plan")
@@ -386,13 +387,15 @@ type readOptions struct {
 	decimal byte
 	missing []string // trimmed missing codes; a blank cell is always missing
 	numeric map[string]bool
+	factor  map[string]bool // columns with a factor role: their cells are levels
+	names   map[string]bool // every declared column
 	sheet   string
 	dataPos plan.Pos
 }
 
 func newReadOptions(p *plan.Plan) (*readOptions, error) {
 	o := &readOptions{delim: ',', decimal: '.', sheet: p.Data.Sheet, dataPos: p.Data.Pos,
-		numeric: map[string]bool{}}
+		numeric: map[string]bool{}, factor: map[string]bool{}, names: map[string]bool{}}
 	if d := p.Data.Delimiter; d != "" {
 		r, n := utf8.DecodeRuneInString(d)
 		if d == `\t` || d == "tab" {
@@ -417,8 +420,12 @@ func newReadOptions(p *plan.Plan) (*readOptions, error) {
 	}
 	for i := range p.Columns {
 		c := &p.Columns[i]
+		o.names[c.Name] = true
 		if c.IsNumeric() {
 			o.numeric[c.Name] = true
+		}
+		if c.IsFactor() {
+			o.factor[c.Name] = true
 		}
 	}
 	return o, nil
@@ -659,7 +666,7 @@ func parseLongNumber(s string, dec byte) (float64, bool) {
 func FromCells(p *plan.Plan, name string, header []string, cells [][]string, native []bool) *Table {
 	o, err := newReadOptions(p)
 	if err != nil {
-		o = &readOptions{delim: ',', decimal: '.', numeric: map[string]bool{}}
+		o = &readOptions{delim: ',', decimal: '.', numeric: map[string]bool{}, factor: map[string]bool{}, names: map[string]bool{}}
 	}
 	b, _ := newTableBuilder(name, FormatCSV, "", 1, header, o, len(cells))
 	for i, row := range cells {
