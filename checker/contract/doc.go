@@ -21,7 +21,8 @@
 //	data-missing-values     missing values in a column, with counts (warning)
 //
 // and, from reading: data-ragged-row, data-quote, data-header-blank,
-// data-header-repeated, data-blank-rows (warning), data-sheet-missing,
+// data-header-repeated, data-blank-rows (warning), data-level-space
+// (warning: a level read trimmed of white space), data-sheet-missing,
 // data-no-header and data-delimiter (a CSV header that splits only on
 // another delimiter than the declared one; it names the one to declare). After 20 findings of one code in one column the rest are
 // counted in a single "and N more" finding. Unit identifiers must be unique

@@ -43,6 +43,25 @@
 // UTF-8, an XLSX given as CSV or the other way round) is an error naming
 // the file. Problems inside a readable file are diagnostics.
 //
+// # White space around cells
+//
+// Every cell, CSV or XLSX, is trimmed of the white space around it
+// (Unicode white space: spaces, tabs, no-break spaces) before it is parsed
+// as a number, compared with the missing codes or matched against the
+// declared levels, and the Table holds the trimmed text. The trimming is
+// not silent for levels: in a column the plan gives a factor role
+// (treatment, factor, block, site, repeat, unit), each distinct untrimmed
+// text is one data-level-space warning, positioned at its first cell, with
+// the number of cells that hold exactly that text and the text it is read
+// as:
+//
+//	column "treatment": level "ctl " has a trailing space (12 cells, first at row 3); it is read as "ctl"
+//
+// "ctl " and " ctl" are two warnings, as they are two texts to correct in
+// the file. Cells that are missing once trimmed (blank, or a missing code)
+// and cells of numeric, label and undeclared columns are not reported:
+// there the white space changes no level.
+//
 // # Positions
 //
 // Data findings are [plan.Diagnostic] values positioned in the data file:

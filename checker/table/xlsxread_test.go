@@ -305,3 +305,25 @@ func TestDateFormatKind(t *testing.T) {
 		}
 	}
 }
+
+func TestReadXLSXLevelSpaces(t *testing.T) {
+	data := buildXLSX(t, "plots", [][]any{
+		{"block", "plot", "treatment", "yield"},
+		{"B1", 1, "ctl", 2.5},
+		{"B1", 2, "new ", 3},
+		{"B2", 3, "ctl", 2},
+		{"B2", 4, "new ", " 4"},
+	}, nil)
+	tab, diags := readXLSXBytes(t, data, nil)
+	if len(diags) != 1 {
+		t.Fatalf("findings %v", diags)
+	}
+	d := diags[0]
+	want := `cell C3: column "treatment": level "new " has a trailing space (2 cells, first at row 3); it is read as "new"`
+	if d.Code != "data-level-space" || d.Pos.Line != 3 || d.Pos.Column != 3 || d.Summary != want {
+		t.Errorf("%v %v: %s\nwant %s", d.Code, d.Pos, d.Summary, want)
+	}
+	if got := tab.Texts("treatment"); !slices.Equal(got, []string{"ctl", "new", "ctl", "new"}) {
+		t.Errorf("treatment %q", got)
+	}
+}
