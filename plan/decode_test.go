@@ -194,3 +194,40 @@ func TestParseCRLFAndBOM(t *testing.T) {
 		t.Fatalf("CRLF plan with BOM: %s", formatDiags(ds))
 	}
 }
+
+// TestDataDecimalComma pins the lint rule for a decimal comma: a CSV file
+// must then declare another delimiter; an XLSX file has no delimiter, so
+// decimal: "," alone is sound.
+func TestDataDecimalComma(t *testing.T) {
+	base := string(readFixture(t, basePlan))
+	cases := []struct {
+		name, data string
+		want       bool // a data-decimal finding
+	}{
+		{"csv with the default delimiter", "  file: plots.csv\n  decimal: \",\"\n", true},
+		{"csv with a semicolon", "  file: plots.csv\n  delimiter: \";\"\n  decimal: \",\"\n", false},
+		{"xlsx", "  file: plots.xlsx\n  decimal: \",\"\n", false},
+		{"xlsx declared", "  file: plots.xlsx\n  format: xlsx\n  sheet: plots\n  decimal: \",\"\n", false},
+	}
+	for _, c := range cases {
+		t.Run(c.name, func(t *testing.T) {
+			src := strings.Replace(base, "  file: plots.csv\n", c.data, 1)
+			_, ds, err := plan.Parse("base.yaml", []byte(src), method.Default)
+			if err != nil {
+				t.Fatal(err)
+			}
+			got := false
+			for _, d := range ds {
+				if d.Severity == plan.Error {
+					got = got || d.Code == "data-decimal"
+					if d.Code != "data-decimal" {
+						t.Errorf("unexpected error: %v", d)
+					}
+				}
+			}
+			if got != c.want {
+				t.Errorf("data-decimal finding %v, want %v (%v)", got, c.want, ds)
+			}
+		})
+	}
+}

@@ -108,7 +108,7 @@ func (c *contractCheck) columns() {
 	for _, name := range missing {
 		pc := c.decl[name]
 		s := fmt.Sprintf("column %q (%s) declared in the plan is not in the data", name, pc.Role)
-		if g := schema.Suggest(name, undeclared); g != "" {
+		if g := suggestColumn(name, undeclared, missing); g != "" {
 			s += fmt.Sprintf("; did you mean %q?", g)
 		}
 		c.diags = append(c.diags, plan.Diagnostic{
@@ -119,7 +119,7 @@ func (c *contractCheck) columns() {
 	for _, name := range undeclared {
 		tc := c.t.Column(name)
 		s := fmt.Sprintf("column %q is not declared in the plan; it is carried along unchecked", name)
-		if g := schema.Suggest(name, missing); g != "" {
+		if g := suggestColumn(name, missing, undeclared); g != "" {
 			s += fmt.Sprintf(" (is it the declared %q?)", g)
 		}
 		c.diags = append(c.diags, plan.Diagnostic{

@@ -46,6 +46,15 @@ var xlsxFixtures = map[string]map[string][][]any{
 		"field book": {{"block", "plot", "treatment", "yield"}, {"B1", 1, "ctl", 5.1}},
 		"notes":      {{"made by the fixture generator"}},
 	},
+	"xlsx-decimal-comma": {
+		"plots": {
+			{"block", "plot", "treatment", "yield"},
+			{"B1", 1, "ctl", 5.1},
+			{"B1", 2, "new", "6,35"},
+			{"B2", 3, "ctl", "5.8"},
+			{"B2", 4, "new", 6},
+		},
+	},
 	"xlsx-cells": {
 		"plots": {
 			{"block", "plot", "treatment", "yield"},

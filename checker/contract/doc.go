@@ -21,9 +21,27 @@
 //	data-missing-values     missing values in a column, with counts (warning)
 //
 // and, from reading: data-ragged-row, data-quote, data-header-blank,
-// data-header-repeated, data-blank-rows (warning), data-sheet-missing and
-// data-no-header. After 20 findings of one code in one column the rest are
+// data-header-repeated, data-blank-rows (warning), data-level-space
+// (warning: a level read trimmed of white space), data-sheet-missing,
+// data-no-header and data-delimiter (a CSV header that splits only on
+// another delimiter than the declared one; it names the one to declare). After 20 findings of one code in one column the rest are
 // counted in a single "and N more" finding. Unit identifiers must be unique
 // across the trial: a unit that appears with two sites is reported, not
 // taken as two units.
+//
+// # Column suggestions
+//
+// A declared column the file lacks and a file column the plan does not
+// declare are paired in a suggestion ("did you mean "trt"?" on the first,
+// "(is it the declared "treatment"?)" on the second) when their names are
+// close: a near spelling (schema.Suggest: the same letters in another
+// case, or a small edit distance), else an abbreviation, in either
+// direction. One name abbreviates the other when it has at least three
+// characters and fewer than the other, starts with the same character, and
+// all its characters appear in the other in order, case ignored: a prefix
+// ("treat", "rep" for "treatment", "replicate") or a contraction ("trt",
+// "yld"). An abbreviation is suggested only when the pair is unique both
+// ways: "trt" is not suggested when another undeclared file column also
+// abbreviates "treatment", nor when it also abbreviates another missing
+// declared column.
 package contract

@@ -6,6 +6,7 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"strings"
 	"unicode/utf8"
 
 	"furrow/plan"
@@ -27,6 +28,12 @@ func readCSV(name string, data []byte, o *readOptions) (*Table, plan.Diagnostics
 	// ends, so its rows are rows and their numbers are the ones a user sees.
 	if bytes.IndexByte(data, '\n') < 0 && bytes.IndexByte(data, '\r') >= 0 {
 		data = bytes.ReplaceAll(data, []byte{'\r'}, []byte{'\n'})
+	}
+
+	if d, ok := delimiterHint(name, data, o); ok {
+		// Read with the wrong delimiter every declared column is missing
+		// and every row ragged: say the one thing that is wrong.
+		return nil, plan.Diagnostics{d}, nil
 	}
 
 	r := csv.NewReader(bytes.NewReader(data))
@@ -162,4 +169,121 @@ func Plural(n int, one, many string) string {
 		return one
 	}
 	return many
+}
+
+// delimiterCandidates are the delimiters a header is tried with when it
+// does not split on the declared one, in order of preference.
+var delimiterCandidates = []rune{';', ',', '\t', '|'}
+
+// delimiterHint reports a file written with another delimiter than the
+// plan's: its first non-blank line gives at most one non-blank field with
+// the declared delimiter (or cannot be read with it), and at least two
+// declared column names with one of delimiterCandidates.
+func delimiterHint(name string, data []byte, o *readOptions) (plan.Diagnostic, bool) {
+	line, text := firstTextLine(data)
+	if text == "" {
+		return plan.Diagnostic{}, false
+	}
+	if fields, ok := headerFields(text, o.delim); ok {
+		nonBlank := 0
+		for _, f := range fields {
+			if f != "" {
+				nonBlank++
+			}
+			if o.names[f] {
+				return plan.Diagnostic{}, false
+			}
+		}
+		if nonBlank > 1 {
+			return plan.Diagnostic{}, false
+		}
+	}
+	var (
+		best  rune
+		found []string
+	)
+	for _, r := range delimiterCandidates {
+		if r == o.delim || !strings.ContainsRune(text, r) {
+			continue
+		}
+		fields, ok := headerFields(text, r)
+		if !ok {
+			continue
+		}
+		var names []string
+		seen := map[string]bool{}
+		for _, f := range fields {
+			if o.names[f] && !seen[f] {
+				seen[f] = true
+				names = append(names, f)
+			}
+		}
+		if len(names) >= 2 && len(names) > len(found) {
+			best, found = r, names
+		}
+	}
+	if found == nil {
+		return plan.Diagnostic{}, false
+	}
+	return plan.Diagnostic{
+		Severity: plan.Error, Code: "data-delimiter",
+		Pos: plan.Pos{File: name, Line: line}, Related: RelatedPos(o.dataPos),
+		Summary: fmt.Sprintf("the header %s does not split on %q; split on %q it gives the declared columns %s: declare delimiter: %q in the data section",
+			shortQuote(text, 60), string(o.delim), string(best), wordList(found, 5), string(best)),
+	}, true
+}
+
+// firstTextLine returns the first line of data that is not blank, without
+// its line end, and its line number.
+func firstTextLine(data []byte) (int, string) {
+	for line := 1; len(data) > 0; line++ {
+		text := data
+		if i := bytes.IndexByte(data, '\n'); i >= 0 {
+			text, data = data[:i], data[i+1:]
+		} else {
+			data = nil
+		}
+		if s := strings.TrimSuffix(string(text), "\r"); strings.TrimSpace(s) != "" {
+			return line, s
+		}
+	}
+	return 0, ""
+}
+
+// headerFields splits one line as a CSV record with the delimiter r, each
+// field trimmed; ok is false when the line is not a well-formed record.
+func headerFields(text string, r rune) ([]string, bool) {
+	cr := csv.NewReader(strings.NewReader(text))
+	cr.Comma = r
+	cr.FieldsPerRecord = -1
+	rec, err := cr.Read()
+	if err != nil {
+		return nil, false
+	}
+	for i := range rec {
+		rec[i] = trimCell(rec[i])
+	}
+	return rec, true
+}
+
+// shortQuote quotes s, cut to at most max runes (with "..." inside the
+// quotes when cut).
+func shortQuote(s string, max int) string {
+	if utf8.RuneCountInString(s) <= max {
+		return fmt.Sprintf("%q", s)
+	}
+	r := []rune(s)
+	return fmt.Sprintf("%q", string(r[:max-3])+"...")
+}
+
+// wordList writes "a", "a and b", "a, b and c", or the first max names
+// and "and N more".
+func wordList(words []string, max int) string {
+	if len(words) > max+1 {
+		return strings.Join(words[:max], ", ") + fmt.Sprintf(" and %d more", len(words)-max)
+	}
+	if len(words) < 2 {
+		return strings.Join(words, "")
+	}
+	return strings.Join(words[:len(words)-1], ", ") + " and " + words[len(words)-1]
 }

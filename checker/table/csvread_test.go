@@ -278,3 +278,69 @@ func BenchmarkReadCSV1e6(b *testing.B) {
 		}
 	}
 }
+
+func TestReadCSVDelimiterHint(t *testing.T) {
+	cases := []struct {
+		name, text string
+		delim      string // the plan's delimiter
+		line       int    // 0: no hint, a table
+		summary    string
+	}{
+		{
+			name: "semicolon read with the default", text: "block;plot;treatment;yield\nB1;1;ctl;6,1\nB1;2;new;6,9\n",
+			delim: ",", line: 1,
+			summary: `the header "block;plot;treatment;yield" does not split on ","; split on ";" it gives the declared columns block, plot, treatment and yield: declare delimiter: ";" in the data section`,
+		},
+		{
+			name: "quoted semicolon header after blank lines", text: "\n \n\"block\";\"plot\";\"treatment\";\"yield\"\n\"B1\";1;\"ctl\";6\n",
+			delim: ",", line: 3,
+			summary: `the header "\"block\";\"plot\";\"treatment\";\"yield\"" does not split on ","; split on ";" it gives the declared columns block, plot, treatment and yield: declare delimiter: ";" in the data section`,
+		},
+		{
+			name: "tab with extra columns", text: "block\tplot\ttreatment\tnote\tweight\nB1\t1\tctl\tx\t6\n",
+			delim: ",", line: 1,
+			summary: `the header "block\tplot\ttreatment\tnote\tweight" does not split on ","; split on "\t" it gives the declared columns block, plot and treatment: declare delimiter: "\t" in the data section`,
+		},
+		{
+			name: "comma read as semicolon", text: "block,plot,treatment,yield\nB1,1,ctl,6\n",
+			delim: ";", line: 1,
+			summary: `the header "block,plot,treatment,yield" does not split on ";"; split on "," it gives the declared columns block, plot, treatment and yield: declare delimiter: "," in the data section`,
+		},
+		// Not a delimiter problem: the header splits, or its parts are not
+		// declared columns.
+		{name: "well split", text: goodCSV, delim: ","},
+		{name: "one undeclared column with semicolons", text: "a;b;c\n1;2;3\n", delim: ","},
+		{name: "one declared name only", text: "block;x\nB1;1\n", delim: ","},
+		{name: "semicolons inside a header cell", text: "block,plot,treatment,yield;t/ha\nB1,1,ctl,6\n", delim: ","},
+	}
+	for _, c := range cases {
+		t.Run(c.name, func(t *testing.T) {
+			tab, diags := readCSVText(t, c.text, func(p *plan.Plan) { p.Data.Delimiter = c.delim })
+			var hint []plan.Diagnostic
+			for _, d := range diags {
+				if d.Code == "data-delimiter" {
+					hint = append(hint, d)
+				}
+			}
+			if c.line == 0 {
+				if len(hint) != 0 || tab == nil {
+					t.Errorf("hint %v, table %v", hint, tab != nil)
+				}
+				return
+			}
+			if tab != nil || len(diags) != 1 || len(hint) != 1 {
+				t.Fatalf("want the hint alone and no table; table %v, findings %v", tab != nil, diags)
+			}
+			d := hint[0]
+			if d.Severity != plan.Error || d.Pos.Line != c.line || d.Pos.Column != 0 || !strings.HasSuffix(d.Pos.File, "plots.csv") {
+				t.Errorf("finding %v at %v", d.Severity, d.Pos)
+			}
+			if d.Summary != c.summary {
+				t.Errorf("summary\n%s\nwant\n%s", d.Summary, c.summary)
+			}
+			if len(d.Related) != 1 || d.Related[0].Line != 4 {
+				t.Errorf("related %v, want the data section", d.Related)
+			}
+		})
+	}
+}

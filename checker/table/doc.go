@@ -15,6 +15,14 @@
 // and CRLF line endings are accepted. The delimiter is data.delimiter
 // (default ","). Cells are trimmed of surrounding white space.
 //
+// A file written with another delimiter is caught at its header: when the
+// first non-blank line gives at most one non-blank field with the declared
+// delimiter, but at least two declared column names when split on ";",
+// ",", tab or "|" (tried in that order, the one finding the most names
+// kept), reading stops with one data-delimiter error at the header row
+// that names the delimiter to declare, instead of a missing-column finding
+// for every declared column and a ragged-row finding for every row.
+//
 // XLSX is read from the sheet data.sheet (default: the first sheet). Number
 // cells and the cached values of formulas keep their value, written in
 // shortest round-trip form; cells whose number format shows a date become
@@ -23,12 +31,36 @@
 //
 // A number is an optional sign, digits with at most one decimal mark
 // (data.decimal, "." or ","), and an optional exponent; thousands
-// separators, "inf" and "nan" are not numbers. A cell is missing when it is
-// blank or equals one of data.missing.
+// separators, "inf" and "nan" are not numbers. The decimal mark applies to
+// CSV cells and to XLSX text cells: with decimal: "," the text cell "3,75"
+// is 3.75 and "3.75" is not a number, while XLSX number cells keep their
+// value whatever the mark. A workbook has no delimiter, so an XLSX plan
+// declares decimal: "," alone; a CSV file read with "," as both delimiter
+// and decimal mark is an error. A cell is missing when it is blank or
+// equals one of data.missing.
 //
 // A file that cannot be read as declared (missing, empty, binary, not
 // UTF-8, an XLSX given as CSV or the other way round) is an error naming
 // the file. Problems inside a readable file are diagnostics.
+//
+// # White space around cells
+//
+// Every cell, CSV or XLSX, is trimmed of the white space around it
+// (Unicode white space: spaces, tabs, no-break spaces) before it is parsed
+// as a number, compared with the missing codes or matched against the
+// declared levels, and the Table holds the trimmed text. The trimming is
+// not silent for levels: in a column the plan gives a factor role
+// (treatment, factor, block, site, repeat, unit), each distinct untrimmed
+// text is one data-level-space warning, positioned at its first cell, with
+// the number of cells that hold exactly that text and the text it is read
+// as:
+//
+//	column "treatment": level "ctl " has a trailing space (12 cells, first at row 3); it is read as "ctl"
+//
+// "ctl " and " ctl" are two warnings, as they are two texts to correct in
+// the file. Cells that are missing once trimmed (blank, or a missing code)
+// and cells of numeric, label and undeclared columns are not reported:
+// there the white space changes no level.
 //
 // # Positions
 //

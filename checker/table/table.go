@@ -10,6 +10,7 @@ import (
 	"path/filepath"
 	"strconv"
 	"strings"
+	"unicode"
 	"unicode/utf8"
 
 	"furrow/plan"
@@ -33,7 +34,8 @@ type Column struct {
 	// Numeric is true when the plan declares the column as numeric
 	// (a response or a covariate). It decides how ContentHash writes cells.
 	Numeric bool
-	// Text is the cell text as read, trimmed of surrounding white space.
+	// Text is the cell text as read, trimmed of surrounding white space
+	// (reported for factor columns; see the package documentation).
 	// For XLSX, numbers are written in shortest round-trip form and dates
 	// as YYYY-MM-DD.
 	Text []string
@@ -308,7 +310,8 @@ func trimCell(s string) string {
 // unterminated quote, a missing sheet, empty or repeated header names) are
 // diagnostics positioned in the data file. The table is nil when the
 // diagnostics leave nothing to check (no header, a missing sheet, a quote
-// that swallows the rest of the file); otherwise it holds every row read.
+// that swallows the rest of the file, a header that splits only on another
+// delimiter); otherwise it holds every row read.
 func ReadTable(p *plan.Plan, dataPath string) (*Table, plan.Diagnostics, error) {
 	if p == nil {
 		return nil, nil, fmt.Errorf("reading data: no plan")
@@ -361,6 +364,10 @@ func ReadTable(p *plan.Plan, dataPath string) (*Table, plan.Diagnostics, error) 
 	)
 	switch format {
 	case FormatCSV:
+		// The clash matters only to CSV: XLSX cells need no delimiter.
+		if opts.decimal == ',' && opts.delim == ',' {
+			return nil, nil, fmt.Errorf("reading data %s: decimal mark and delimiter are both \",\"; declare another delimiter (for example \";\")", name)
+		}
 		t, diags, err = readCSV(name, data, opts)
 	case FormatXLSX:
 		t, diags, err = readXLSX(name, data, opts)
@@ -382,13 +389,15 @@ type readOptions struct {
 	decimal byte
 	missing []string // trimmed missing codes; a blank cell is always missing
 	numeric map[string]bool
+	factor  map[string]plan.Pos // columns with a factor role (their cells are levels), at their declaration
+	names   map[string]bool     // every declared column
 	sheet   string
 	dataPos plan.Pos
 }
 
 func newReadOptions(p *plan.Plan) (*readOptions, error) {
 	o := &readOptions{delim: ',', decimal: '.', sheet: p.Data.Sheet, dataPos: p.Data.Pos,
-		numeric: map[string]bool{}}
+		numeric: map[string]bool{}, factor: map[string]plan.Pos{}, names: map[string]bool{}}
 	if d := p.Data.Delimiter; d != "" {
 		r, n := utf8.DecodeRuneInString(d)
 		if d == `\t` || d == "tab" {
@@ -406,9 +415,6 @@ func newReadOptions(p *plan.Plan) (*readOptions, error) {
 	default:
 		return nil, fmt.Errorf("decimal mark %q is not \".\" or \",\"", p.Data.Decimal)
 	}
-	if o.decimal == ',' && o.delim == ',' {
-		return nil, fmt.Errorf("decimal mark and delimiter are both \",\"; declare another delimiter (for example \";\")")
-	}
 	for _, m := range p.Data.Missing {
 		if m = trimCell(m); m != "" {
 			o.missing = append(o.missing, m)
@@ -416,8 +422,12 @@ func newReadOptions(p *plan.Plan) (*readOptions, error) {
 	}
 	for i := range p.Columns {
 		c := &p.Columns[i]
+		o.names[c.Name] = true
 		if c.IsNumeric() {
 			o.numeric[c.Name] = true
+		}
+		if c.IsFactor() {
+			o.factor[c.Name] = c.Pos
 		}
 	}
 	return o, nil
@@ -444,6 +454,18 @@ type tableBuilder struct {
 	width int
 	// keep maps header cell index to table column (-1 when dropped).
 	keep []int
+	// spaced lists, per table column with a factor role, each distinct
+	// untrimmed level text in order of first occurrence; spacedAt finds
+	// its entry.
+	spaced   map[int][]*spacedText
+	spacedAt map[int]map[string]*spacedText
+}
+
+// spacedText is one distinct level text that had white space trimmed.
+type spacedText struct {
+	raw   string
+	row   int // table row of the first occurrence
+	count int
 }
 
 // newTableBuilder makes the columns from the header cells. Blank header
@@ -503,10 +525,89 @@ func (b *tableBuilder) add(row int, cells []string, native []bool) {
 				v = x
 			}
 		}
+		if !miss && i < len(cells) && s != cells[i] && b.isFactor(c.Name) {
+			b.noteSpaced(k, cells[i])
+		}
 		c.Text = append(c.Text, s)
 		c.Num = append(c.Num, v)
 		c.Missing = append(c.Missing, miss)
 	}
+}
+
+// isFactor reports whether the plan gives the named column a factor role.
+func (b *tableBuilder) isFactor(name string) bool {
+	_, ok := b.opts.factor[name]
+	return ok
+}
+
+// noteSpaced counts a level text of table column k that had white space
+// trimmed; the current row is the last one added.
+func (b *tableBuilder) noteSpaced(k int, raw string) {
+	if b.spacedAt == nil {
+		b.spaced, b.spacedAt = map[int][]*spacedText{}, map[int]map[string]*spacedText{}
+	}
+	if b.spacedAt[k] == nil {
+		b.spacedAt[k] = map[string]*spacedText{}
+	}
+	st := b.spacedAt[k][raw]
+	if st == nil {
+		st = &spacedText{raw: raw, row: len(b.t.rows) - 1}
+		b.spacedAt[k][raw] = st
+		b.spaced[k] = append(b.spaced[k], st)
+	}
+	st.count++
+}
+
+// spacedWarnings reports each distinct level text that had white space
+// trimmed, once, at its first cell, with its count.
+func (b *tableBuilder) spacedWarnings() plan.Diagnostics {
+	var diags plan.Diagnostics
+	lim := NewLimiter()
+	t := b.t
+	for k, c := range t.cols {
+		for _, st := range b.spaced[k] {
+			trimmed := trimCell(st.raw)
+			at, where := "", fmt.Sprintf("%d cells, first at row %d", st.count, t.rows[st.row])
+			if st.count == 1 {
+				where = fmt.Sprintf("1 cell, row %d", t.rows[st.row])
+			}
+			if t.Format == FormatXLSX {
+				at = "cell " + CellRef(t.rows[st.row], c.Index) + ": "
+			}
+			lim.Add(&diags, "data-level-space", c.Name, plan.Diagnostic{
+				Severity: plan.Warning, Code: "data-level-space",
+				Pos: t.Pos(st.row, c.Index), Related: RelatedPos(b.opts.factor[c.Name]),
+				Summary: fmt.Sprintf("%scolumn %q: level %q has %s (%s); it is read as %q",
+					at, c.Name, st.raw, spaceWords(st.raw), where, trimmed),
+			})
+		}
+	}
+	return append(diags, lim.Summaries()...)
+}
+
+// spaceWords says what white space surrounds s: "a trailing space",
+// "2 leading spaces", "leading white space" (when it is not all spaces:
+// tabs, no-break spaces), or both ends joined by "and".
+func spaceWords(s string) string {
+	lead := s[:len(s)-len(strings.TrimLeftFunc(s, unicode.IsSpace))]
+	trail := s[len(strings.TrimRightFunc(s, unicode.IsSpace)):]
+	end := func(ws, side string) string {
+		switch n := len(ws); {
+		case strings.Trim(ws, " ") != "":
+			return side + " white space"
+		case n == 1:
+			return "a " + side + " space"
+		default:
+			return fmt.Sprintf("%d %s spaces", n, side)
+		}
+	}
+	switch {
+	case lead != "" && trail != "":
+		return end(lead, "leading") + " and " + end(trail, "trailing")
+	case lead != "":
+		return end(lead, "leading")
+	}
+	return end(trail, "trailing")
 }
 
 // blank reports whether every cell of a row is blank.
@@ -520,10 +621,10 @@ func blankRow(cells []string) bool {
 }
 
 // finish drops blank-named columns that hold no value and reports those
-// that do.
+// that do, and reports level texts that had white space trimmed.
 func (b *tableBuilder) finish() (*Table, plan.Diagnostics) {
 	t := b.t
-	var diags plan.Diagnostics
+	diags := b.spacedWarnings() // indexed by t.cols before blank ones drop
 	kept := t.cols[:0:0]
 	for _, c := range t.cols {
 		if c.Name != "" {
@@ -658,7 +759,7 @@ func parseLongNumber(s string, dec byte) (float64, bool) {
 func FromCells(p *plan.Plan, name string, header []string, cells [][]string, native []bool) *Table {
 	o, err := newReadOptions(p)
 	if err != nil {
-		o = &readOptions{delim: ',', decimal: '.', numeric: map[string]bool{}}
+		o = &readOptions{delim: ',', decimal: '.', numeric: map[string]bool{}, factor: map[string]plan.Pos{}, names: map[string]bool{}}
 	}
 	b, _ := newTableBuilder(name, FormatCSV, "", 1, header, o, len(cells))
 	for i, row := range cells {

@@ -238,3 +238,70 @@ func TestParseNumber(t *testing.T) {
 		}
 	}
 }
+
+func TestReadLevelSpaces(t *testing.T) {
+	// Each distinct untrimmed level text is one warning at its first cell,
+	// with its count; the trimmed text is what the table holds. Numbers,
+	// labels and missing cells with spaces are not levels.
+	text := "block,plot,treatment,yield,note\n" +
+		"B1,1,ctl ,5 ,x \n" +
+		"B1,2, new,6,\n" +
+		"B2 ,3,ctl ,5,\n" +
+		"B2,4,\"new  \",6,\n" +
+		"B2,5,\tctl ,NA ,\n" +
+		"B2,6,  ,7,\n" +
+		"B2,7,ctl ,8,\n"
+	tab, diags := readCSVText(t, text, func(p *plan.Plan) {
+		p.Columns = append(p.Columns, plan.Column{Name: "note", Role: plan.RoleLabel})
+	})
+	type want struct {
+		line, col int
+		summary   string
+	}
+	wants := []want{
+		{2, 3, `column "treatment": level "ctl " has a trailing space (3 cells, first at row 2); it is read as "ctl"`},
+		{3, 3, `column "treatment": level " new" has a leading space (1 cell, row 3); it is read as "new"`},
+		{4, 1, `column "block": level "B2 " has a trailing space (1 cell, row 4); it is read as "B2"`},
+		{5, 3, `column "treatment": level "new  " has 2 trailing spaces (1 cell, row 5); it is read as "new"`},
+		{6, 3, `column "treatment": level "\tctl " has leading white space and a trailing space (1 cell, row 6); it is read as "ctl"`},
+	}
+	if len(diags) != len(wants) {
+		t.Fatalf("%d findings, want %d: %v", len(diags), len(wants), diags)
+	}
+	for i, w := range wants {
+		d := diags[i]
+		if d.Code != "data-level-space" || d.Severity != plan.Warning || d.Pos.Line != w.line || d.Pos.Column != w.col {
+			t.Errorf("finding %d: %v %v at %v", i, d.Severity, d.Code, d.Pos)
+		}
+		if d.Summary != w.summary {
+			t.Errorf("finding %d:\n%s\nwant\n%s", i, d.Summary, w.summary)
+		}
+		if len(d.Related) != 1 || (d.Related[0].Line != 15 && d.Related[0].Line != 10) {
+			t.Errorf("finding %d related %v, want the column's declaration", i, d.Related)
+		}
+	}
+	if got := tab.Texts("treatment"); !slices.Equal(got, []string{"ctl", "new", "ctl", "new", "ctl", "", "ctl"}) {
+		t.Errorf("treatment %q", got)
+	}
+	clean := strings.NewReplacer(" ,", ",", ", ", ",", "\"new  \"", "new", "\t", "", "  ", "").Replace(text)
+	ref, _ := readCSVText(t, clean, func(p *plan.Plan) {
+		p.Columns = append(p.Columns, plan.Column{Name: "note", Role: plan.RoleLabel})
+	})
+	if tab.ContentHash() != ref.ContentHash() {
+		t.Errorf("content hash differs from the trimmed file's:\n%s", clean)
+	}
+}
+
+func TestSpaceWords(t *testing.T) {
+	for _, c := range []struct{ in, want string }{
+		{"a ", "a trailing space"},
+		{"  a", "2 leading spaces"},
+		{" a  ", "a leading space and 2 trailing spaces"},
+		{"a\u00a0", "trailing white space"},
+		{"\ta\t", "leading white space and trailing white space"},
+	} {
+		if got := spaceWords(c.in); got != c.want {
+			t.Errorf("spaceWords(%q) = %q, want %q", c.in, got, c.want)
+		}
+	}
+}

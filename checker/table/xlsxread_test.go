@@ -183,16 +183,40 @@ func TestReadXLSXCells(t *testing.T) {
 }
 
 func TestReadXLSXDecimalComma(t *testing.T) {
-	// Number cells are numbers whatever the decimal mark; text cells follow
-	// the declared mark.
+	// An XLSX plan declares decimal: "," and no delimiter (a workbook has
+	// none): number cells are numbers whatever the decimal mark; text
+	// cells follow the declared mark, so "3,75" is 3.75 and "3.75" is text.
 	data := buildXLSX(t, "plots", [][]any{
 		{"block", "plot", "treatment", "yield"},
 		{"B1", 1, "ctl", 2.5},
-		{"B1", 2, "new", "3,5"},
+		{"B1", 2, "new", "3,75"},
+		{"B2", 3, "ctl", "-1,5e1"},
+		{"B2", 4, "new", "3.75"},
 	}, nil)
-	tab, _ := readXLSXBytes(t, data, func(p *plan.Plan) { p.Data.Decimal = ","; p.Data.Delimiter = ";" })
-	if y := tab.Floats("yield"); y[0] != 2.5 || y[1] != 3.5 {
-		t.Errorf("yield %v, want [2.5 3.5]", y)
+	tab, diags := readXLSXBytes(t, data, func(p *plan.Plan) { p.Data.Decimal = ","; p.Data.Delimiter = "" })
+	if len(diags) != 0 {
+		t.Errorf("findings %v", diags)
+	}
+	y := tab.Column("yield")
+	for i, w := range []float64{2.5, 3.75, -15} {
+		if y.Missing[i] || y.Num[i] != w {
+			t.Errorf("yield[%d] = %v (%q), want %v", i, y.Num[i], y.Text[i], w)
+		}
+	}
+	if !math.IsNaN(y.Num[3]) || y.Missing[3] || y.Text[3] != "3.75" {
+		t.Errorf("text \"3.75\" under decimal \",\": %v %q missing %v", y.Num[3], y.Text[3], y.Missing[3])
+	}
+	if got := y.Text[:3]; !slices.Equal(got, []string{"2.5", "3,75", "-1,5e1"}) {
+		t.Errorf("texts %q", got)
+	}
+	// The same plan read with a CSV file given instead still refuses a
+	// comma that is both the delimiter and the decimal mark.
+	dir := t.TempDir()
+	csvPath := writeData(t, dir, "plots.csv", []byte("block,plot,treatment,yield\nB1,1,ctl,2\n"))
+	p := xlsxPlan(dir)
+	p.Data.Decimal, p.Data.Delimiter = ",", ""
+	if _, _, err := ReadTable(p, csvPath); err == nil || !strings.Contains(err.Error(), "both") || !strings.Contains(err.Error(), "plots.csv") {
+		t.Errorf("csv with a comma for both: %v", err)
 	}
 }
 
@@ -279,5 +303,27 @@ func TestDateFormatKind(t *testing.T) {
 		if got := builtinDateKind(id); got != want {
 			t.Errorf("builtinDateKind(%d) = %d, want %d", id, got, want)
 		}
+	}
+}
+
+func TestReadXLSXLevelSpaces(t *testing.T) {
+	data := buildXLSX(t, "plots", [][]any{
+		{"block", "plot", "treatment", "yield"},
+		{"B1", 1, "ctl", 2.5},
+		{"B1", 2, "new ", 3},
+		{"B2", 3, "ctl", 2},
+		{"B2", 4, "new ", " 4"},
+	}, nil)
+	tab, diags := readXLSXBytes(t, data, nil)
+	if len(diags) != 1 {
+		t.Fatalf("findings %v", diags)
+	}
+	d := diags[0]
+	want := `cell C3: column "treatment": level "new " has a trailing space (2 cells, first at row 3); it is read as "new"`
+	if d.Code != "data-level-space" || d.Pos.Line != 3 || d.Pos.Column != 3 || d.Summary != want {
+		t.Errorf("%v %v: %s\nwant %s", d.Code, d.Pos, d.Summary, want)
+	}
+	if got := tab.Texts("treatment"); !slices.Equal(got, []string{"ctl", "new", "ctl", "new"}) {
+		t.Errorf("treatment %q", got)
 	}
 }
