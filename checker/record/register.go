@@ -169,6 +169,11 @@ type RegisterResult struct {
 // ErrPlanDoesNotLint is returned (wrapped) by Register when the plan has errors.
 var ErrPlanDoesNotLint = errors.New("the plan has errors; fix them before registering")
 
+// ErrClockBehind is wrapped by Register's error when the registration time
+// is earlier than the previous entry's: appending it would break the
+// chain for every later command.
+var ErrClockBehind = errors.New("registration time earlier than the previous entry")
+
 // Register registers the plan at planPath: the first time it writes a new
 // record with one entry; when the plan has changed since the last entry it
 // appends an amendment entry, which requires a new trial.version and an
@@ -216,6 +221,10 @@ func Register(planPath string, opt RegisterOptions) (*RegisterResult, plan.Diagn
 		if head.PlanHash == e.PlanHash {
 			res.Entry, res.Unchanged = *head, true
 			return res, diags, nil
+		}
+		if prev, err := time.Parse(time.RFC3339, head.RegisteredAt); err == nil && opt.Now.Before(prev) {
+			return nil, diags, fmt.Errorf("registering %s: %w: the clock says %s, before entry %d registered at %s; nothing was registered (check the machine's clock)",
+				planPath, ErrClockBehind, e.RegisteredAt, head.Seq, head.RegisteredAt)
 		}
 		for _, old := range reg.Entries {
 			if old.PlanVersion == e.PlanVersion {

@@ -8,6 +8,7 @@ import (
 	"os"
 	"path/filepath"
 	"strings"
+	"time"
 )
 
 // Exit codes, the same for every command.
@@ -55,16 +56,25 @@ type env struct {
 	stdin          io.Reader
 	stdout, stderr io.Writer
 	cwd            string
+	// wallClock is the time of registrations: the system clock in the
+	// program, a fixed time in the command tests. It never reads
+	// SOURCE_DATE_EPOCH (see register).
+	wallClock func() time.Time
 }
 
 // run is the whole program: it dispatches to a command and returns the
 // process exit code.
 func run(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
+	return runWithClock(args, stdin, stdout, stderr, time.Now)
+}
+
+// runWithClock is run with the registration clock injected.
+func runWithClock(args []string, stdin io.Reader, stdout, stderr io.Writer, wallClock func() time.Time) int {
 	cwd, err := os.Getwd()
 	if err != nil {
 		cwd = ""
 	}
-	e := &env{stdin: stdin, stdout: stdout, stderr: stderr, cwd: cwd}
+	e := &env{stdin: stdin, stdout: stdout, stderr: stderr, cwd: cwd, wallClock: wallClock}
 	if len(args) == 0 {
 		fmt.Fprint(stderr, mainUsage())
 		return exitUsage

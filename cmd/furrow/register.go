@@ -24,8 +24,11 @@ be rewritten without showing. A plan with errors (see "furrow lint") is
 refused. Registering an unchanged plan changes nothing. Prints the plan
 hash and the chain of entries, oldest first.
 
-The time is the system clock, or SOURCE_DATE_EPOCH (seconds since 1970)
-when that variable is set, for reproducible records.
+The registration time is the system clock; SOURCE_DATE_EPOCH, which sets
+the time of reproducible builds and of run records, is ignored here (and
+register says so), since a registration time must say when the plan was
+fixed. An entry dated before the previous one is refused: check the
+machine's clock.
 
 Examples:
   furrow register examples/soil-nematodes/plan.yaml
@@ -39,14 +42,16 @@ var registerCommand = &command{
 	run:     runRegister,
 }
 
-// clockNow is the injected clock: SOURCE_DATE_EPOCH when set, else now.
-func clockNow() time.Time {
+// runClock is the time of a run record: SOURCE_DATE_EPOCH when set (for
+// reproducible records; run_at is outside the content hash), else the
+// wall clock.
+func (e *env) runClock() time.Time {
 	if s := os.Getenv("SOURCE_DATE_EPOCH"); s != "" {
 		if n, err := strconv.ParseInt(s, 10, 64); err == nil {
 			return time.Unix(n, 0).UTC()
 		}
 	}
-	return time.Now().UTC()
+	return e.wallClock().UTC()
 }
 
 func runRegister(e *env, c *command, args []string) int {
@@ -55,7 +60,10 @@ func runRegister(e *env, c *command, args []string) int {
 	if !ok {
 		return code
 	}
-	res, ds, err := checker.Register(pos[0], checker.RegisterOptions{Now: clockNow(), ToolVersion: toolVersion()})
+	if os.Getenv("SOURCE_DATE_EPOCH") != "" {
+		fmt.Fprintln(e.stderr, "furrow register: SOURCE_DATE_EPOCH is set; it is ignored for registration times, which come from the system clock")
+	}
+	res, ds, err := checker.Register(pos[0], checker.RegisterOptions{Now: e.wallClock().UTC(), ToolVersion: toolVersion()})
 	if errors.Is(err, checker.ErrPlanDoesNotLint) {
 		e.writeFindings(e.stderr, ds)
 		fmt.Fprintf(e.stderr, "furrow register: %s: the plan has errors; nothing was registered\n", e.rel(pos[0]))

@@ -73,7 +73,7 @@ func runRun(e *env, c *command, args []string) int {
 	if len(pos) == 2 {
 		dataPath = pos[1]
 	}
-	res, err := checker.Run(checker.RunOptions{PlanPath: pos[0], DataPath: dataPath, OutDir: *out, Now: clockNow(),
+	res, err := checker.Run(checker.RunOptions{PlanPath: pos[0], DataPath: dataPath, OutDir: *out, Now: e.runClock(),
 		Tool: checker.ToolInfo{Name: "furrow", Version: toolVersion(), Build: buildInfo()}, Unregistered: *unreg})
 	var de *checker.DataError
 	var pe *checker.PlanError

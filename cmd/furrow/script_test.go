@@ -9,6 +9,7 @@ import (
 	"strconv"
 	"strings"
 	"testing"
+	"time"
 
 	"github.com/rogpeppe/go-internal/testscript"
 )
@@ -20,8 +21,17 @@ var update = flag.Bool("update", false, "rewrite the expected output in testdata
 
 func TestMain(m *testing.M) {
 	testscript.Main(m, map[string]func(){
-		"furrow": func() { os.Exit(run(os.Args[1:], os.Stdin, os.Stdout, os.Stderr)) },
+		"furrow": func() { os.Exit(runWithClock(os.Args[1:], os.Stdin, os.Stdout, os.Stderr, testClock)) },
 	})
+}
+
+// testClock is the registration clock of the command tests: the Unix time
+// in FURROW_TEST_CLOCK (a variable only this test binary reads), else now.
+func testClock() time.Time {
+	if n, err := strconv.ParseInt(os.Getenv("FURROW_TEST_CLOCK"), 10, 64); err == nil {
+		return time.Unix(n, 0).UTC()
+	}
+	return time.Now()
 }
 
 // TestScripts runs every testdata/script/*.txtar against the real command.
