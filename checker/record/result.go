@@ -22,9 +22,17 @@ type Result struct {
 	// Tool identifies the program that produced the record.
 	Tool ToolInfo `json:"tool"`
 	// RunAt is the wall-clock time of the run (RFC 3339, UTC). It is the only
-	// field that differs between two runs of the same plan on the same data;
-	// it is left out of the content hash and verify does not compare it.
+	// field that differs between two runs of the same plan on the same data
+	// (with PlanLocation when the run directory is elsewhere); it is left
+	// out of the content hash and verify does not compare it.
 	RunAt string `json:"run_at"`
+	// PlanLocation is where the plan file was, as a slash path relative to
+	// the run directory, when the run was made. It is only a hint: verify
+	// looks for the plan there unless told where it is (--plan), and every
+	// other path of the record is relative to the plan's folder. It is left
+	// out of the content hash, so that the hash does not depend on where the
+	// run directory and the plan are, and verify does not compare it.
+	PlanLocation string `json:"plan_location"`
 	// Unregistered is true when the run was asked for without a matching
 	// registration record. Every rendering of the record must show it.
 	Unregistered bool `json:"unregistered"`
@@ -69,8 +77,10 @@ type TrialInfo struct {
 
 // Inputs fingerprints everything the run read.
 type Inputs struct {
-	// PlanPath is the plan file, as a slash path relative to the run
-	// directory (so that the record can be moved together with its inputs).
+	// PlanPath is the plan file's name. Every path in Inputs is a slash
+	// path relative to the plan's folder, so that the content hash does not
+	// depend on where the plan or the run directory is (see
+	// Result.PlanLocation for where the plan was).
 	PlanPath string `json:"plan_path"`
 	// PlanFileSHA256 is "sha256:<hex>" of the plan file's bytes.
 	PlanFileSHA256 string `json:"plan_file_sha256"`
@@ -80,7 +90,7 @@ type Inputs struct {
 	// Registration is the registration record the run was checked against;
 	// nil for an unregistered run without any record.
 	Registration *RegistrationRef `json:"registration"`
-	// DataPath is the data file, as a slash path relative to the run directory.
+	// DataPath is the data file analysed, relative to the plan's folder.
 	DataPath string `json:"data_path"`
 	// DataFileSHA256 is "sha256:<hex>" of the data file's bytes.
 	DataFileSHA256 string `json:"data_file_sha256"`
@@ -96,7 +106,7 @@ type Inputs struct {
 
 // RegistrationRef points at the registration record of the plan.
 type RegistrationRef struct {
-	// Path is the registration record, a slash path relative to the run directory.
+	// Path is the registration record, relative to the plan's folder.
 	Path string `json:"path"`
 	// FileSHA256 is "sha256:<hex>" of the record file's bytes.
 	FileSHA256 string `json:"file_sha256"`

@@ -143,13 +143,16 @@ func Verify(opt VerifyOptions) (*VerifyReport, error) {
 		add(DevToolVersion, "tool.version", rec.Tool.Version, opt.Tool.Version, "the record was written by another furrow version")
 	}
 	// 2. Plan and data files.
+	// The plan is where the record says it was seen from the run directory
+	// (plan_location, a hint outside the content hash); the data and the
+	// registration are relative to the plan's folder, as recorded.
 	planPath := opt.PlanPath
 	if planPath == "" {
-		planPath = filepath.Join(dir, filepath.FromSlash(rec.Inputs.PlanPath))
+		planPath = filepath.Join(dir, filepath.FromSlash(rec.PlanLocation))
 	}
 	dataPath := opt.DataPath
 	if dataPath == "" {
-		dataPath = filepath.Join(dir, filepath.FromSlash(rec.Inputs.DataPath))
+		dataPath = filepath.Join(filepath.Dir(planPath), filepath.FromSlash(rec.Inputs.DataPath))
 	}
 	if b, err := os.ReadFile(dataPath); err != nil {
 		add(DevDataChanged, "inputs.data_path", rec.Inputs.DataPath, "", "the data file cannot be read: "+err.Error())
@@ -212,7 +215,7 @@ func Verify(opt VerifyOptions) (*VerifyReport, error) {
 		return nil, err
 	}
 	am, bm := a.(map[string]any), b.(map[string]any)
-	for _, k := range []string{"run_at", "integrity", "tool", "unregistered"} {
+	for _, k := range []string{"run_at", "plan_location", "integrity", "tool", "unregistered"} {
 		delete(am, k)
 		delete(bm, k)
 	}
