@@ -102,6 +102,7 @@ const (
 	DevStepNotDeclared    = verify.DevStepNotDeclared
 	DevResultsDiffer      = verify.DevResultsDiffer
 	DevToolVersion        = verify.DevToolVersion
+	DevDataNotDeclared    = verify.DevDataNotDeclared
 )
 
 // Verify re-runs the analysis of a record and compares; see

@@ -130,6 +130,7 @@ func Run(opt RunOptions) (*record.Result, error) {
 		dataPath = filepath.Join(filepath.Dir(opt.PlanPath), filepath.FromSlash(p.Data.File))
 	}
 	r.Inputs.DataPath = relSlash(planDir, dataPath)
+	r.Inputs.DataDeclared = declaredData(planDir, p.Data.File)
 	r.Inputs.DataFileSHA256 = t.FileHash
 	r.Inputs.TableHash = t.ContentHash()
 	r.Inputs.Rows = t.NumRows()
@@ -179,6 +180,20 @@ func registrationRef(planPath, hash string) (*record.RegistrationRef, error) {
 		return ref, fmt.Errorf("%w: the plan differs from registered version %s (entry %d); register an amendment or ask for an unregistered run", ErrNotRegistered, head.PlanVersion, head.Seq)
 	}
 	return ref, nil
+}
+
+// declaredData returns the plan's data.file as a slash path relative to the
+// plan's folder, cleaned like the path of the file analysed so that the
+// two compare as strings ("" when the plan names none).
+func declaredData(planDir, file string) string {
+	if file == "" {
+		return ""
+	}
+	f := filepath.FromSlash(file)
+	if !filepath.IsAbs(f) {
+		f = filepath.Join(planDir, f)
+	}
+	return relSlash(planDir, f)
 }
 
 // relSlash returns path relative to base as a slash path (path itself,

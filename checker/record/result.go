@@ -92,6 +92,10 @@ type Inputs struct {
 	Registration *RegistrationRef `json:"registration"`
 	// DataPath is the data file analysed, relative to the plan's folder.
 	DataPath string `json:"data_path"`
+	// DataDeclared is the plan's data.file, relative to the plan's folder
+	// and cleaned the same way: DataPath differs from it when the run was
+	// given another data file (see DataAsDeclared).
+	DataDeclared string `json:"data_declared"`
 	// DataFileSHA256 is "sha256:<hex>" of the data file's bytes.
 	DataFileSHA256 string `json:"data_file_sha256"`
 	// TableHash is "sha256:<hex>" of the table as read (see TableHash).
@@ -103,6 +107,10 @@ type Inputs struct {
 	// RowsAnalysed is Rows minus the rows removed by exclusions.
 	RowsAnalysed int `json:"rows_analysed"`
 }
+
+// DataAsDeclared reports whether the file analysed is the plan's
+// data.file (both paths are cleaned and relative to the plan's folder).
+func (in *Inputs) DataAsDeclared() bool { return in.DataPath == in.DataDeclared }
 
 // RegistrationRef points at the registration record of the plan.
 type RegistrationRef struct {

@@ -39,10 +39,15 @@ const (
 	DevStepNotDeclared DeviationCode = "step-not-declared"
 	// DevToolVersion: the record was made by another tool version (informational).
 	DevToolVersion DeviationCode = "tool-version-differs"
+	// DevDataNotDeclared: the run analysed a data file other than the
+	// plan's data.file. Informational: a plan declares no data hash that
+	// could hold another file to the registered data, so what was
+	// analysed is only shown (its hash is still checked, see DevDataChanged).
+	DevDataNotDeclared DeviationCode = "data-file-not-declared"
 )
 
 // Informational reports whether the code does not by itself fail verification.
-func (c DeviationCode) Informational() bool { return c == DevToolVersion }
+func (c DeviationCode) Informational() bool { return c == DevToolVersion || c == DevDataNotDeclared }
 
 // Deviation is one finding of Verify.
 type Deviation struct {
@@ -138,6 +143,10 @@ func Verify(opt VerifyOptions) (*VerifyReport, error) {
 	}
 	if rec.Unregistered {
 		add(DevUnregisteredRun, "unregistered", "true", "", "the run was made without a matching registration")
+	}
+	if !rec.Inputs.DataAsDeclared() {
+		add(DevDataNotDeclared, "inputs.data_path", "", "", fmt.Sprintf("the analysis ran on %s, not on the plan's data.file %s (informational: no data hash is registered to hold another file to)",
+			rec.Inputs.DataPath, rec.Inputs.DataDeclared))
 	}
 	if rec.Tool.Version != opt.Tool.Version {
 		add(DevToolVersion, "tool.version", rec.Tool.Version, opt.Tool.Version, "the record was written by another furrow version")

@@ -21,7 +21,8 @@ compares every number (relative tolerance 1e-9) and every decision
 (exactly). Plan and data paths come from the record unless given.
 
 Prints one line when there is no deviation; otherwise one line per
-deviation with its code and the record field concerned.
+deviation with its code and the record field concerned, then the count
+(informational deviations are listed but not counted).
 
 Deviation codes:
   unregistered-run                  the run was made without a matching registration
@@ -31,6 +32,7 @@ Deviation codes:
   record-edited                     the record's content hash or signature does not match
   results-differ                    the re-run gives a different number or decision
   step-not-declared                 the record holds a step the plan does not declare
+  data-file-not-declared            the run analysed a file other than the plan's data.file (informational)
   tool-version-differs              another furrow version wrote the record (informational)
 
 Flags:
@@ -77,7 +79,7 @@ func runVerify(e *env, c *command, args []string) int {
 		if err := writeJSON(e.stdout, rep); err != nil {
 			return fail(e, c, err)
 		}
-	} else if rep.OK() {
+	} else if len(rep.Deviations) == 0 {
 		fmt.Fprintf(e.stdout, "%s: no undeclared deviation\n", e.rel(pos[0]))
 	} else {
 		writeDeviations(e, pos[0], rep.Deviations)
@@ -98,7 +100,7 @@ const maxShownPerCode = 6
 // invalidates the record first, informational last.
 var codeOrder = []checker.DeviationCode{
 	checker.DevRecordEdited, checker.DevPlanChanged, checker.DevAmendmentAfterLock, checker.DevDataChanged,
-	checker.DevUnregisteredRun, checker.DevStepNotDeclared, checker.DevResultsDiffer, checker.DevToolVersion,
+	checker.DevUnregisteredRun, checker.DevStepNotDeclared, checker.DevResultsDiffer, checker.DevDataNotDeclared, checker.DevToolVersion,
 }
 
 // fieldWeight orders differing fields so that decisions and verdicts come
@@ -129,12 +131,14 @@ func writeDeviations(e *env, dir string, devs []checker.Deviation) {
 		seen[key] = true
 		byCode[d.Code] = append(byCode[d.Code], d)
 	}
-	n := 0
+	n, info := 0, 0
 	for _, code := range codeOrder {
 		list := byCode[code]
 		sort.SliceStable(list, func(i, j int) bool { return fieldWeight(list[i].Field) < fieldWeight(list[j].Field) })
 		for i, d := range list {
-			if !code.Informational() {
+			if code.Informational() {
+				info++
+			} else {
 				n++
 			}
 			if i == maxShownPerCode {
@@ -153,6 +157,10 @@ func writeDeviations(e *env, dir string, devs []checker.Deviation) {
 			}
 			fmt.Fprintln(e.stdout, line)
 		}
+	}
+	if n == 0 {
+		fmt.Fprintf(e.stdout, "%s: no undeclared deviation (%d informational)\n", e.rel(dir), info)
+		return
 	}
 	fmt.Fprintf(e.stdout, "%s: %s\n", e.rel(dir), plural(n, "deviation"))
 }
