@@ -4,12 +4,15 @@ import (
 	"bytes"
 	"crypto/ed25519"
 	"encoding/json"
+	"errors"
 	"fmt"
+	"io/fs"
 	"math"
 	"os"
 	"path/filepath"
 	"sort"
 	"strconv"
+	"strings"
 	"time"
 
 	"furrow/checker/engine"
@@ -73,6 +76,37 @@ type VerifyOptions struct {
 	Tool record.ToolInfo
 	// RelTol is the relative tolerance for re-computed numbers (0 = DefaultRelTol).
 	RelTol float64
+}
+
+// MissingInputError is returned by Verify when the plan or the data file
+// is not where the record puts them (plan_location from the run
+// directory, inputs.data_path from the plan's folder) or where the options
+// say: typically a run directory moved without its inputs. Nothing is
+// compared then; VerifyOptions.PlanPath and DataPath point Verify at them.
+type MissingInputError struct {
+	// Dir is the run directory.
+	Dir string
+	// Plan and Data are the paths looked at and not found; "" for one
+	// that was found or not looked for.
+	Plan, Data string
+	// DataUnknown is true when the data could not be looked for: they are
+	// found from the plan's folder, and the plan was not found.
+	DataUnknown bool
+}
+
+// Error names what is missing and the options that point at it.
+func (e *MissingInputError) Error() string {
+	var miss, opts []string
+	if e.Plan != "" {
+		miss, opts = append(miss, "no plan at "+e.Plan), append(opts, "PlanPath")
+	}
+	if e.Data != "" {
+		miss = append(miss, "no data at "+e.Data)
+	}
+	if e.Data != "" || e.DataUnknown {
+		opts = append(opts, "DataPath")
+	}
+	return fmt.Sprintf("%s: %s (give %s)", e.Dir, strings.Join(miss, ", "), strings.Join(opts, " and "))
 }
 
 // DefaultRelTol is the tolerance verify uses for floating-point numbers:
@@ -163,14 +197,29 @@ func Verify(opt VerifyOptions) (*VerifyReport, error) {
 	if dataPath == "" {
 		dataPath = filepath.Join(filepath.Dir(planPath), filepath.FromSlash(rec.Inputs.DataPath))
 	}
-	if b, err := os.ReadFile(dataPath); err != nil {
-		add(DevDataChanged, "inputs.data_path", rec.Inputs.DataPath, "", "the data file cannot be read: "+err.Error())
-	} else if got := record.SHA256Hex(b); got != rec.Inputs.DataFileSHA256 {
-		add(DevDataChanged, "inputs.data_file_sha256", rec.Inputs.DataFileSHA256, got, "the data file differs from the one analysed")
+	// A missing plan or data file is not evidence of a change: it stops
+	// the check, and the error says how to point verify at them.
+	missing := &MissingInputError{Dir: filepath.ToSlash(dir)}
+	if _, err := os.Stat(planPath); errors.Is(err, fs.ErrNotExist) {
+		missing.Plan = filepath.ToSlash(filepath.Clean(planPath))
+		if opt.DataPath == "" {
+			missing.DataUnknown = true
+		} else if _, err := os.Stat(dataPath); errors.Is(err, fs.ErrNotExist) {
+			missing.Data = filepath.ToSlash(filepath.Clean(dataPath))
+		}
+		return nil, missing
+	} else if err != nil {
+		return nil, fmt.Errorf("reading plan: %w", err)
 	}
-	if _, err := os.Stat(planPath); err != nil {
-		add(DevPlanChanged, "inputs.plan_path", rec.Inputs.PlanPath, "", "the plan file cannot be read: "+err.Error())
-		return rep, nil
+	dataRaw, err := os.ReadFile(dataPath)
+	if errors.Is(err, fs.ErrNotExist) {
+		missing.Data = filepath.ToSlash(filepath.Clean(dataPath))
+		return nil, missing
+	} else if err != nil {
+		return nil, fmt.Errorf("reading data: %w", err)
+	}
+	if got := record.SHA256Hex(dataRaw); got != rec.Inputs.DataFileSHA256 {
+		add(DevDataChanged, "inputs.data_file_sha256", rec.Inputs.DataFileSHA256, got, "the data file differs from the one analysed")
 	}
 	// 3. Registration chain (read fresh, next to the plan).
 	if !rec.Unregistered {

@@ -2,6 +2,7 @@ package main
 
 import (
 	"crypto/ed25519"
+	"errors"
 	"fmt"
 	"os"
 	"runtime"
@@ -18,7 +19,10 @@ which must be by PUB when --key is given), the plan against the record and
 against its registration chain (registered before the run, no amendment
 after it), the data file against its hash, then re-runs the analysis and
 compares every number (relative tolerance 1e-9) and every decision
-(exactly). Plan and data paths come from the record unless given.
+(exactly). The plan is looked for where the record says it was seen from
+DIR, the data where the record puts them beside the plan; --plan and
+--data say where they are instead (for a run folder moved without them).
+A plan or data file that is not there stops verify (exit 2).
 
 Prints one line when there is no deviation; otherwise one line per
 deviation with its code and the record field concerned, then the count
@@ -38,8 +42,8 @@ Deviation codes:
 Flags:
   --json        print the report as JSON
   --key PUB     require a signature by this public key
-  --plan PLAN   use this plan file instead of the recorded path
-  --data DATA   use this data file instead of the recorded path
+  --plan PLAN   the plan file, when it is not where the record puts it
+  --data DATA   the data file, when it is not where the record puts it
 
 ` + exitCodesHelp
 
@@ -72,6 +76,11 @@ func runVerify(e *env, c *command, args []string) int {
 	}
 	rep, err := checker.Verify(checker.VerifyOptions{Dir: pos[0], PlanPath: *planPath, DataPath: *dataPath, PublicKey: pub,
 		Tool: checker.ToolInfo{Name: "furrow", Version: toolVersion()}})
+	var missing *checker.MissingInputError
+	if errors.As(err, &missing) {
+		fmt.Fprintf(e.stderr, "furrow verify: %s\n", missingText(e, missing, *planPath, *dataPath))
+		return exitUsage
+	}
 	if err != nil {
 		return fail(e, c, err)
 	}
@@ -88,6 +97,24 @@ func runVerify(e *env, c *command, args []string) int {
 		return exitFindings
 	}
 	return exitOK
+}
+
+// missingText says which input of a run was not found, where it was
+// looked for, and which flags point verify at it. planFlag and dataFlag
+// are the values of --plan and --data.
+func missingText(e *env, m *checker.MissingInputError, planFlag, dataFlag string) string {
+	dir := e.rel(m.Dir)
+	switch {
+	case m.Plan != "" && planFlag != "":
+		return fmt.Sprintf("%s: no plan file %s (given with --plan)", dir, e.rel(m.Plan))
+	case m.Data != "" && dataFlag != "":
+		return fmt.Sprintf("%s: no data file %s (given with --data)", dir, e.rel(m.Data))
+	case m.Plan != "" && m.DataUnknown:
+		return fmt.Sprintf("%s: the record's plan and data are not where it puts them (no file %s); if the run folder was moved without them, point verify at them with --plan PLAN and --data DATA", dir, e.rel(m.Plan))
+	case m.Plan != "":
+		return fmt.Sprintf("%s: the record's plan is not where it puts it (no file %s); if it was moved, point verify at it with --plan PLAN", dir, e.rel(m.Plan))
+	}
+	return fmt.Sprintf("%s: the record's data are not where it puts them (no file %s); if they were moved, point verify at them with --data DATA", dir, e.rel(m.Data))
 }
 
 func goVersion() string { return runtime.Version() }
