@@ -45,13 +45,24 @@ Flags:
   --plan PLAN   the plan file, when it is not where the record puts it
   --data DATA   the data file, when it is not where the record puts it
 
-` + exitCodesHelp
+` + verifyExitCodes
+
+// verifyExitCodes are the exit codes as verify uses them.
+const verifyExitCodes = `Exit codes (verify's own):
+  0  no deviation, or informational ones only
+  1  deviations: the record, the plan, its registration or the data differ
+     from what the run recorded, or the re-run gives other results
+  2  usage error, a record that cannot be read, or a plan or data file that
+     cannot be found where the record says (point verify at them with
+     --plan and --data)
+`
 
 var verifyCommand = &command{
-	name:    "verify",
-	summary: "re-run a recorded analysis and list any undeclared deviation",
-	usage:   verifyUsage,
-	run:     runVerify,
+	name:      "verify",
+	summary:   "re-run a recorded analysis and list any undeclared deviation",
+	usage:     verifyUsage,
+	exitCodes: verifyExitCodes,
+	run:       runVerify,
 }
 
 func runVerify(e *env, c *command, args []string) int {
