@@ -14,6 +14,7 @@ import (
 	"strconv"
 	"strings"
 	"time"
+	"unicode/utf8"
 
 	"furrow/checker/engine"
 	"furrow/checker/record"
@@ -136,6 +137,15 @@ func (v *VerifyReport) OK() bool {
 // decision. The error is for problems that stop the check itself
 // (unreadable record); deviations are in the report.
 func Verify(opt VerifyOptions) (*VerifyReport, error) {
+	rep, err := check(opt)
+	if rep != nil {
+		plainPairs(rep)
+	}
+	return rep, err
+}
+
+// check is Verify before the deviations' pairs are made plain.
+func check(opt VerifyOptions) (*VerifyReport, error) {
 	recPath := opt.Dir
 	dir := opt.Dir
 	if st, err := os.Stat(recPath); err == nil && st.IsDir() {
@@ -176,7 +186,7 @@ func Verify(opt VerifyOptions) (*VerifyReport, error) {
 		add(DevRecordEdited, "integrity.signature", "", "", "the record is not signed, but a public key was given")
 	}
 	if rec.Unregistered {
-		add(DevUnregisteredRun, "unregistered", "true", "", "the run was made without a matching registration")
+		add(DevUnregisteredRun, "unregistered", "", "", "the run was made without a matching registration")
 	}
 	if !rec.Inputs.DataAsDeclared() {
 		add(DevDataNotDeclared, "inputs.data_path", "", "", fmt.Sprintf("the analysis ran on %s, not on the plan's data.file %s (informational: no data hash is registered to hold another file to)",
@@ -253,7 +263,7 @@ func Verify(opt VerifyOptions) (*VerifyReport, error) {
 	for i, ep := range rec.Endpoints {
 		for j, s := range ep.Steps {
 			if !declared[ep.ID][s.ID] {
-				add(DevStepNotDeclared, fmt.Sprintf("endpoints[%d].steps[%d].id", i, j), s.ID, "", fmt.Sprintf("step %s of endpoint %s is not declared in the plan", s.ID, ep.ID))
+				add(DevStepNotDeclared, fmt.Sprintf("endpoints[%d].steps[%d].id", i, j), "", "", fmt.Sprintf("step %s of endpoint %s is not declared in the plan", s.ID, ep.ID))
 			}
 		}
 	}
@@ -296,6 +306,18 @@ func Verify(opt VerifyOptions) (*VerifyReport, error) {
 	return rep, nil
 }
 
+// plainPairs keeps a deviation's recorded / now pair only when it says
+// something: both sides present and different. Every deviation's summary
+// says what differs on its own, so nothing is lost.
+func plainPairs(rep *VerifyReport) {
+	for i := range rep.Deviations {
+		d := &rep.Deviations[i]
+		if d.Recorded == "" || d.Now == "" || d.Recorded == d.Now {
+			d.Recorded, d.Now = "", ""
+		}
+	}
+}
+
 // verifyRegistration checks the plan's registration record against the
 // record: chain intact, the plan registered as run, registration before the run.
 func verifyRegistration(planPath string, rec *record.Result, add func(DeviationCode, string, string, string, string)) {
@@ -321,35 +343,36 @@ func verifyRegistration(planPath string, rec *record.Result, add func(DeviationC
 		}
 	}
 	if found < 0 {
-		add(DevPlanChanged, "inputs.registration.head", ref.Head, "", "the registration entry the run was checked against is no longer in the registration record (history rewritten)")
+		add(DevPlanChanged, "inputs.registration.head", "", "", fmt.Sprintf("the registration entry the run was checked against (%s) is no longer in the registration record (history rewritten)", ref.Head))
 		return
 	}
 	e := reg.Entries[found]
 	if e.PlanHash != rec.Inputs.PlanHash {
-		add(DevPlanChanged, "inputs.plan_hash", rec.Inputs.PlanHash, e.PlanHash, "the plan that was run is not the registered one")
+		add(DevPlanChanged, "inputs.plan_hash", "", "", fmt.Sprintf("the plan that was run (%s) is not the one registered in entry %d, version %s (%s)", rec.Inputs.PlanHash, e.Seq, e.PlanVersion, e.PlanHash))
 	}
 	// Times are compared as instants, not as strings: run_at is outside
 	// the content hash, so an unsigned record's run_at may hold anything.
 	runAt, err := time.Parse(time.RFC3339, rec.RunAt)
 	if err != nil {
-		add(DevRecordEdited, "run_at", rec.RunAt, "", "the run time is not an RFC 3339 time, so it cannot be compared with the registration")
+		add(DevRecordEdited, "run_at", "", "", fmt.Sprintf("the run time %q is not an RFC 3339 time, so it cannot be compared with the registration", rec.RunAt))
 		return
 	}
 	regAt := func(i int, s string) (time.Time, bool) {
 		t, err := time.Parse(time.RFC3339, s)
 		if err != nil {
-			add(DevPlanChanged, fmt.Sprintf("registration.entries[%d].registered_at", i), s, "", "the registration time is not an RFC 3339 time")
+			add(DevPlanChanged, fmt.Sprintf("registration.entries[%d].registered_at", i), "", "", fmt.Sprintf("the registration time %q of entry %d is not an RFC 3339 time", s, i+1))
 			return time.Time{}, false
 		}
 		return t, true
 	}
 	if at, ok := regAt(found, e.RegisteredAt); ok && at.After(runAt) {
-		add(DevPlanChanged, "inputs.registration.chain", e.RegisteredAt, rec.RunAt, "the registration is dated after the run")
+		add(DevPlanChanged, fmt.Sprintf("registration.entries[%d].registered_at", found), "", "",
+			fmt.Sprintf("the run (%s) is dated before the registration it was checked against (entry %d, version %s, registered %s)", rec.RunAt, e.Seq, e.PlanVersion, e.RegisteredAt))
 	}
 	for k, later := range reg.Entries[found+1:] {
 		if at, ok := regAt(found+1+k, later.RegisteredAt); ok && !at.Before(runAt) {
-			add(DevAmendmentAfterLock, fmt.Sprintf("registration.entries[%d]", later.Seq-1), rec.RunAt, later.RegisteredAt,
-				fmt.Sprintf("plan version %s was registered after the data were analysed (%s)", later.PlanVersion, later.Reason))
+			add(DevAmendmentAfterLock, fmt.Sprintf("registration.entries[%d]", found+1+k), "", "",
+				fmt.Sprintf("plan version %s was registered %s, after the data were analysed (%s): %s", later.PlanVersion, later.RegisteredAt, rec.RunAt, later.Reason))
 		}
 	}
 }
@@ -367,7 +390,7 @@ func compareJSON(path string, a, b any, tol float64, out *[]Deviation) {
 	case map[string]any:
 		y, ok := b.(map[string]any)
 		if !ok {
-			*out = append(*out, Deviation{Field: path, Recorded: short(a), Now: short(b)})
+			*out = append(*out, pairDeviation(path, a, b))
 			return
 		}
 		keys := map[string]bool{}
@@ -401,7 +424,7 @@ func compareJSON(path string, a, b any, tol float64, out *[]Deviation) {
 	case json.Number:
 		y, ok := b.(json.Number)
 		if !ok {
-			*out = append(*out, Deviation{Field: path, Recorded: short(a), Now: short(b)})
+			*out = append(*out, pairDeviation(path, a, b))
 			return
 		}
 		if x == y {
@@ -414,8 +437,8 @@ func compareJSON(path string, a, b any, tol float64, out *[]Deviation) {
 			*out = append(*out, Deviation{Field: path, Recorded: string(x), Now: string(y)})
 		}
 	default:
-		if fmt.Sprint(a) != fmt.Sprint(b) || (a == nil) != (b == nil) {
-			*out = append(*out, Deviation{Field: path, Recorded: short(a), Now: short(b)})
+		if fmt.Sprintf("%T %v", a, a) != fmt.Sprintf("%T %v", b, b) {
+			*out = append(*out, pairDeviation(path, a, b))
 		}
 	}
 }
@@ -425,20 +448,61 @@ func closeEnough(a, b, tol float64) bool {
 	return d <= tol || d <= tol*math.Max(math.Abs(a), math.Abs(b))
 }
 
-func short(v any) string {
+// maxPairText is the longest recorded or now text a deviation shows.
+const maxPairText = 80
+
+// pairDeviation is the deviation of a differing leaf, with both values as
+// JSON text: in full when short, otherwise cut around the first place
+// they differ, so that the two sides never read the same.
+func pairDeviation(path string, a, b any) Deviation {
+	ra, rb := pairText(jsonText(a), jsonText(b))
+	return Deviation{Field: path, Recorded: ra, Now: rb}
+}
+
+func jsonText(v any) string {
 	if v == nil {
 		return "null"
 	}
 	b, _ := json.Marshal(v)
-	if len(b) > 80 {
-		return string(b[:77]) + "..."
-	}
 	return string(b)
+}
+
+// pairText shortens two different texts to at most about maxPairText
+// bytes each, keeping the first difference in view: "..." marks what was
+// cut, at the start and at the end.
+func pairText(a, b string) (string, string) {
+	if len(a) <= maxPairText && len(b) <= maxPairText {
+		return a, b
+	}
+	i := 0
+	for i < len(a) && i < len(b) && a[i] == b[i] {
+		i++
+	}
+	start := max(0, i-maxPairText/4)
+	for start > 0 && !utf8.RuneStart(a[start]) {
+		start--
+	}
+	cut := func(s string) string {
+		out, pre := s[start:], ""
+		if start > 0 {
+			pre = "..."
+		}
+		if len(out) > maxPairText {
+			end := maxPairText - 3
+			for end > 0 && !utf8.RuneStart(out[end]) {
+				end--
+			}
+			return pre + out[:end] + "..."
+		}
+		return pre + out
+	}
+	return cut(a), cut(b)
 }
 
 func lenText(v any) string {
 	if x, ok := v.([]any); ok {
 		return fmt.Sprintf("%d entries", len(x))
 	}
-	return short(v)
+	s, _ := pairText(jsonText(v), "")
+	return s
 }

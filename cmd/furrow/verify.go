@@ -190,7 +190,7 @@ func writeDeviations(e *env, dir string, devs []checker.Deviation) {
 				where = "-"
 			}
 			line := fmt.Sprintf("%s: %s: %s", d.Code, where, d.Summary)
-			if d.Recorded != "" || d.Now != "" {
+			if d.Recorded != "" && d.Now != "" && d.Recorded != d.Now {
 				line += fmt.Sprintf(" (recorded %s, now %s)", d.Recorded, d.Now)
 			}
 			fmt.Fprintln(e.stdout, line)
