@@ -151,6 +151,7 @@ func Run(opt RunOptions) (*record.Result, error) {
 	for i := range p.Endpoints {
 		r.Endpoints = append(r.Endpoints, eng.RunEndpoint(p, kept, &p.Endpoints[i]))
 	}
+	r.PlanPaths = planPaths(p, r)
 	return r, nil
 }
 

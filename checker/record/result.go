@@ -52,6 +52,15 @@ type Result struct {
 	ExclusionRules []ExclusionRule `json:"exclusion_rules"`
 	// Endpoints holds one entry per declared endpoint, in plan order.
 	Endpoints []EndpointResult `json:"endpoints"`
+	// PlanPaths maps every plan position the record holds (the pos of an
+	// endpoint, step, check, hypothesis, exclusion rule or data warning, a
+	// decision's rule, a hypothesis's answer; "plan.yaml:77:13") to the
+	// plan data path of the value written there
+	// ("endpoints[0].steps[0].checks[0]"). Verify compares positions by
+	// these paths, so that an edit or amendment that only moves lines is
+	// not a difference; the record keeps them because the plan as it was
+	// run is not kept, so its positions could not be re-derived later.
+	PlanPaths map[string]string `json:"plan_paths"`
 	// Integrity is the content hash and optional signature.
 	Integrity Integrity `json:"integrity"`
 }

@@ -134,8 +134,11 @@ func (v *VerifyReport) OK() bool {
 // Verify checks a run directory: the record's integrity hash and signature,
 // the plan against the record and the registration chain, the data file
 // against its hash, and re-runs the analysis to compare every number and
-// decision. The error is for problems that stop the check itself
-// (unreadable record); deviations are in the report.
+// decision. Plan positions (file:line:col) are compared by the plan data
+// path each record's plan_paths gives them, not by their text, so that an
+// edit or amendment that only moves lines is not a results difference.
+// The error is for problems that stop the check itself (an unreadable
+// record, a *MissingInputError); deviations are in the report.
 func Verify(opt VerifyOptions) (*VerifyReport, error) {
 	rep, err := check(opt)
 	if rep != nil {
@@ -250,8 +253,15 @@ func check(opt VerifyOptions) (*VerifyReport, error) {
 	if opt.DataPath != "" {
 		now.Inputs.DataPath = rec.Inputs.DataPath
 	}
-	if now.Inputs.PlanHash != rec.Inputs.PlanHash {
-		add(DevPlanChanged, "inputs.plan_hash", rec.Inputs.PlanHash, now.Inputs.PlanHash, "the plan differs from the one the record was made with")
+	planChanged := now.Inputs.PlanHash != rec.Inputs.PlanHash
+	if planChanged {
+		summary := "the plan differs from the one the record was made with"
+		if rec.Trial.PlanVersion != now.Trial.PlanVersion {
+			summary += fmt.Sprintf(" (version %s recorded, %s now)", rec.Trial.PlanVersion, now.Trial.PlanVersion)
+		} else {
+			summary += fmt.Sprintf(" (both say version %s)", rec.Trial.PlanVersion)
+		}
+		add(DevPlanChanged, "inputs.plan_hash", rec.Inputs.PlanHash, now.Inputs.PlanHash, summary)
 	}
 	declared := map[string]map[string]bool{}
 	for _, ep := range now.Endpoints {
@@ -283,12 +293,16 @@ func check(opt VerifyOptions) (*VerifyReport, error) {
 		return nil, err
 	}
 	am, bm := a.(map[string]any), b.(map[string]any)
-	for _, k := range []string{"run_at", "plan_location", "integrity", "tool", "unregistered"} {
+	// plan_paths is not compared as such: positions are compared through
+	// it (by the plan data path each stands for), so lines that moved in
+	// the plan are not a difference.
+	for _, k := range []string{"run_at", "plan_location", "integrity", "tool", "unregistered", "plan_paths"} {
 		delete(am, k)
 		delete(bm, k)
 	}
 	var diffs []Deviation
-	compareJSON("", am, bm, tol, &diffs)
+	c := comparer{tol: tol, pathsA: rec.PlanPaths, pathsB: now.PlanPaths}
+	c.compare("", am, bm, &diffs)
 	for _, d := range diffs {
 		code := DevResultsDiffer
 		switch {
@@ -296,6 +310,8 @@ func check(opt VerifyOptions) (*VerifyReport, error) {
 			code = DevDataChanged
 		case d.Field == "inputs.plan_hash" || d.Field == "inputs.plan_file_sha256":
 			continue // reported above from the plan itself
+		case planChanged && strings.HasPrefix(d.Field, "trial."):
+			continue // the plan's own identification: part of the plan change above
 		}
 		d.Code = code
 		if d.Summary == "" {
@@ -384,8 +400,30 @@ func decodeNumbers(b []byte, v *any) error {
 }
 
 // compareJSON walks two decoded records and appends one deviation per
-// differing leaf, named by its field path.
+// differing leaf, named by its field path; positions are compared as text.
 func compareJSON(path string, a, b any, tol float64, out *[]Deviation) {
+	(&comparer{tol: tol}).compare(path, a, b, out)
+}
+
+// comparer compares two decoded records: numbers within tol, plan
+// positions by the plan data path their record's plan_paths gives them
+// (pathsA for a, pathsB for b), everything else exactly.
+type comparer struct {
+	tol            float64
+	pathsA, pathsB map[string]string
+}
+
+// samePlace reports whether two different texts are plan positions of
+// the same plan value.
+func (c *comparer) samePlace(a, b string) bool {
+	pa, okA := c.pathsA[a]
+	pb, okB := c.pathsB[b]
+	return okA && okB && pa == pb
+}
+
+// compare appends one deviation per differing leaf of a and b, named by
+// its field path.
+func (c *comparer) compare(path string, a, b any, out *[]Deviation) {
 	switch x := a.(type) {
 	case map[string]any:
 		y, ok := b.(map[string]any)
@@ -410,7 +448,7 @@ func compareJSON(path string, a, b any, tol float64, out *[]Deviation) {
 			if path != "" {
 				p = path + "." + k
 			}
-			compareJSON(p, x[k], y[k], tol, out)
+			c.compare(p, x[k], y[k], out)
 		}
 	case []any:
 		y, ok := b.([]any)
@@ -419,7 +457,7 @@ func compareJSON(path string, a, b any, tol float64, out *[]Deviation) {
 			return
 		}
 		for i := range x {
-			compareJSON(fmt.Sprintf("%s[%d]", path, i), x[i], y[i], tol, out)
+			c.compare(fmt.Sprintf("%s[%d]", path, i), x[i], y[i], out)
 		}
 	case json.Number:
 		y, ok := b.(json.Number)
@@ -433,9 +471,14 @@ func compareJSON(path string, a, b any, tol float64, out *[]Deviation) {
 		fa, e1 := strconv.ParseFloat(string(x), 64)
 		fb, e2 := strconv.ParseFloat(string(y), 64)
 		isInt := !bytes.ContainsAny([]byte(string(x)+string(y)), ".eE")
-		if e1 != nil || e2 != nil || isInt || !closeEnough(fa, fb, tol) {
+		if e1 != nil || e2 != nil || isInt || !closeEnough(fa, fb, c.tol) {
 			*out = append(*out, Deviation{Field: path, Recorded: string(x), Now: string(y)})
 		}
+	case string:
+		if y, ok := b.(string); ok && (x == y || c.samePlace(x, y)) {
+			return
+		}
+		*out = append(*out, pairDeviation(path, a, b))
 	default:
 		if fmt.Sprintf("%T %v", a, a) != fmt.Sprintf("%T %v", b, b) {
 			*out = append(*out, pairDeviation(path, a, b))
