@@ -31,7 +31,8 @@ const (
 	// registration, or the registration chain is broken or postdates the run.
 	DevPlanChanged DeviationCode = "plan-changed-after-registration"
 	// DevAmendmentAfterLock: a registration entry was added after the run
-	// (the data were analysed before the amendment was registered).
+	// (the data were analysed before the amendment was registered), or an
+	// amendment the run was made under is dated after the day of the run.
 	DevAmendmentAfterLock DeviationCode = "amendment-after-data-lock"
 	// DevDataChanged: the data file's hash differs from the recorded one.
 	DevDataChanged DeviationCode = "data-changed"
@@ -385,11 +386,38 @@ func verifyRegistration(planPath string, rec *record.Result, add func(DeviationC
 		add(DevPlanChanged, fmt.Sprintf("registration.entries[%d].registered_at", found), "", "",
 			fmt.Sprintf("the run (%s) is dated before the registration it was checked against (entry %d, version %s, registered %s)", rec.RunAt, e.Seq, e.PlanVersion, e.RegisteredAt))
 	}
-	for k, later := range reg.Entries[found+1:] {
-		if at, ok := regAt(found+1+k, later.RegisteredAt); ok && !at.Before(runAt) {
-			add(DevAmendmentAfterLock, fmt.Sprintf("registration.entries[%d]", found+1+k), "", "",
-				fmt.Sprintf("plan version %s was registered %s, after the data were analysed (%s): %s", later.PlanVersion, later.RegisteredAt, rec.RunAt, later.Reason))
+	// An amendment the run was made under must be dated no later than the
+	// day the data were analysed (amendment dates are calendar days, the
+	// run time is compared as its UTC day).
+	runDay := runAt.UTC().Format(time.DateOnly)
+	for i, en := range reg.Entries[:found+1] {
+		if en.AmendmentDate == "" {
+			continue
 		}
+		if d, err := time.Parse(time.DateOnly, en.AmendmentDate); err != nil {
+			add(DevPlanChanged, fmt.Sprintf("registration.entries[%d].amendment_date", i), "", "",
+				fmt.Sprintf("the amendment date %q of entry %d is not a calendar date written YYYY-MM-DD", en.AmendmentDate, i+1))
+		} else if d.Format(time.DateOnly) > runDay {
+			add(DevAmendmentAfterLock, fmt.Sprintf("registration.entries[%d].amendment_date", i), "", "",
+				fmt.Sprintf("the amendment to version %s is dated %s, after the data were analysed (%s)", en.PlanVersion, en.AmendmentDate, rec.RunAt))
+		}
+	}
+	// Every entry after the one the run was checked against (the head at
+	// run time) was appended after the run, whatever time it gives itself.
+	for k, later := range reg.Entries[found+1:] {
+		at, ok := regAt(found+1+k, later.RegisteredAt)
+		if !ok {
+			continue
+		}
+		field := fmt.Sprintf("registration.entries[%d]", found+1+k)
+		if !at.Before(runAt) {
+			add(DevAmendmentAfterLock, field, "", "",
+				fmt.Sprintf("plan version %s was registered %s, after the data were analysed (%s): %s", later.PlanVersion, later.RegisteredAt, rec.RunAt, later.Reason))
+			continue
+		}
+		add(DevAmendmentAfterLock, field, "", "",
+			fmt.Sprintf("plan version %s was appended to the registration after the entry the run was checked against (entry %d), so after the data were analysed (%s), though it says it was registered %s: %s",
+				later.PlanVersion, e.Seq, rec.RunAt, later.RegisteredAt, later.Reason))
 	}
 }
 

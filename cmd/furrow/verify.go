@@ -31,7 +31,7 @@ deviation with its code and the record field concerned, then the count
 Deviation codes:
   unregistered-run                  the run was made without a matching registration
   plan-changed-after-registration   the plan differs from the record or its registration, or the chain is broken
-  amendment-after-data-lock         an amendment was registered after the data were analysed
+  amendment-after-data-lock         an amendment was registered, or is dated, after the data were analysed
   data-changed                      the data file differs from the one analysed
   record-edited                     the record's content hash or signature does not match
   results-differ                    the re-run gives a different number or decision
