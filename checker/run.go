@@ -86,6 +86,10 @@ type VerifyOptions = verify.VerifyOptions
 // VerifyReport is what Verify found; see [verify.VerifyReport].
 type VerifyReport = verify.VerifyReport
 
+// MissingInputError is Verify's error when the plan or the data are not
+// where the record puts them; see [verify.MissingInputError].
+type MissingInputError = verify.MissingInputError
+
 // Deviation is one difference Verify found; see [verify.Deviation].
 type Deviation = verify.Deviation
 
@@ -102,6 +106,7 @@ const (
 	DevStepNotDeclared    = verify.DevStepNotDeclared
 	DevResultsDiffer      = verify.DevResultsDiffer
 	DevToolVersion        = verify.DevToolVersion
+	DevDataNotDeclared    = verify.DevDataNotDeclared
 )
 
 // Verify re-runs the analysis of a record and compares; see

@@ -22,8 +22,10 @@ type RunOptions struct {
 	PlanPath string
 	// DataPath is the data file; "" means the plan's data.file, relative to the plan.
 	DataPath string
-	// OutDir is the run directory the record will be written to; record
-	// paths are made relative to it. It need not exist yet.
+	// OutDir is the run directory the record will be written to; only
+	// Result.PlanLocation (outside the content hash) is relative to it,
+	// every other path of the record is relative to the plan's folder. It
+	// need not exist yet.
 	OutDir string
 	// Now is the wall-clock time of the run (goes only into Result.RunAt).
 	Now time.Time
@@ -67,7 +69,7 @@ var ErrNotRegistered = errors.New("plan does not match its registration")
 func Run(opt RunOptions) (*record.Result, error) {
 	p, diags, err := plan.Load(opt.PlanPath, method.Default)
 	if err != nil {
-		return nil, fmt.Errorf("reading plan: %w", err)
+		return nil, err // plan.Load's error already says "reading plan"
 	}
 	if diags.HasErrors() {
 		return nil, &PlanError{Diagnostics: diags}
@@ -86,12 +88,16 @@ func Run(opt RunOptions) (*record.Result, error) {
 	if r.Tool.Name == "" {
 		r.Tool.Name = "furrow"
 	}
-	r.Inputs.PlanPath = relSlash(opt.OutDir, opt.PlanPath)
+	// Paths in the (hashed) inputs are relative to the plan's folder; where
+	// the plan is from the run directory is only a hint, outside the hash.
+	planDir := filepath.Dir(opt.PlanPath)
+	r.PlanLocation = relSlash(opt.OutDir, opt.PlanPath)
+	r.Inputs.PlanPath = relSlash(planDir, opt.PlanPath)
 	r.Inputs.PlanFileSHA256 = record.SHA256Hex(planRaw)
 	r.Inputs.PlanHash = record.PlanHash(p)
 
 	// Registration.
-	ref, regErr := registrationRef(opt.PlanPath, opt.OutDir, r.Inputs.PlanHash)
+	ref, regErr := registrationRef(opt.PlanPath, r.Inputs.PlanHash)
 	r.Inputs.Registration = ref
 	if regErr != nil && !opt.Unregistered {
 		return nil, regErr
@@ -127,7 +133,8 @@ func Run(opt RunOptions) (*record.Result, error) {
 	if dataPath == "" {
 		dataPath = filepath.Join(filepath.Dir(opt.PlanPath), filepath.FromSlash(p.Data.File))
 	}
-	r.Inputs.DataPath = relSlash(opt.OutDir, dataPath)
+	r.Inputs.DataPath = relSlash(planDir, dataPath)
+	r.Inputs.DataDeclared = declaredData(planDir, p.Data.File)
 	r.Inputs.DataFileSHA256 = t.FileHash
 	r.Inputs.TableHash = t.ContentHash()
 	r.Inputs.Rows = t.NumRows()
@@ -148,12 +155,13 @@ func Run(opt RunOptions) (*record.Result, error) {
 	for i := range p.Endpoints {
 		r.Endpoints = append(r.Endpoints, eng.RunEndpoint(p, kept, &p.Endpoints[i]))
 	}
+	r.PlanPaths = planPaths(p, r)
 	return r, nil
 }
 
 // registrationRef reads the plan's registration record, if any, and
 // returns its summary; the error says why the plan is not registered as is.
-func registrationRef(planPath, outDir, hash string) (*record.RegistrationRef, error) {
+func registrationRef(planPath, hash string) (*record.RegistrationRef, error) {
 	rp := record.RegistrationPath(planPath)
 	reg, raw, err := record.ReadRegistration(rp)
 	if err != nil {
@@ -162,7 +170,7 @@ func registrationRef(planPath, outDir, hash string) (*record.RegistrationRef, er
 		}
 		return nil, fmt.Errorf("%w: %v", ErrNotRegistered, err)
 	}
-	ref := &record.RegistrationRef{Path: relSlash(outDir, rp), FileSHA256: record.SHA256Hex(raw), Chain: []record.ChainLink{}}
+	ref := &record.RegistrationRef{Path: relSlash(filepath.Dir(planPath), rp), FileSHA256: record.SHA256Hex(raw), Chain: []record.ChainLink{}}
 	for _, e := range reg.Entries {
 		ref.Chain = append(ref.Chain, record.ChainLink{Seq: e.Seq, PlanVersion: e.PlanVersion, PlanHash: e.PlanHash,
 			RegisteredAt: e.RegisteredAt, Reason: e.Reason, Previous: e.Previous, EntryHash: e.EntryHash})
@@ -177,6 +185,20 @@ func registrationRef(planPath, outDir, hash string) (*record.RegistrationRef, er
 		return ref, fmt.Errorf("%w: the plan differs from registered version %s (entry %d); register an amendment or ask for an unregistered run", ErrNotRegistered, head.PlanVersion, head.Seq)
 	}
 	return ref, nil
+}
+
+// declaredData returns the plan's data.file as a slash path relative to the
+// plan's folder, cleaned like the path of the file analysed so that the
+// two compare as strings ("" when the plan names none).
+func declaredData(planDir, file string) string {
+	if file == "" {
+		return ""
+	}
+	f := filepath.FromSlash(file)
+	if !filepath.IsAbs(f) {
+		f = filepath.Join(planDir, f)
+	}
+	return relSlash(planDir, f)
 }
 
 // relSlash returns path relative to base as a slash path (path itself,

@@ -2,6 +2,7 @@ package method
 
 import (
 	"encoding/json"
+	"flag"
 	"slices"
 	"strings"
 	"testing"
@@ -9,6 +10,10 @@ import (
 	"furrow/plan"
 	"furrow/schema"
 )
+
+// update is accepted, and ignored, so that go test ./checker/... -args
+// -update also runs this package's tests: it has no golden files.
+var _ = flag.Bool("update", false, "ignored: this package has no golden files")
 
 // schemaEnum returns the enum of a property of a definition in the plan
 // schema, in schema order.

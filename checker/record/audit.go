@@ -58,8 +58,11 @@ func Seal(r *Result, key ed25519.PrivateKey) error {
 //
 //  1. Parse the file as one JSON object. Numbers are kept as the exact
 //     token text found in the file (no conversion to binary floating point).
-//  2. Remove the top-level members "run_at" (the wall-clock time) and
-//     "integrity" (the hash and signature themselves).
+//  2. Remove the top-level members "run_at" (the wall-clock time),
+//     "plan_location" (where the plan was, relative to the run directory:
+//     a hint for finding it, which would otherwise make the hash depend on
+//     where the run directory and the plan are) and "integrity" (the hash
+//     and signature themselves).
 //  3. Serialise the rest with no whitespace at all: object members sorted
 //     by key in byte order, array order kept, number tokens written
 //     verbatim, literals as true, false, null, and strings escaped as Go's
@@ -86,7 +89,7 @@ func ContentHash(record []byte) (string, error) {
 	}
 	content := make(map[string]any, len(obj))
 	for k, v := range obj {
-		if k == "run_at" || k == "integrity" {
+		if k == "run_at" || k == "plan_location" || k == "integrity" {
 			continue
 		}
 		content[k] = v

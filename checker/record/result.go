@@ -22,9 +22,17 @@ type Result struct {
 	// Tool identifies the program that produced the record.
 	Tool ToolInfo `json:"tool"`
 	// RunAt is the wall-clock time of the run (RFC 3339, UTC). It is the only
-	// field that differs between two runs of the same plan on the same data;
-	// it is left out of the content hash and verify does not compare it.
+	// field that differs between two runs of the same plan on the same data
+	// (with PlanLocation when the run directory is elsewhere); it is left
+	// out of the content hash and verify does not compare it.
 	RunAt string `json:"run_at"`
+	// PlanLocation is where the plan file was, as a slash path relative to
+	// the run directory, when the run was made. It is only a hint: verify
+	// looks for the plan there unless told where it is (--plan), and every
+	// other path of the record is relative to the plan's folder. It is left
+	// out of the content hash, so that the hash does not depend on where the
+	// run directory and the plan are, and verify does not compare it.
+	PlanLocation string `json:"plan_location"`
 	// Unregistered is true when the run was asked for without a matching
 	// registration record. Every rendering of the record must show it.
 	Unregistered bool `json:"unregistered"`
@@ -47,6 +55,15 @@ type Result struct {
 	ExclusionRules []ExclusionRule `json:"exclusion_rules"`
 	// Endpoints holds one entry per declared endpoint, in plan order.
 	Endpoints []EndpointResult `json:"endpoints"`
+	// PlanPaths maps every plan position the record holds (the pos of an
+	// endpoint, step, check, hypothesis, exclusion rule or data warning, a
+	// decision's rule, a hypothesis's answer; "plan.yaml:77:13") to the
+	// plan data path of the value written there
+	// ("endpoints[0].steps[0].checks[0]"). Verify compares positions by
+	// these paths, so that an edit or amendment that only moves lines is
+	// not a difference; the record keeps them because the plan as it was
+	// run is not kept, so its positions could not be re-derived later.
+	PlanPaths map[string]string `json:"plan_paths"`
 	// Integrity is the content hash and optional signature.
 	Integrity Integrity `json:"integrity"`
 }
@@ -72,8 +89,10 @@ type TrialInfo struct {
 
 // Inputs fingerprints everything the run read.
 type Inputs struct {
-	// PlanPath is the plan file, as a slash path relative to the run
-	// directory (so that the record can be moved together with its inputs).
+	// PlanPath is the plan file's name. Every path in Inputs is a slash
+	// path relative to the plan's folder, so that the content hash does not
+	// depend on where the plan or the run directory is (see
+	// Result.PlanLocation for where the plan was).
 	PlanPath string `json:"plan_path"`
 	// PlanFileSHA256 is "sha256:<hex>" of the plan file's bytes.
 	PlanFileSHA256 string `json:"plan_file_sha256"`
@@ -83,8 +102,12 @@ type Inputs struct {
 	// Registration is the registration record the run was checked against;
 	// nil for an unregistered run without any record.
 	Registration *RegistrationRef `json:"registration"`
-	// DataPath is the data file, as a slash path relative to the run directory.
+	// DataPath is the data file analysed, relative to the plan's folder.
 	DataPath string `json:"data_path"`
+	// DataDeclared is the plan's data.file, relative to the plan's folder
+	// and cleaned the same way: DataPath differs from it when the run was
+	// given another data file (see DataAsDeclared).
+	DataDeclared string `json:"data_declared"`
 	// DataFileSHA256 is "sha256:<hex>" of the data file's bytes.
 	DataFileSHA256 string `json:"data_file_sha256"`
 	// TableHash is "sha256:<hex>" of the table as read (see TableHash).
@@ -97,9 +120,13 @@ type Inputs struct {
 	RowsAnalysed int `json:"rows_analysed"`
 }
 
+// DataAsDeclared reports whether the file analysed is the plan's
+// data.file (both paths are cleaned and relative to the plan's folder).
+func (in *Inputs) DataAsDeclared() bool { return in.DataPath == in.DataDeclared }
+
 // RegistrationRef points at the registration record of the plan.
 type RegistrationRef struct {
-	// Path is the registration record, a slash path relative to the run directory.
+	// Path is the registration record, relative to the plan's folder.
 	Path string `json:"path"`
 	// FileSHA256 is "sha256:<hex>" of the record file's bytes.
 	FileSHA256 string `json:"file_sha256"`

@@ -450,7 +450,7 @@ func (rep *Report) Markdown() []byte {
 	w("| Item | Value |\n| --- | --- |\n")
 	w("| Trial | %s |\n| Plan version | %s |\n| Plan hash | `%s` |\n", mdCell(r.Trial.ID), mdCell(r.Trial.PlanVersion), r.Inputs.PlanHash)
 	w("| Registered | %s |\n", registeredText(r))
-	w("| Data | %s (`%s`) |\n", mdCode(r.Inputs.DataPath), r.Inputs.DataFileSHA256)
+	w("| Data | %s (`%s`)%s |\n", mdCode(r.Inputs.DataPath), r.Inputs.DataFileSHA256, otherDataText(r))
 	w("| Rows read / analysed | %d / %d |\n", r.Inputs.Rows, r.Inputs.RowsAnalysed)
 	w("| Tool | %s %s |\n\n", r.Tool.Name, r.Tool.Version)
 	for _, v := range rep.Verdicts {
@@ -615,6 +615,16 @@ func writeMDTables(b *bytes.Buffer, d *record.StepDetail) {
 		}
 		w("\n")
 	}
+}
+
+// otherDataText is the note the verdict gives when the run analysed a
+// file other than the plan's data.file ("" when it did not); quote
+// surrounds the declared path.
+func otherDataText(r *record.Result) string {
+	if r.Inputs.DataAsDeclared() {
+		return ""
+	}
+	return ", not the plan's data.file " + mdCode(r.Inputs.DataDeclared)
 }
 
 func registeredText(r *record.Result) string {

@@ -4,13 +4,17 @@ import (
 	"bytes"
 	"crypto/ed25519"
 	"encoding/json"
+	"errors"
 	"fmt"
+	"io/fs"
 	"math"
 	"os"
 	"path/filepath"
 	"sort"
 	"strconv"
+	"strings"
 	"time"
+	"unicode/utf8"
 
 	"furrow/checker/engine"
 	"furrow/checker/record"
@@ -27,7 +31,8 @@ const (
 	// registration, or the registration chain is broken or postdates the run.
 	DevPlanChanged DeviationCode = "plan-changed-after-registration"
 	// DevAmendmentAfterLock: a registration entry was added after the run
-	// (the data were analysed before the amendment was registered).
+	// (the data were analysed before the amendment was registered), or an
+	// amendment the run was made under is dated after the day of the run.
 	DevAmendmentAfterLock DeviationCode = "amendment-after-data-lock"
 	// DevDataChanged: the data file's hash differs from the recorded one.
 	DevDataChanged DeviationCode = "data-changed"
@@ -39,10 +44,15 @@ const (
 	DevStepNotDeclared DeviationCode = "step-not-declared"
 	// DevToolVersion: the record was made by another tool version (informational).
 	DevToolVersion DeviationCode = "tool-version-differs"
+	// DevDataNotDeclared: the run analysed a data file other than the
+	// plan's data.file. Informational: a plan declares no data hash that
+	// could hold another file to the registered data, so what was
+	// analysed is only shown (its hash is still checked, see DevDataChanged).
+	DevDataNotDeclared DeviationCode = "data-file-not-declared"
 )
 
 // Informational reports whether the code does not by itself fail verification.
-func (c DeviationCode) Informational() bool { return c == DevToolVersion }
+func (c DeviationCode) Informational() bool { return c == DevToolVersion || c == DevDataNotDeclared }
 
 // Deviation is one finding of Verify.
 type Deviation struct {
@@ -70,6 +80,37 @@ type VerifyOptions struct {
 	RelTol float64
 }
 
+// MissingInputError is returned by Verify when the plan or the data file
+// is not where the record puts them (plan_location from the run
+// directory, inputs.data_path from the plan's folder) or where the options
+// say: typically a run directory moved without its inputs. Nothing is
+// compared then; VerifyOptions.PlanPath and DataPath point Verify at them.
+type MissingInputError struct {
+	// Dir is the run directory.
+	Dir string
+	// Plan and Data are the paths looked at and not found; "" for one
+	// that was found or not looked for.
+	Plan, Data string
+	// DataUnknown is true when the data could not be looked for: they are
+	// found from the plan's folder, and the plan was not found.
+	DataUnknown bool
+}
+
+// Error names what is missing and the options that point at it.
+func (e *MissingInputError) Error() string {
+	var miss, opts []string
+	if e.Plan != "" {
+		miss, opts = append(miss, "no plan at "+e.Plan), append(opts, "PlanPath")
+	}
+	if e.Data != "" {
+		miss = append(miss, "no data at "+e.Data)
+	}
+	if e.Data != "" || e.DataUnknown {
+		opts = append(opts, "DataPath")
+	}
+	return fmt.Sprintf("%s: %s (give %s)", e.Dir, strings.Join(miss, ", "), strings.Join(opts, " and "))
+}
+
 // DefaultRelTol is the tolerance verify uses for floating-point numbers:
 // |a-b| <= RelTol*max(|a|,|b|) or |a-b| <= RelTol (absolute, near zero).
 // Integers, strings, decisions and counts are compared exactly.
@@ -94,9 +135,21 @@ func (v *VerifyReport) OK() bool {
 // Verify checks a run directory: the record's integrity hash and signature,
 // the plan against the record and the registration chain, the data file
 // against its hash, and re-runs the analysis to compare every number and
-// decision. The error is for problems that stop the check itself
-// (unreadable record); deviations are in the report.
+// decision. Plan positions (file:line:col) are compared by the plan data
+// path each record's plan_paths gives them, not by their text, so that an
+// edit or amendment that only moves lines is not a results difference.
+// The error is for problems that stop the check itself (an unreadable
+// record, a *MissingInputError); deviations are in the report.
 func Verify(opt VerifyOptions) (*VerifyReport, error) {
+	rep, err := check(opt)
+	if rep != nil {
+		plainPairs(rep)
+	}
+	return rep, err
+}
+
+// check is Verify before the deviations' pairs are made plain.
+func check(opt VerifyOptions) (*VerifyReport, error) {
 	recPath := opt.Dir
 	dir := opt.Dir
 	if st, err := os.Stat(recPath); err == nil && st.IsDir() {
@@ -137,28 +190,50 @@ func Verify(opt VerifyOptions) (*VerifyReport, error) {
 		add(DevRecordEdited, "integrity.signature", "", "", "the record is not signed, but a public key was given")
 	}
 	if rec.Unregistered {
-		add(DevUnregisteredRun, "unregistered", "true", "", "the run was made without a matching registration")
+		add(DevUnregisteredRun, "unregistered", "", "", "the run was made without a matching registration")
+	}
+	if !rec.Inputs.DataAsDeclared() {
+		add(DevDataNotDeclared, "inputs.data_path", "", "", fmt.Sprintf("the analysis ran on %s, not on the plan's data.file %s (informational: no data hash is registered to hold another file to)",
+			rec.Inputs.DataPath, rec.Inputs.DataDeclared))
 	}
 	if rec.Tool.Version != opt.Tool.Version {
 		add(DevToolVersion, "tool.version", rec.Tool.Version, opt.Tool.Version, "the record was written by another furrow version")
 	}
 	// 2. Plan and data files.
+	// The plan is where the record says it was seen from the run directory
+	// (plan_location, a hint outside the content hash); the data and the
+	// registration are relative to the plan's folder, as recorded.
 	planPath := opt.PlanPath
 	if planPath == "" {
-		planPath = filepath.Join(dir, filepath.FromSlash(rec.Inputs.PlanPath))
+		planPath = filepath.Join(dir, filepath.FromSlash(rec.PlanLocation))
 	}
 	dataPath := opt.DataPath
 	if dataPath == "" {
-		dataPath = filepath.Join(dir, filepath.FromSlash(rec.Inputs.DataPath))
+		dataPath = filepath.Join(filepath.Dir(planPath), filepath.FromSlash(rec.Inputs.DataPath))
 	}
-	if b, err := os.ReadFile(dataPath); err != nil {
-		add(DevDataChanged, "inputs.data_path", rec.Inputs.DataPath, "", "the data file cannot be read: "+err.Error())
-	} else if got := record.SHA256Hex(b); got != rec.Inputs.DataFileSHA256 {
+	// A missing plan or data file is not evidence of a change: it stops
+	// the check, and the error says how to point verify at them.
+	missing := &MissingInputError{Dir: filepath.ToSlash(dir)}
+	if _, err := os.Stat(planPath); errors.Is(err, fs.ErrNotExist) {
+		missing.Plan = filepath.ToSlash(filepath.Clean(planPath))
+		if opt.DataPath == "" {
+			missing.DataUnknown = true
+		} else if _, err := os.Stat(dataPath); errors.Is(err, fs.ErrNotExist) {
+			missing.Data = filepath.ToSlash(filepath.Clean(dataPath))
+		}
+		return nil, missing
+	} else if err != nil {
+		return nil, fmt.Errorf("reading plan: %w", err)
+	}
+	dataRaw, err := os.ReadFile(dataPath)
+	if errors.Is(err, fs.ErrNotExist) {
+		missing.Data = filepath.ToSlash(filepath.Clean(dataPath))
+		return nil, missing
+	} else if err != nil {
+		return nil, fmt.Errorf("reading data: %w", err)
+	}
+	if got := record.SHA256Hex(dataRaw); got != rec.Inputs.DataFileSHA256 {
 		add(DevDataChanged, "inputs.data_file_sha256", rec.Inputs.DataFileSHA256, got, "the data file differs from the one analysed")
-	}
-	if _, err := os.Stat(planPath); err != nil {
-		add(DevPlanChanged, "inputs.plan_path", rec.Inputs.PlanPath, "", "the plan file cannot be read: "+err.Error())
-		return rep, nil
 	}
 	// 3. Registration chain (read fresh, next to the plan).
 	if !rec.Unregistered {
@@ -179,8 +254,15 @@ func Verify(opt VerifyOptions) (*VerifyReport, error) {
 	if opt.DataPath != "" {
 		now.Inputs.DataPath = rec.Inputs.DataPath
 	}
-	if now.Inputs.PlanHash != rec.Inputs.PlanHash {
-		add(DevPlanChanged, "inputs.plan_hash", rec.Inputs.PlanHash, now.Inputs.PlanHash, "the plan differs from the one the record was made with")
+	planChanged := now.Inputs.PlanHash != rec.Inputs.PlanHash
+	if planChanged {
+		summary := "the plan differs from the one the record was made with"
+		if rec.Trial.PlanVersion != now.Trial.PlanVersion {
+			summary += fmt.Sprintf(" (version %s recorded, %s now)", rec.Trial.PlanVersion, now.Trial.PlanVersion)
+		} else {
+			summary += fmt.Sprintf(" (both say version %s)", rec.Trial.PlanVersion)
+		}
+		add(DevPlanChanged, "inputs.plan_hash", rec.Inputs.PlanHash, now.Inputs.PlanHash, summary)
 	}
 	declared := map[string]map[string]bool{}
 	for _, ep := range now.Endpoints {
@@ -192,7 +274,7 @@ func Verify(opt VerifyOptions) (*VerifyReport, error) {
 	for i, ep := range rec.Endpoints {
 		for j, s := range ep.Steps {
 			if !declared[ep.ID][s.ID] {
-				add(DevStepNotDeclared, fmt.Sprintf("endpoints[%d].steps[%d].id", i, j), s.ID, "", fmt.Sprintf("step %s of endpoint %s is not declared in the plan", s.ID, ep.ID))
+				add(DevStepNotDeclared, fmt.Sprintf("endpoints[%d].steps[%d].id", i, j), "", "", fmt.Sprintf("step %s of endpoint %s is not declared in the plan", s.ID, ep.ID))
 			}
 		}
 	}
@@ -212,12 +294,16 @@ func Verify(opt VerifyOptions) (*VerifyReport, error) {
 		return nil, err
 	}
 	am, bm := a.(map[string]any), b.(map[string]any)
-	for _, k := range []string{"run_at", "integrity", "tool", "unregistered"} {
+	// plan_paths is not compared as such: positions are compared through
+	// it (by the plan data path each stands for), so lines that moved in
+	// the plan are not a difference.
+	for _, k := range []string{"run_at", "plan_location", "integrity", "tool", "unregistered", "plan_paths"} {
 		delete(am, k)
 		delete(bm, k)
 	}
 	var diffs []Deviation
-	compareJSON("", am, bm, tol, &diffs)
+	c := comparer{tol: tol, pathsA: rec.PlanPaths, pathsB: now.PlanPaths}
+	c.compare("", am, bm, &diffs)
 	for _, d := range diffs {
 		code := DevResultsDiffer
 		switch {
@@ -225,6 +311,8 @@ func Verify(opt VerifyOptions) (*VerifyReport, error) {
 			code = DevDataChanged
 		case d.Field == "inputs.plan_hash" || d.Field == "inputs.plan_file_sha256":
 			continue // reported above from the plan itself
+		case planChanged && strings.HasPrefix(d.Field, "trial."):
+			continue // the plan's own identification: part of the plan change above
 		}
 		d.Code = code
 		if d.Summary == "" {
@@ -233,6 +321,18 @@ func Verify(opt VerifyOptions) (*VerifyReport, error) {
 		rep.Deviations = append(rep.Deviations, d)
 	}
 	return rep, nil
+}
+
+// plainPairs keeps a deviation's recorded / now pair only when it says
+// something: both sides present and different. Every deviation's summary
+// says what differs on its own, so nothing is lost.
+func plainPairs(rep *VerifyReport) {
+	for i := range rep.Deviations {
+		d := &rep.Deviations[i]
+		if d.Recorded == "" || d.Now == "" || d.Recorded == d.Now {
+			d.Recorded, d.Now = "", ""
+		}
+	}
 }
 
 // verifyRegistration checks the plan's registration record against the
@@ -260,36 +360,64 @@ func verifyRegistration(planPath string, rec *record.Result, add func(DeviationC
 		}
 	}
 	if found < 0 {
-		add(DevPlanChanged, "inputs.registration.head", ref.Head, "", "the registration entry the run was checked against is no longer in the registration record (history rewritten)")
+		add(DevPlanChanged, "inputs.registration.head", "", "", fmt.Sprintf("the registration entry the run was checked against (%s) is no longer in the registration record (history rewritten)", ref.Head))
 		return
 	}
 	e := reg.Entries[found]
 	if e.PlanHash != rec.Inputs.PlanHash {
-		add(DevPlanChanged, "inputs.plan_hash", rec.Inputs.PlanHash, e.PlanHash, "the plan that was run is not the registered one")
+		add(DevPlanChanged, "inputs.plan_hash", "", "", fmt.Sprintf("the plan that was run (%s) is not the one registered in entry %d, version %s (%s)", rec.Inputs.PlanHash, e.Seq, e.PlanVersion, e.PlanHash))
 	}
 	// Times are compared as instants, not as strings: run_at is outside
 	// the content hash, so an unsigned record's run_at may hold anything.
 	runAt, err := time.Parse(time.RFC3339, rec.RunAt)
 	if err != nil {
-		add(DevRecordEdited, "run_at", rec.RunAt, "", "the run time is not an RFC 3339 time, so it cannot be compared with the registration")
+		add(DevRecordEdited, "run_at", "", "", fmt.Sprintf("the run time %q is not an RFC 3339 time, so it cannot be compared with the registration", rec.RunAt))
 		return
 	}
 	regAt := func(i int, s string) (time.Time, bool) {
 		t, err := time.Parse(time.RFC3339, s)
 		if err != nil {
-			add(DevPlanChanged, fmt.Sprintf("registration.entries[%d].registered_at", i), s, "", "the registration time is not an RFC 3339 time")
+			add(DevPlanChanged, fmt.Sprintf("registration.entries[%d].registered_at", i), "", "", fmt.Sprintf("the registration time %q of entry %d is not an RFC 3339 time", s, i+1))
 			return time.Time{}, false
 		}
 		return t, true
 	}
 	if at, ok := regAt(found, e.RegisteredAt); ok && at.After(runAt) {
-		add(DevPlanChanged, "inputs.registration.chain", e.RegisteredAt, rec.RunAt, "the registration is dated after the run")
+		add(DevPlanChanged, fmt.Sprintf("registration.entries[%d].registered_at", found), "", "",
+			fmt.Sprintf("the run (%s) is dated before the registration it was checked against (entry %d, version %s, registered %s)", rec.RunAt, e.Seq, e.PlanVersion, e.RegisteredAt))
 	}
-	for k, later := range reg.Entries[found+1:] {
-		if at, ok := regAt(found+1+k, later.RegisteredAt); ok && !at.Before(runAt) {
-			add(DevAmendmentAfterLock, fmt.Sprintf("registration.entries[%d]", later.Seq-1), rec.RunAt, later.RegisteredAt,
-				fmt.Sprintf("plan version %s was registered after the data were analysed (%s)", later.PlanVersion, later.Reason))
+	// An amendment the run was made under must be dated no later than the
+	// day the data were analysed (amendment dates are calendar days, the
+	// run time is compared as its UTC day).
+	runDay := runAt.UTC().Format(time.DateOnly)
+	for i, en := range reg.Entries[:found+1] {
+		if en.AmendmentDate == "" {
+			continue
 		}
+		if d, err := time.Parse(time.DateOnly, en.AmendmentDate); err != nil {
+			add(DevPlanChanged, fmt.Sprintf("registration.entries[%d].amendment_date", i), "", "",
+				fmt.Sprintf("the amendment date %q of entry %d is not a calendar date written YYYY-MM-DD", en.AmendmentDate, i+1))
+		} else if d.Format(time.DateOnly) > runDay {
+			add(DevAmendmentAfterLock, fmt.Sprintf("registration.entries[%d].amendment_date", i), "", "",
+				fmt.Sprintf("the amendment to version %s is dated %s, after the data were analysed (%s)", en.PlanVersion, en.AmendmentDate, rec.RunAt))
+		}
+	}
+	// Every entry after the one the run was checked against (the head at
+	// run time) was appended after the run, whatever time it gives itself.
+	for k, later := range reg.Entries[found+1:] {
+		at, ok := regAt(found+1+k, later.RegisteredAt)
+		if !ok {
+			continue
+		}
+		field := fmt.Sprintf("registration.entries[%d]", found+1+k)
+		if !at.Before(runAt) {
+			add(DevAmendmentAfterLock, field, "", "",
+				fmt.Sprintf("plan version %s was registered %s, after the data were analysed (%s): %s", later.PlanVersion, later.RegisteredAt, rec.RunAt, later.Reason))
+			continue
+		}
+		add(DevAmendmentAfterLock, field, "", "",
+			fmt.Sprintf("plan version %s was appended to the registration after the entry the run was checked against (entry %d), so after the data were analysed (%s), though it says it was registered %s: %s",
+				later.PlanVersion, e.Seq, rec.RunAt, later.RegisteredAt, later.Reason))
 	}
 }
 
@@ -300,13 +428,35 @@ func decodeNumbers(b []byte, v *any) error {
 }
 
 // compareJSON walks two decoded records and appends one deviation per
-// differing leaf, named by its field path.
+// differing leaf, named by its field path; positions are compared as text.
 func compareJSON(path string, a, b any, tol float64, out *[]Deviation) {
+	(&comparer{tol: tol}).compare(path, a, b, out)
+}
+
+// comparer compares two decoded records: numbers within tol, plan
+// positions by the plan data path their record's plan_paths gives them
+// (pathsA for a, pathsB for b), everything else exactly.
+type comparer struct {
+	tol            float64
+	pathsA, pathsB map[string]string
+}
+
+// samePlace reports whether two different texts are plan positions of
+// the same plan value.
+func (c *comparer) samePlace(a, b string) bool {
+	pa, okA := c.pathsA[a]
+	pb, okB := c.pathsB[b]
+	return okA && okB && pa == pb
+}
+
+// compare appends one deviation per differing leaf of a and b, named by
+// its field path.
+func (c *comparer) compare(path string, a, b any, out *[]Deviation) {
 	switch x := a.(type) {
 	case map[string]any:
 		y, ok := b.(map[string]any)
 		if !ok {
-			*out = append(*out, Deviation{Field: path, Recorded: short(a), Now: short(b)})
+			*out = append(*out, pairDeviation(path, a, b))
 			return
 		}
 		keys := map[string]bool{}
@@ -326,7 +476,7 @@ func compareJSON(path string, a, b any, tol float64, out *[]Deviation) {
 			if path != "" {
 				p = path + "." + k
 			}
-			compareJSON(p, x[k], y[k], tol, out)
+			c.compare(p, x[k], y[k], out)
 		}
 	case []any:
 		y, ok := b.([]any)
@@ -335,12 +485,12 @@ func compareJSON(path string, a, b any, tol float64, out *[]Deviation) {
 			return
 		}
 		for i := range x {
-			compareJSON(fmt.Sprintf("%s[%d]", path, i), x[i], y[i], tol, out)
+			c.compare(fmt.Sprintf("%s[%d]", path, i), x[i], y[i], out)
 		}
 	case json.Number:
 		y, ok := b.(json.Number)
 		if !ok {
-			*out = append(*out, Deviation{Field: path, Recorded: short(a), Now: short(b)})
+			*out = append(*out, pairDeviation(path, a, b))
 			return
 		}
 		if x == y {
@@ -349,12 +499,17 @@ func compareJSON(path string, a, b any, tol float64, out *[]Deviation) {
 		fa, e1 := strconv.ParseFloat(string(x), 64)
 		fb, e2 := strconv.ParseFloat(string(y), 64)
 		isInt := !bytes.ContainsAny([]byte(string(x)+string(y)), ".eE")
-		if e1 != nil || e2 != nil || isInt || !closeEnough(fa, fb, tol) {
+		if e1 != nil || e2 != nil || isInt || !closeEnough(fa, fb, c.tol) {
 			*out = append(*out, Deviation{Field: path, Recorded: string(x), Now: string(y)})
 		}
+	case string:
+		if y, ok := b.(string); ok && (x == y || c.samePlace(x, y)) {
+			return
+		}
+		*out = append(*out, pairDeviation(path, a, b))
 	default:
-		if fmt.Sprint(a) != fmt.Sprint(b) || (a == nil) != (b == nil) {
-			*out = append(*out, Deviation{Field: path, Recorded: short(a), Now: short(b)})
+		if fmt.Sprintf("%T %v", a, a) != fmt.Sprintf("%T %v", b, b) {
+			*out = append(*out, pairDeviation(path, a, b))
 		}
 	}
 }
@@ -364,20 +519,61 @@ func closeEnough(a, b, tol float64) bool {
 	return d <= tol || d <= tol*math.Max(math.Abs(a), math.Abs(b))
 }
 
-func short(v any) string {
+// maxPairText is the longest recorded or now text a deviation shows.
+const maxPairText = 80
+
+// pairDeviation is the deviation of a differing leaf, with both values as
+// JSON text: in full when short, otherwise cut around the first place
+// they differ, so that the two sides never read the same.
+func pairDeviation(path string, a, b any) Deviation {
+	ra, rb := pairText(jsonText(a), jsonText(b))
+	return Deviation{Field: path, Recorded: ra, Now: rb}
+}
+
+func jsonText(v any) string {
 	if v == nil {
 		return "null"
 	}
 	b, _ := json.Marshal(v)
-	if len(b) > 80 {
-		return string(b[:77]) + "..."
-	}
 	return string(b)
+}
+
+// pairText shortens two different texts to at most about maxPairText
+// bytes each, keeping the first difference in view: "..." marks what was
+// cut, at the start and at the end.
+func pairText(a, b string) (string, string) {
+	if len(a) <= maxPairText && len(b) <= maxPairText {
+		return a, b
+	}
+	i := 0
+	for i < len(a) && i < len(b) && a[i] == b[i] {
+		i++
+	}
+	start := max(0, i-maxPairText/4)
+	for start > 0 && !utf8.RuneStart(a[start]) {
+		start--
+	}
+	cut := func(s string) string {
+		out, pre := s[start:], ""
+		if start > 0 {
+			pre = "..."
+		}
+		if len(out) > maxPairText {
+			end := maxPairText - 3
+			for end > 0 && !utf8.RuneStart(out[end]) {
+				end--
+			}
+			return pre + out[:end] + "..."
+		}
+		return pre + out
+	}
+	return cut(a), cut(b)
 }
 
 func lenText(v any) string {
 	if x, ok := v.([]any); ok {
 		return fmt.Sprintf("%d entries", len(x))
 	}
-	return short(v)
+	s, _ := pairText(jsonText(v), "")
+	return s
 }

@@ -291,3 +291,74 @@ func TestRankRecordVerifies(t *testing.T) {
 		t.Fatalf("deviations: %+v", rep.Deviations)
 	}
 }
+
+// plainPair fails the test for a deviation whose recorded / now pair is
+// empty on one side or the same on both, or that has no summary.
+func plainPair(t *testing.T, where string, devs []Deviation) {
+	t.Helper()
+	for _, d := range devs {
+		if d.Summary == "" {
+			t.Errorf("%s: %s %s: no summary", where, d.Code, d.Field)
+		}
+		if (d.Recorded == "") != (d.Now == "") || (d.Recorded != "" && d.Recorded == d.Now) {
+			t.Errorf("%s: %s %s: recorded %q, now %q", where, d.Code, d.Field, d.Recorded, d.Now)
+		}
+	}
+}
+
+// Long values that differ only late still read differently.
+func TestPairTextShowsTheDifference(t *testing.T) {
+	prefix := strings.Repeat("the plan moves on to the next step; ", 4)
+	var devs []Deviation
+	compareJSON("", map[string]any{"detail": prefix + "p = 0.01"}, map[string]any{"detail": prefix + "p = 0.02"}, DefaultRelTol, &devs)
+	if len(devs) != 1 {
+		t.Fatalf("want one deviation, got %+v", devs)
+	}
+	d := devs[0]
+	if d.Recorded == d.Now || !strings.Contains(d.Recorded, "0.01") || !strings.Contains(d.Now, "0.02") || len(d.Recorded) > maxPairText+6 {
+		t.Errorf("recorded %q, now %q", d.Recorded, d.Now)
+	}
+	// A string and a number with the same text differ.
+	devs = nil
+	compareJSON("", map[string]any{"n": "8"}, map[string]any{"n": json.Number("8")}, DefaultRelTol, &devs)
+	if len(devs) != 1 || devs[0].Recorded == devs[0].Now {
+		t.Errorf("string versus number: %+v", devs)
+	}
+}
+
+// No deviation Verify reports has an empty or an identical recorded / now pair.
+func TestDeviationPairsArePlain(t *testing.T) {
+	pp := writeCascade(t, "0.99999", "1e-12", "1e-12")
+	dir := filepath.Dir(pp)
+	// An unregistered run.
+	r, err := engine.Run(engine.RunOptions{PlanPath: pp, OutDir: filepath.Join(dir, "unreg"), Now: t0, Unregistered: true, Tool: record.ToolInfo{Version: "test"}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	os.MkdirAll(filepath.Join(dir, "unreg"), 0o755)
+	if err := record.WriteRecord(filepath.Join(dir, "unreg"), r, nil); err != nil {
+		t.Fatal(err)
+	}
+	rep, m := verifyCodes(t, VerifyOptions{Dir: filepath.Join(dir, "unreg"), Tool: record.ToolInfo{Version: "other"}})
+	if m[DevUnregisteredRun] == nil || m[DevToolVersion] == nil {
+		t.Fatalf("unregistered: %v", m)
+	}
+	plainPair(t, "unregistered", rep.Deviations)
+
+	// A run dated before its registration, then an edited record with a
+	// step the plan does not declare.
+	register(t, pp, t0.Add(time.Hour))
+	out := filepath.Join(dir, "out")
+	orig := writeRun(t, pp, out, t0, nil)
+	rep, m = verifyCodes(t, VerifyOptions{Dir: out, Tool: record.ToolInfo{Version: "test"}})
+	if m[DevPlanChanged] == nil {
+		t.Fatalf("run before registration: %v", m)
+	}
+	plainPair(t, "run before registration", rep.Deviations)
+	write(t, filepath.Join(out, record.AuditFileName), strings.Replace(string(orig), `"id": "second"`, `"id": "extra"`, 1))
+	rep, m = verifyCodes(t, VerifyOptions{Dir: out, Tool: record.ToolInfo{Version: "test"}})
+	if m[DevStepNotDeclared] == nil || m[DevRecordEdited] == nil {
+		t.Fatalf("undeclared step: %v", m)
+	}
+	plainPair(t, "undeclared step", rep.Deviations)
+}

@@ -31,6 +31,10 @@ type command struct {
 	name    string // as typed after "furrow"
 	summary string // one line for "furrow help"
 	usage   string // full help text printed by -h; starts with "usage: furrow NAME ..."
+	// exitCodes is the command's own "Exit codes" section, which its usage
+	// ends with, when its codes mean more than exitCodesHelp says ("" =
+	// exitCodesHelp). The codes themselves are the same for every command.
+	exitCodes string
 	// run executes the command on its arguments (flags not yet parsed) and
 	// returns the exit code; c is the command itself.
 	run func(e *env, c *command, args []string) int

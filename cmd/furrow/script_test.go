@@ -86,8 +86,15 @@ func TestCommandTable(t *testing.T) {
 		if !strings.HasPrefix(c.usage, "usage: furrow "+c.name) {
 			t.Errorf("command %q: usage must start with %q", c.name, "usage: furrow "+c.name)
 		}
-		if !strings.HasSuffix(c.usage, exitCodesHelp) {
-			t.Errorf("command %q: usage must end with the exit codes", c.name)
+		exits := exitCodesHelp
+		if c.exitCodes != "" {
+			exits = c.exitCodes
+			if !strings.HasPrefix(exits, "Exit codes") || !strings.Contains(exits, "\n  0  ") || !strings.Contains(exits, "\n  1  ") || !strings.Contains(exits, "\n  2  ") {
+				t.Errorf("command %q: its own exit codes must state 0, 1 and 2", c.name)
+			}
+		}
+		if !strings.HasSuffix(c.usage, exits) {
+			t.Errorf("command %q: usage must end with its exit codes", c.name)
 		}
 		if c.run == nil {
 			t.Errorf("command %q: no run function", c.name)

@@ -2,6 +2,7 @@ package main
 
 import (
 	"crypto/ed25519"
+	"errors"
 	"fmt"
 	"os"
 	"runtime"
@@ -18,34 +19,50 @@ which must be by PUB when --key is given), the plan against the record and
 against its registration chain (registered before the run, no amendment
 after it), the data file against its hash, then re-runs the analysis and
 compares every number (relative tolerance 1e-9) and every decision
-(exactly). Plan and data paths come from the record unless given.
+(exactly). The plan is looked for where the record says it was seen from
+DIR, the data where the record puts them beside the plan; --plan and
+--data say where they are instead (for a run folder moved without them).
+A plan or data file that is not there stops verify (exit 2).
 
 Prints one line when there is no deviation; otherwise one line per
-deviation with its code and the record field concerned.
+deviation with its code and the record field concerned, then the count
+(informational deviations are listed but not counted).
 
 Deviation codes:
   unregistered-run                  the run was made without a matching registration
   plan-changed-after-registration   the plan differs from the record or its registration, or the chain is broken
-  amendment-after-data-lock         an amendment was registered after the data were analysed
+  amendment-after-data-lock         an amendment was registered, or is dated, after the data were analysed
   data-changed                      the data file differs from the one analysed
   record-edited                     the record's content hash or signature does not match
   results-differ                    the re-run gives a different number or decision
   step-not-declared                 the record holds a step the plan does not declare
+  data-file-not-declared            the run analysed a file other than the plan's data.file (informational)
   tool-version-differs              another furrow version wrote the record (informational)
 
 Flags:
   --json        print the report as JSON
   --key PUB     require a signature by this public key
-  --plan PLAN   use this plan file instead of the recorded path
-  --data DATA   use this data file instead of the recorded path
+  --plan PLAN   the plan file, when it is not where the record puts it
+  --data DATA   the data file, when it is not where the record puts it
 
-` + exitCodesHelp
+` + verifyExitCodes
+
+// verifyExitCodes are the exit codes as verify uses them.
+const verifyExitCodes = `Exit codes (verify's own):
+  0  no deviation, or informational ones only
+  1  deviations: the record, the plan, its registration or the data differ
+     from what the run recorded, or the re-run gives other results
+  2  usage error, a record that cannot be read, or a plan or data file that
+     cannot be found where the record says (point verify at them with
+     --plan and --data)
+`
 
 var verifyCommand = &command{
-	name:    "verify",
-	summary: "re-run a recorded analysis and list any undeclared deviation",
-	usage:   verifyUsage,
-	run:     runVerify,
+	name:      "verify",
+	summary:   "re-run a recorded analysis and list any undeclared deviation",
+	usage:     verifyUsage,
+	exitCodes: verifyExitCodes,
+	run:       runVerify,
 }
 
 func runVerify(e *env, c *command, args []string) int {
@@ -70,6 +87,11 @@ func runVerify(e *env, c *command, args []string) int {
 	}
 	rep, err := checker.Verify(checker.VerifyOptions{Dir: pos[0], PlanPath: *planPath, DataPath: *dataPath, PublicKey: pub,
 		Tool: checker.ToolInfo{Name: "furrow", Version: toolVersion()}})
+	var missing *checker.MissingInputError
+	if errors.As(err, &missing) {
+		fmt.Fprintf(e.stderr, "furrow verify: %s\n", missingText(e, missing, *planPath, *dataPath))
+		return exitUsage
+	}
 	if err != nil {
 		return fail(e, c, err)
 	}
@@ -77,7 +99,7 @@ func runVerify(e *env, c *command, args []string) int {
 		if err := writeJSON(e.stdout, rep); err != nil {
 			return fail(e, c, err)
 		}
-	} else if rep.OK() {
+	} else if len(rep.Deviations) == 0 {
 		fmt.Fprintf(e.stdout, "%s: no undeclared deviation\n", e.rel(pos[0]))
 	} else {
 		writeDeviations(e, pos[0], rep.Deviations)
@@ -86,6 +108,24 @@ func runVerify(e *env, c *command, args []string) int {
 		return exitFindings
 	}
 	return exitOK
+}
+
+// missingText says which input of a run was not found, where it was
+// looked for, and which flags point verify at it. planFlag and dataFlag
+// are the values of --plan and --data.
+func missingText(e *env, m *checker.MissingInputError, planFlag, dataFlag string) string {
+	dir := e.rel(m.Dir)
+	switch {
+	case m.Plan != "" && planFlag != "":
+		return fmt.Sprintf("%s: no plan file %s (given with --plan)", dir, e.rel(m.Plan))
+	case m.Data != "" && dataFlag != "":
+		return fmt.Sprintf("%s: no data file %s (given with --data)", dir, e.rel(m.Data))
+	case m.Plan != "" && m.DataUnknown:
+		return fmt.Sprintf("%s: the record's plan and data are not where it puts them (no file %s); if the run folder was moved without them, point verify at them with --plan PLAN and --data DATA", dir, e.rel(m.Plan))
+	case m.Plan != "":
+		return fmt.Sprintf("%s: the record's plan is not where it puts it (no file %s); if it was moved, point verify at it with --plan PLAN", dir, e.rel(m.Plan))
+	}
+	return fmt.Sprintf("%s: the record's data are not where it puts them (no file %s); if they were moved, point verify at them with --data DATA", dir, e.rel(m.Data))
 }
 
 func goVersion() string { return runtime.Version() }
@@ -98,7 +138,7 @@ const maxShownPerCode = 6
 // invalidates the record first, informational last.
 var codeOrder = []checker.DeviationCode{
 	checker.DevRecordEdited, checker.DevPlanChanged, checker.DevAmendmentAfterLock, checker.DevDataChanged,
-	checker.DevUnregisteredRun, checker.DevStepNotDeclared, checker.DevResultsDiffer, checker.DevToolVersion,
+	checker.DevUnregisteredRun, checker.DevStepNotDeclared, checker.DevResultsDiffer, checker.DevDataNotDeclared, checker.DevToolVersion,
 }
 
 // fieldWeight orders differing fields so that decisions and verdicts come
@@ -129,12 +169,14 @@ func writeDeviations(e *env, dir string, devs []checker.Deviation) {
 		seen[key] = true
 		byCode[d.Code] = append(byCode[d.Code], d)
 	}
-	n := 0
+	n, info := 0, 0
 	for _, code := range codeOrder {
 		list := byCode[code]
 		sort.SliceStable(list, func(i, j int) bool { return fieldWeight(list[i].Field) < fieldWeight(list[j].Field) })
 		for i, d := range list {
-			if !code.Informational() {
+			if code.Informational() {
+				info++
+			} else {
 				n++
 			}
 			if i == maxShownPerCode {
@@ -148,11 +190,15 @@ func writeDeviations(e *env, dir string, devs []checker.Deviation) {
 				where = "-"
 			}
 			line := fmt.Sprintf("%s: %s: %s", d.Code, where, d.Summary)
-			if d.Recorded != "" || d.Now != "" {
+			if d.Recorded != "" && d.Now != "" && d.Recorded != d.Now {
 				line += fmt.Sprintf(" (recorded %s, now %s)", d.Recorded, d.Now)
 			}
 			fmt.Fprintln(e.stdout, line)
 		}
+	}
+	if n == 0 {
+		fmt.Fprintf(e.stdout, "%s: no undeclared deviation (%d informational)\n", e.rel(dir), info)
+		return
 	}
 	fmt.Fprintf(e.stdout, "%s: %s\n", e.rel(dir), plural(n, "deviation"))
 }
