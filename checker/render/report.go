@@ -482,16 +482,29 @@ func (rep *Report) Markdown() []byte {
 			if len(s.Checks) == 0 {
 				w("| %s | %s | %d | - | - | - | - | - | %s | %s |\n", mdCode(s.ID), mdCell(s.Model.Text), s.N, dec, mdCell(s.Decision.Rule))
 			}
+			// The decision goes on the row of the check whose rule made it
+			// (the first failing one), else on the step's first row.
+			at := 0
+			for i, c := range s.Checks {
+				if c.Pos == s.Decision.Rule {
+					at = i
+					break
+				}
+			}
 			for i, c := range s.Checks {
 				id, model, n := "", "", ""
 				if i == 0 {
 					id, model, n = mdCode(s.ID), mdCell(s.Model.Text), strconv.Itoa(s.N)
 				}
 				d := ""
-				if i == 0 {
+				if i == at {
 					d = dec
 				}
-				w("| %s | %s | %s | %s | %s | %s | %s | %s | %s | %s |\n", id, model, n, c.Test, fmtNum(c.Statistic), fmtP(c.P), fmtNum(c.FailBelow), c.Verdict, d, mdCell(c.Pos))
+				test := c.Test
+				if len(c.By) > 0 {
+					test += " by " + strings.Join(mdCells(c.By), ", ")
+				}
+				w("| %s | %s | %s | %s | %s | %s | %s | %s | %s | %s |\n", id, model, n, test, fmtNum(c.Statistic), fmtP(c.P), fmtNum(c.FailBelow), c.Verdict, d, mdCell(c.Pos))
 			}
 		}
 		w("\n")

@@ -161,3 +161,21 @@ func TestReportSizeAt10000Rows(t *testing.T) {
 	}
 	t.Logf("report of %d rows: %d bytes", n, len(page))
 }
+
+// The Markdown trail puts the decision on the row of the check whose rule
+// made it, and shows the grouping of a variance check.
+func TestMarkdownTrailDecisionOnDecidingCheck(t *testing.T) {
+	r := syntheticResult()
+	s := &r.Endpoints[0].Steps[0]
+	s.Checks = []record.CheckResult{
+		{Test: "shapiro-wilk", Statistic: 0.97, P: 0.4, FailBelow: 0.05, Verdict: record.VerdictPass, Pos: "plan.yaml:20:11"},
+		{Test: "levene", By: []string{"g"}, Statistic: 5.1, P: 0.01, FailBelow: 0.05, Verdict: record.VerdictFail, OnFail: "ranks", Pos: "plan.yaml:22:11"},
+	}
+	s.Decision.Rule = "plan.yaml:22:11"
+	md := string(BuildReport(r).Markdown())
+	first := "| `ols` | linear of y; fixed: g | 12 | shapiro-wilk | 0.97 | 0.4000 | 0.05 | pass |  | plan.yaml:20:11 |"
+	second := "|  |  |  | levene by g | 5.1 | 0.0100 | 0.05 | fail | fall-back to `ranks` | plan.yaml:22:11 |"
+	if !strings.Contains(md, first) || !strings.Contains(md, second) {
+		t.Errorf("trail rows:\n%s", md)
+	}
+}
