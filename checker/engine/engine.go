@@ -47,6 +47,9 @@ func (e *DataError) Error() string {
 			n++
 		}
 	}
+	if n == 1 {
+		return "the data do not meet the plan (1 error)"
+	}
 	return fmt.Sprintf("the data do not meet the plan (%d errors)", n)
 }
 
@@ -139,6 +142,19 @@ func Run(opt RunOptions) (*record.Result, error) {
 	}
 	r.ExclusionRules = rules
 	r.Inputs.RowsAnalysed = kept.NumRows()
+	// Units the exclusions removed whole are lost units too, judged by the
+	// plan's least-units as those missing from the file.
+	kdiags, lost := contract.CheckKept(p, t, goneUnits(kept, excl, unitColumn(p)))
+	if kdiags.HasErrors() {
+		return nil, &DataError{Diagnostics: kdiags}
+	}
+	for _, d := range kdiags {
+		r.DataWarnings = append(r.DataWarnings, record.Finding{Severity: d.Severity.String(), Code: d.Code, Pos: posText(d.Pos), Summary: d.Summary})
+	}
+	r.LostUnits = []record.LostUnit{}
+	for _, l := range lost {
+		r.LostUnits = append(r.LostUnits, record.LostUnit{Cell: l.Cell, Block: l.Block, Unit: l.Unit, Rule: l.Rule})
+	}
 
 	eng := NewCascade()
 	for i := range p.Endpoints {
@@ -272,6 +288,25 @@ func posText(p plan.Pos) string {
 	return p.String()
 }
 
+// goneUnits returns the units of the excluded rows that have no row in kept, each with
+// the rule that removed its first row.
+func goneUnits(kept *table.Table, excl []record.ExcludedRow, unitCol string) map[string]string {
+	if unitCol == "" {
+		return nil
+	}
+	left := map[string]bool{}
+	for _, u := range kept.Texts(unitCol) {
+		left[u] = true
+	}
+	gone := map[string]string{}
+	for _, x := range excl {
+		if _, seen := gone[x.Unit]; !seen && !left[x.Unit] && x.Unit != "" {
+			gone[x.Unit] = x.Rule
+		}
+	}
+	return gone
+}
+
 // designSeen copies the parts of a design summary that do not depend on
 // where the files are (the summary's Data path is left out).
 func designSeen(s *contract.DesignSummary) *record.DesignSeen {
@@ -280,6 +315,9 @@ func designSeen(s *contract.DesignSummary) *record.DesignSeen {
 	}
 	d := &record.DesignSeen{Rows: s.Rows, Units: s.Units, UnitColumn: s.UnitColumn, CellColumns: append([]string{}, s.CellColumns...),
 		Replicates: s.Replicates, Cells: []record.CellSeen{}, Missing: []record.MissingSeen{}}
+	if l := s.LeastUnits; l != nil {
+		d.LeastUnits = &record.LeastUnitsSeen{Per: l.Per, Count: l.Count, Below: l.Below, Pos: posText(l.Pos)}
+	}
 	for _, c := range s.Cells {
 		d.Cells = append(d.Cells, record.CellSeen{Levels: append([]string{}, c.Levels...), Units: c.Units})
 	}

@@ -35,6 +35,11 @@ type Result struct {
 	// Design is the design as seen in the data, before exclusions: units
 	// per treatment cell and missing values per column.
 	Design *DesignSeen `json:"design"`
+	// LostUnits lists the units the design declares that the analysis
+	// does not have (no row in the data, or every row removed by a
+	// declared exclusion), in cell order; empty when none is lost or the
+	// plan declares no least-units.
+	LostUnits []LostUnit `json:"lost_units"`
 	// DataWarnings are the data-contract warnings carried into the run
 	// (errors stop the run before a record is written).
 	DataWarnings []Finding `json:"data_warnings"`
@@ -562,10 +567,42 @@ type DesignSeen struct {
 	CellColumns []string `json:"cell_columns"`
 	// Replicates is design.replicates (0 when not declared).
 	Replicates int `json:"replicates"`
+	// LeastUnits is design.least-units (nil when not declared).
+	LeastUnits *LeastUnitsSeen `json:"least_units"`
 	// Cells are the units per combination of the cell columns' levels.
 	Cells []CellSeen `json:"cells"`
 	// Missing counts missing values per declared column that has any.
 	Missing []MissingSeen `json:"missing"`
+}
+
+// LeastUnitsSeen is the plan's rule for lost units, as declared.
+type LeastUnitsSeen struct {
+	// Per is "cell" or "treatment".
+	Per string `json:"per"`
+	// Count is the least number of units per cell (or treatment level).
+	Count int `json:"count"`
+	// Below is "stop" or "warn".
+	Below string `json:"below"`
+	// Pos is the plan position of the declaration (file:line:col).
+	Pos string `json:"pos"`
+}
+
+// LostUnit is one experimental unit the design declares that the
+// analysis does not have.
+type LostUnit struct {
+	// Cell is the unit's level of each DesignSeen.CellColumns entry (site
+	// first when there is one, then treatment and factors).
+	Cell []string `json:"cell"`
+	// Block is the unit's block: for a unit with no row in the data, the
+	// block that lacks a unit of the cell, when the blocks tell; "" when
+	// they do not or the plan has no block column.
+	Block string `json:"block"`
+	// Unit is the unit's identifier; "" for a unit with no row in the
+	// data (its identifier is not known).
+	Unit string `json:"unit"`
+	// Rule is the exclusion rule that removed the unit's rows (the rule of
+	// its first removed row); "" for a unit with no row in the data.
+	Rule string `json:"rule"`
 }
 
 // CellSeen is the number of units in one treatment cell.

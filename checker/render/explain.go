@@ -138,7 +138,7 @@ func designSection(p *plan.Plan) Section {
 		items = append(items, fmt.Sprintf("Replication: %d units per treatment combination%s.", p.Design.Replicates, perSite(p)))
 	}
 	if l := p.Design.LeastUnits; l != nil {
-		items = append(items, lostUnitsText(p, l))
+		items = append(items, lostUnitsPlanText(p, l))
 	}
 	if p.Design.Subsamples > 1 {
 		items = append(items, fmt.Sprintf("Sub-samples: %d measurements per unit and time point.", p.Design.Subsamples))
@@ -146,8 +146,8 @@ func designSection(p *plan.Plan) Section {
 	return Section{Heading: "Experimental unit and design", Blocks: []Block{{Items: items}}}
 }
 
-// lostUnitsText says in words what the plan accepts when units are lost.
-func lostUnitsText(p *plan.Plan, l *plan.LeastUnits) string {
+// lostUnitsPlanText says in words what the plan accepts when units are lost.
+func lostUnitsPlanText(p *plan.Plan, l *plan.LeastUnits) string {
 	below := "the analysis stops before any model is fitted"
 	if l.Below == plan.BelowWarn {
 		below = "the analysis goes on, with a warning"

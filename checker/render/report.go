@@ -405,9 +405,12 @@ var reportFuncs = template.FuncMap{
 	"verdictClass": func(v record.Verdict) string {
 		return "v-" + v.String()
 	},
-	"inc":    func(i int) int { return i + 1 },
-	"peq":    pEq,
-	"answer": answerText,
+	"inc":      func(i int) int { return i + 1 },
+	"lostText": lostUnitsText,
+	"lostWhy":  lostWhy,
+	"orDash":   orDash,
+	"peq":      pEq,
+	"answer":   answerText,
 	"sides": func(s string) string {
 		switch s {
 		case "less":
@@ -556,6 +559,20 @@ func (rep *Report) Markdown() []byte {
 			w("Missing values: %s.\n\n", strings.Join(parts, ", "))
 		}
 	}
+	if d := r.Design; d != nil && (d.LeastUnits != nil || len(r.LostUnits) > 0) {
+		w("## Lost units\n\n%s\n\n", lostUnitsText(r))
+		if len(r.LostUnits) > 0 {
+			w("| %s | block | unit | lost because |\n|%s --- | --- | --- |\n", strings.Join(d.CellColumns, " | "), strings.Repeat(" --- |", len(d.CellColumns)))
+			for _, l := range r.LostUnits {
+				cells := make([]string, len(l.Cell))
+				for k, c := range l.Cell {
+					cells[k] = mdCell(c)
+				}
+				w("| %s | %s | %s | %s |\n", strings.Join(cells, " | "), mdCell(orDash(l.Block)), mdCell(orDash(l.Unit)), mdCell(lostWhy(l)))
+			}
+			w("\n")
+		}
+	}
 	if len(r.Exclusions) > 0 {
 		w("## Rows excluded\n\n| Row | Unit | Rule | Rule position |\n| --- | --- | --- | --- |\n")
 		for _, x := range r.Exclusions {
@@ -607,6 +624,47 @@ func writeMDTables(b *bytes.Buffer, d *record.StepDetail) {
 		}
 		w("\n")
 	}
+}
+
+// lostUnitsText says what the plan accepts when units are lost and how
+// many were: "The plan accepts at least 3 units per cell (below that the
+// run stops; plan.yaml:51:16). 1 unit is lost; the analysis went on with
+// the units left."
+func lostUnitsText(r *record.Result) string {
+	var b strings.Builder
+	if l := r.Design.LeastUnits; l != nil {
+		below := "the run stops"
+		if l.Below == "warn" {
+			below = "the analysis goes on with a warning"
+		}
+		per := "per cell"
+		if l.Per == "treatment" {
+			per = "per treatment level"
+		}
+		fmt.Fprintf(&b, "The plan accepts at least %d %s %s (below that %s; %s). ", l.Count, plural(l.Count, "unit", "units"), per, below, l.Pos)
+	}
+	switch n := len(r.LostUnits); n {
+	case 0:
+		b.WriteString("No unit is lost.")
+	default:
+		fmt.Fprintf(&b, "%d %s lost; the analysis went on with the units left.", n, plural(n, "unit is", "units are"))
+	}
+	return b.String()
+}
+
+// lostWhy says why a unit is lost.
+func lostWhy(l record.LostUnit) string {
+	if l.Rule != "" {
+		return "exclusion " + l.Rule + " removed its rows"
+	}
+	return "no row in the data"
+}
+
+func plural(n int, one, many string) string {
+	if n == 1 {
+		return one
+	}
+	return many
 }
 
 func registeredText(r *record.Result) string {
