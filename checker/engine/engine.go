@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"os"
 	"path/filepath"
+	"slices"
 	"strings"
 	"time"
 
@@ -141,7 +142,7 @@ func Run(opt RunOptions) (*record.Result, error) {
 		r.Exclusions = []record.ExcludedRow{}
 	}
 	r.ExclusionRules = rules
-	r.Inputs.RowsAnalysed = kept.NumRows()
+	r.Inputs.RowsKept = kept.NumRows()
 	// Units the exclusions removed whole are lost units too, judged by the
 	// plan's least-units as those missing from the file.
 	kdiags, lost := contract.CheckKept(p, t, goneUnits(kept, excl, unitColumn(p)))
@@ -158,9 +159,27 @@ func Run(opt RunOptions) (*record.Result, error) {
 
 	eng := NewCascade()
 	for i := range p.Endpoints {
-		r.Endpoints = append(r.Endpoints, eng.RunEndpoint(p, kept, &p.Endpoints[i]))
+		er := eng.RunEndpoint(p, kept, &p.Endpoints[i])
+		withExcluded(&er, r.Exclusions)
+		r.Endpoints = append(r.Endpoints, er)
 	}
 	return r, nil
+}
+
+// withExcluded adds the rows the exclusions removed to the unused rows of
+// every fitted step, so that each step accounts for every row read.
+func withExcluded(er *record.EndpointResult, excl []record.ExcludedRow) {
+	for k := range er.Steps {
+		s := &er.Steps[k]
+		if s.Fit == nil {
+			s.Unused = []record.UnusedRow{}
+			continue
+		}
+		for _, x := range excl {
+			s.Unused = append(s.Unused, record.UnusedRow{Row: x.Row, Unit: x.Unit, Reason: record.UnusedExcluded, Rule: x.Rule})
+		}
+		slices.SortStableFunc(s.Unused, func(a, b record.UnusedRow) int { return a.Row - b.Row })
+	}
 }
 
 // registrationRef reads the plan's registration record, if any, and

@@ -173,8 +173,8 @@ func TestCascadePaths(t *testing.T) {
 			if len(ep.Hypotheses) != 1 || len(ep.Hypotheses[0].Comparisons) != 2 || ep.Hypotheses[0].Step != c.reported {
 				t.Fatalf("hypotheses %+v", ep.Hypotheses)
 			}
-			if r.Inputs.Rows != 18 || r.Inputs.RowsAnalysed != 17 || len(r.Exclusions) != 1 || r.Exclusions[0].Rule != "listed" {
-				t.Errorf("exclusions: rows %d analysed %d %+v", r.Inputs.Rows, r.Inputs.RowsAnalysed, r.Exclusions)
+			if r.Inputs.Rows != 18 || r.Inputs.RowsKept != 17 || len(r.Exclusions) != 1 || r.Exclusions[0].Rule != "listed" {
+				t.Errorf("exclusions: rows %d kept %d %+v", r.Inputs.Rows, r.Inputs.RowsKept, r.Exclusions)
 			}
 			if ep.Steps[0].N != 17 {
 				t.Errorf("n = %d, want 17", ep.Steps[0].N)

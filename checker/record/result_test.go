@@ -27,7 +27,7 @@ func sampleResult() *Result {
 				Chain: []ChainLink{{Seq: 1, PlanVersion: "1.0", PlanHash: SHA256Hex([]byte("c")),
 					RegisteredAt: "2026-01-01T00:00:00Z", Reason: "initial registration", EntryHash: SHA256Hex([]byte("h"))}}},
 			DataPath: "../data.csv", DataFileSHA256: SHA256Hex([]byte("d")), TableHash: SHA256Hex([]byte("t")),
-			Rows: 13, Columns: []string{"unit", "treatment", "y"}, RowsAnalysed: 12,
+			Rows: 13, Columns: []string{"unit", "treatment", "y"}, RowsKept: 12,
 		},
 		Design: &DesignSeen{Rows: 13, Units: 13, UnitColumn: "unit", CellColumns: []string{"treatment"}, Replicates: 5,
 			LeastUnits: &LeastUnitsSeen{Per: "cell", Count: 4, Below: "stop", Pos: "plan.yaml:22:16"},
@@ -38,12 +38,14 @@ func sampleResult() *Result {
 		ExclusionRules: []ExclusionRule{{ID: "no-y", Pos: "plan.yaml:30:5", Drop: "row", When: "missing", Reason: "r", RowsRemoved: 1, Units: []string{"u4"}}},
 		Endpoints: []EndpointResult{{
 			ID: "yield", Pos: "plan.yaml:60:5", Response: "y", Primary: true, Alpha: 0.05,
-			Status: EndpointAccepted, Reported: "anova",
+			Status: EndpointAccepted, Reported: "anova", RowsAnalysed: 12,
 			Steps: []StepResult{
 				{ID: "anova", Pos: "plan.yaml:64:9", Executed: true,
 					Model: ModelSpec{Text: "linear of y; fixed: treatment", Kind: "linear", Derive: "raw", Transform: "none",
 						Fixed: [][]string{{"treatment"}}, DF: "residual", Anova: 3},
 					N:      12,
+					Rows:   12,
+					Unused: []UnusedRow{{Row: 5, Unit: "u4", Reason: UnusedExcluded, Rule: "no-y"}},
 					Fit:    &FitSummary{Method: "ols", Params: 3, ResidualDF: 9, Sigma: 1.5, RSquared: 0.6, Criterion: NaN, Converged: true},
 					Checks: []CheckResult{chk, lev},
 					Decision: Decision{Action: ActionAccept, Reason: ReasonChecksPassed, Rule: "plan.yaml:64:9",
@@ -64,7 +66,7 @@ func sampleResult() *Result {
 						Units: []string{"u1", "u2"}, Values: []Num{0.5, 2.5}},
 				},
 				{ID: "ranks", Pos: "plan.yaml:80:9", Model: ModelSpec{Text: "kruskal-wallis: y by treatment", Kind: "kruskal-wallis"},
-					Checks:   []CheckResult{},
+					Checks: []CheckResult{}, Unused: []UnusedRow{},
 					Decision: Decision{Action: ActionSkip, Reason: ReasonNotReached, Detail: "an earlier step was accepted"}},
 			},
 			Hypotheses: []HypothesisResult{

@@ -407,6 +407,8 @@ var reportFuncs = template.FuncMap{
 	},
 	"inc":      func(i int) int { return i + 1 },
 	"lostText": lostUnitsText,
+	"rowsText": rowsText,
+	"unused":   unusedText,
 	"lostWhy":  lostWhy,
 	"orDash":   orDash,
 	"peq":      pEq,
@@ -458,7 +460,7 @@ func (rep *Report) Markdown() []byte {
 	w("| Trial | %s |\n| Plan version | %s |\n| Plan hash | `%s` |\n", r.Trial.ID, r.Trial.PlanVersion, r.Inputs.PlanHash)
 	w("| Registered | %s |\n", registeredText(r))
 	w("| Data | `%s` (`%s`) |\n", r.Inputs.DataPath, r.Inputs.DataFileSHA256)
-	w("| Rows read / analysed | %d / %d |\n", r.Inputs.Rows, r.Inputs.RowsAnalysed)
+	w("| Rows read / kept after exclusions | %d / %d |\n", r.Inputs.Rows, r.Inputs.RowsKept)
 	w("| Tool | %s %s |\n\n", r.Tool.Name, r.Tool.Version)
 	for _, v := range rep.Verdicts {
 		kind := "Secondary"
@@ -500,6 +502,15 @@ func (rep *Report) Markdown() []byte {
 				}
 				w("| %s | %s | %s | %s | %s | %s | %s | %s | %s | %s |\n", id, model, n, c.Test, fmtNum(c.Statistic), fmtP(c.P), fmtNum(c.FailBelow), c.Verdict, d, c.Pos)
 			}
+		}
+		w("\n")
+		w("### Rows: `%s`\n\n%s\n\n", e.ID, rowsText(r, &e))
+		w("| Step | n | Rows used | Rows not used |\n| --- | --- | --- | --- |\n")
+		for _, s := range e.Steps {
+			if s.Fit == nil {
+				continue
+			}
+			w("| `%s` | %d | %d | %s |\n", s.ID, s.N, s.Rows, mdCell(unusedText(s.Unused)))
 		}
 		w("\n")
 		for _, s := range e.Steps {
@@ -624,6 +635,71 @@ func writeMDTables(b *bytes.Buffer, d *record.StepDetail) {
 		}
 		w("\n")
 	}
+}
+
+// rowsText says how many rows the reported step used of those read and
+// what its n counts.
+func rowsText(r *record.Result, e *record.EndpointResult) string {
+	var rep *record.StepResult
+	for i := range e.Steps {
+		if e.Steps[i].ID == e.Reported {
+			rep = &e.Steps[i]
+		}
+	}
+	if rep == nil {
+		return fmt.Sprintf("%d rows read; no step is reported.", r.Inputs.Rows)
+	}
+	what := "n counts rows"
+	switch rep.Model.Derive {
+	case "change", "baseline":
+		what = fmt.Sprintf("n counts units, one observation from each unit's rows at %s and %s", rep.Model.From, rep.Model.To)
+	case "unit-mean":
+		what = "n counts unit means, each from the unit's rows averaged"
+	}
+	return fmt.Sprintf("Rows analysed: %d of the %d rows read, by the reported step %s (n = %d; %s). Each step's rows used and the rows it did not use, with the reason, add up to the rows read.",
+		e.RowsAnalysed, r.Inputs.Rows, rep.ID, rep.N, what)
+}
+
+// maxRowsListed is the most row numbers the report lists per reason.
+const maxRowsListed = 10
+
+// unusedText groups a step's unused rows by reason: "excluded by
+// no-baseline: rows 48, 49; missing response: rows 87, 113, 133".
+func unusedText(us []record.UnusedRow) string {
+	if len(us) == 0 {
+		return "none"
+	}
+	var keys []string
+	rows := map[string][]int{}
+	for _, u := range us {
+		k := strings.ReplaceAll(u.Reason, "-", " ")
+		switch {
+		case u.Reason == record.UnusedExcluded:
+			k = "excluded by " + u.Rule
+		case u.Column != "" && u.Reason == record.UnusedMissingCovariate:
+			k = "missing " + u.Column
+		case u.Reason == record.UnusedIncompleteBlock:
+			k = "incomplete " + u.Column
+		}
+		if rows[k] == nil {
+			keys = append(keys, k)
+		}
+		rows[k] = append(rows[k], u.Row)
+	}
+	var parts []string
+	for _, k := range keys {
+		rs := rows[k]
+		var nums []string
+		for i, r := range rs {
+			if i == maxRowsListed {
+				nums = append(nums, fmt.Sprintf("and %d more", len(rs)-maxRowsListed))
+				break
+			}
+			nums = append(nums, strconv.Itoa(r))
+		}
+		parts = append(parts, fmt.Sprintf("%s: %s %s", k, plural(len(rs), "row", "rows"), strings.Join(nums, ", ")))
+	}
+	return strings.Join(parts, "; ")
 }
 
 // lostUnitsText says what the plan accepts when units are lost and how
