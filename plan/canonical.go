@@ -84,9 +84,16 @@ type cColumn struct {
 }
 
 type cDesign struct {
-	Layout     string `json:"layout"`
-	Replicates int    `json:"replicates"`
-	Subsamples int    `json:"subsamples"`
+	Layout     string       `json:"layout"`
+	Replicates int          `json:"replicates"`
+	Subsamples int          `json:"subsamples"`
+	LeastUnits *cLeastUnits `json:"least-units,omitempty"`
+}
+
+type cLeastUnits struct {
+	Per   string `json:"per"`
+	Count int    `json:"count"`
+	Below string `json:"below"`
 }
 
 type cExclusion struct {
@@ -212,6 +219,9 @@ func canonicalPlan(p *Plan) cPlan {
 		Design:     cDesign{Layout: p.Design.Layout, Replicates: p.Design.Replicates, Subsamples: p.Design.Subsamples},
 		Exclusions: []cExclusion{},
 		Endpoints:  []cEndpoint{},
+	}
+	if l := p.Design.LeastUnits; l != nil {
+		c.Design.LeastUnits = &cLeastUnits{Per: l.Per, Count: l.Count, Below: l.Below}
 	}
 	for _, a := range p.Trial.Amendments {
 		c.Trial.Amendments = append(c.Trial.Amendments, cAmendment{a.Version, a.Date, a.Reason, a.Changes})

@@ -46,7 +46,7 @@ trial:
   title: "Demonstration trial"
   id: DEMO-1
   amendments: [{reason: clarify the exclusion rule, date: "2026-02-01", version: "1.1"}]
-design: {replicates: 3, layout: rcbd}
+design: {least-units: {below: stop, count: 2, per: cell}, replicates: 3, layout: rcbd}
 exclusions: [{reason: no baseline count, id: no-baseline, drop: unit, when: missing, column: count, at: before}]
 endpoints:
 - steps:

@@ -68,11 +68,11 @@ func TestParseValidBase(t *testing.T) {
 	}{
 		{"trial.id", 5, 7, "base.yaml:5:7"},
 		{"columns[2].control", 23, 14, "base.yaml:23:14"},
-		{"endpoints[0].steps[0].fixed[3]", 50, 41, "base.yaml:50:41"},
-		{"endpoints[0].steps[0].fixed[3][1]", 50, 53, "base.yaml:50:53"},
-		{"endpoints[0].steps[0].on-fail", 55, 18, "base.yaml:55:18"},
+		{"endpoints[0].steps[0].fixed[3]", 51, 41, "base.yaml:51:41"},
+		{"endpoints[0].steps[0].fixed[3][1]", 51, 53, "base.yaml:51:53"},
+		{"endpoints[0].steps[0].on-fail", 56, 18, "base.yaml:56:18"},
 		// Not written: falls back to the enclosing step.
-		{"endpoints[0].steps[0].df", 47, 9, "base.yaml:47:9"},
+		{"endpoints[0].steps[0].df", 48, 9, "base.yaml:48:9"},
 	}
 	for _, c := range checks {
 		if got := p.PosOf(c.path); got.Line != c.line || got.Column != c.col || got.String() != c.wantString {
@@ -82,7 +82,7 @@ func TestParseValidBase(t *testing.T) {
 	if got := p.Columns[2].Pos; got.Line != 20 || got.Column != 5 {
 		t.Errorf("column pos %v, want 20:5", got)
 	}
-	if got := p.Endpoints[0].Steps[0].Fixed[3]; got.Pos.Line != 50 || strings.Join(got.Columns, ":") != "treatment:time" {
+	if got := p.Endpoints[0].Steps[0].Fixed[3]; got.Pos.Line != 51 || strings.Join(got.Columns, ":") != "treatment:time" {
 		t.Errorf("interaction term %+v", got)
 	}
 	// Defaults.

@@ -108,7 +108,8 @@
 //	       amendments[]: version, date, reason, changes
 //	data: file, format, sheet, delimiter, decimal, missing[]
 //	columns[]: name, role, label, unit, min, max, levels[], control
-//	design: layout, replicates, subsamples
+//	design: layout, replicates, subsamples,
+//	        least-units{per, count, below} (left out when not declared)
 //	exclusions[]: id, drop, when, column, at, units[], reason
 //	endpoints[]: id, response, primary, alpha,
 //	  steps[]: id, model, outcome{derive, from, to, at},

@@ -129,7 +129,32 @@ type Design struct {
 	Layout     string // crd, rcbd, latin-square, factorial, split-plot, split-block, repeated, multi-site
 	Replicates int    // experimental units per treatment combination (per site when there is a site column); 0 = not declared
 	Subsamples int    // measurements per unit and time point; 0 or 1 = one
+	// LeastUnits is what the plan accepts when units are lost (nil = not
+	// declared; a plan that declares Replicates must declare it).
+	LeastUnits *LeastUnits
 	Pos        Pos
+}
+
+// What LeastUnits counts, and what happens below it.
+const (
+	LeastPerCell      = "cell"      // each treatment cell: the combination of treatment, factors (and site) Replicates counts
+	LeastPerTreatment = "treatment" // each treatment level (per site), over the levels of the other factors
+	BelowStop         = "stop"      // below the least count the run stops before any analysis
+	BelowWarn         = "warn"      // below the least count the run goes on, with a warning
+)
+
+// LeastUnits declares, before the data are seen, how many experimental
+// units the analysis accepts when some are lost (a plot flooded, an
+// animal removed): a cell (or treatment) with fewer units than
+// Replicates but at least Count is analysed as seen, with a warning that
+// lists the lost units; below Count the run stops (Below = BelowStop) or
+// goes on with a warning (BelowWarn). A unit is lost when the data hold
+// no row of it, or when a declared exclusion removes every row of it.
+type LeastUnits struct {
+	Per   string // LeastPerCell or LeastPerTreatment
+	Count int    // the least number of units per cell (or treatment), at least 1
+	Below string // BelowStop or BelowWarn
+	Pos   Pos
 }
 
 // Exclusion drop kinds and conditions.

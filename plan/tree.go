@@ -251,9 +251,26 @@ func (d *treeDecoder) design(n *yaml.Node, path string) Design {
 			g.Replicates = int(d.num(v))
 		case "subsamples":
 			g.Subsamples = int(d.num(v))
+		case "least-units":
+			g.LeastUnits = d.leastUnits(v, join(path, k))
 		}
 	}
 	return g
+}
+
+func (d *treeDecoder) leastUnits(n *yaml.Node, path string) *LeastUnits {
+	l := &LeastUnits{Pos: d.pos(n)}
+	for k, v := range d.members(n, path) {
+		switch k {
+		case "per":
+			l.Per = d.str(v)
+		case "count":
+			l.Count = int(d.num(v))
+		case "below":
+			l.Below = d.str(v)
+		}
+	}
+	return l
 }
 
 func (d *treeDecoder) exclusion(n *yaml.Node, path string) Exclusion {

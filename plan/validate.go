@@ -170,6 +170,7 @@ func (v *validator) data() {
 }
 
 func (v *validator) design() {
+	v.leastUnits()
 	need := map[string]string{"rcbd": RoleBlock, "multi-site": RoleSite, "repeated": RoleRepeat, "latin-square": RoleBlock}
 	role, ok := need[v.p.Design.Layout]
 	if !ok {
@@ -181,6 +182,54 @@ func (v *validator) design() {
 		}
 	}
 	v.warnf("layout-columns", "design.layout", "layout %s usually has a %s column, and none is declared", v.p.Design.Layout, role)
+}
+
+// leastUnits checks the plan's rule for lost units: a plan that declares
+// replicates says how many units a cell may lose (otherwise what a lost
+// plot does to the run would be chosen after the data are seen), and the
+// least count is one a complete trial meets.
+func (v *validator) leastUnits() {
+	g := v.p.Design
+	l := g.LeastUnits
+	switch {
+	case l == nil && g.Replicates > 0:
+		v.errf("least-units-undeclared", "design.replicates",
+			"design declares replicates: %d but not what the analysis accepts when units are lost; add least-units: {per: cell, count: N, below: stop} under design, with N the fewest units per cell the analysis accepts (at most %d), or below: warn to go on with a warning below N",
+			g.Replicates, g.Replicates)
+		return
+	case l == nil:
+		return
+	case g.Replicates <= 0:
+		v.errf("least-units-without-replicates", "design.least-units",
+			"least-units needs design.replicates: lost units are counted against the declared units per cell")
+		return
+	}
+	most := g.Replicates
+	if l.Per == LeastPerTreatment {
+		if v.treat == nil {
+			v.errf("least-units-no-treatment", "design.least-units.per", "least-units per: treatment needs a column with role treatment")
+			return
+		}
+		// The cells of one treatment level: the product of the other
+		// factors' levels, known only when each declares them.
+		for _, c := range v.p.Columns {
+			if c.Role != RoleFactor {
+				continue
+			}
+			if len(c.Levels) == 0 {
+				return
+			}
+			most *= len(c.Levels)
+		}
+	}
+	if l.Count > most {
+		what := fmt.Sprintf("the %d replicates per cell", g.Replicates)
+		if l.Per == LeastPerTreatment {
+			what = fmt.Sprintf("the %d units a treatment level has when no unit is lost", most)
+		}
+		v.errf("least-units-above-replicates", "design.least-units.count",
+			"least-units count %d is more than %s; no trial, however complete, would meet it", l.Count, what)
+	}
 }
 
 func (v *validator) amendments() {

@@ -60,6 +60,11 @@ type contractCheck struct {
 	unitOrder []string
 	cellCols  []*plan.Column
 	cells     []CellCount
+	lost      []LostUnit
+
+	// CheckKept: the units the exclusions removed whole, with the rule
+	kept bool
+	gone map[string]string
 }
 
 func (c *contractCheck) add(col string, d plan.Diagnostic) {
@@ -376,7 +381,9 @@ func (c *contractCheck) units() {
 }
 
 // replication counts units per treatment cell (treatment and other fixed
-// factors, per site) and compares the count with design.replicates.
+// factors, per site) and compares the count with design.replicates: a
+// surplus is an error; a shortfall is an error when the plan declares no
+// least-units, else it is judged by that rule (see shortfall).
 func (c *contractCheck) replication() {
 	c.cellCols = c.present(plan.RoleSite)
 	if len(c.cellCols) > 1 {
@@ -408,8 +415,17 @@ func (c *contractCheck) replication() {
 			levels[k] = seenLevels(tcs[k], reps)
 		}
 	}
-	count := map[string]int{}
-	firstRow := map[string]int{}
+	// the block of each unit, when the plan has a block column
+	var bc *table.Column
+	var blockLevels []string
+	if bs := c.present(plan.RoleBlock); len(bs) > 0 {
+		bc = c.t.Column(bs[0].Name)
+		blockLevels = bs[0].Levels
+		if len(blockLevels) == 0 {
+			blockLevels = seenLevels(bc, reps)
+		}
+	}
+	tallies := map[string]*cellTally{}
 	for _, i := range reps {
 		parts := make([]string, len(tcs))
 		ok := true
@@ -424,10 +440,26 @@ func (c *contractCheck) replication() {
 			continue
 		}
 		key := strings.Join(parts, "\x00")
-		if _, seen := firstRow[key]; !seen {
-			firstRow[key] = i
+		tl := tallies[key]
+		if tl == nil {
+			tl = &cellTally{first: i, blocks: map[string]int{}}
+			tallies[key] = tl
 		}
-		count[key]++
+		tl.n++
+		block := ""
+		if bc != nil && !bc.Missing[i] {
+			block = bc.Text[i]
+			tl.blocks[block]++
+		}
+		if c.unitCol != nil {
+			u := c.unitCol.Text[i]
+			if rule, gone := c.gone[u]; gone {
+				if len(tl.removed) == 0 {
+					tl.gone = i
+				}
+				tl.removed = append(tl.removed, LostUnit{Cell: slices.Clone(parts), Block: block, Unit: u, Rule: rule})
+			}
+		}
 	}
 	want := c.p.Design.Replicates
 	each := func(fn func([]string)) { ForEachCombination(levels, fn) }
@@ -441,33 +473,41 @@ func (c *contractCheck) replication() {
 					parts[k] = tc.Text[i]
 				}
 				key := strings.Join(parts, "\x00")
-				if j, ok := firstRow[key]; ok && j == i && !seen[key] {
+				if tl, ok := tallies[key]; ok && tl.first == i && !seen[key] {
 					seen[key] = true
 					fn(parts)
 				}
 			}
 		}
 	}
+	var keys []string
+	var cellParts [][]string
 	each(func(parts []string) {
 		key := strings.Join(parts, "\x00")
-		n := count[key]
+		tl := tallies[key]
+		if tl == nil {
+			tl = &cellTally{first: -1, blocks: map[string]int{}}
+			tallies[key] = tl
+		}
+		n := tl.n
 		c.cells = append(c.cells, CellCount{Levels: slices.Clone(parts), Units: n})
-		if want <= 0 || n == want {
+		keys = append(keys, key)
+		cellParts = append(cellParts, slices.Clone(parts))
+		if c.kept || want <= 0 || n == want || (n < want && c.p.Design.LeastUnits != nil) {
 			return
 		}
 		pos := plan.Pos{File: c.t.PosFile()}
-		if i, ok := firstRow[key]; ok {
-			pos = c.t.Pos(i, 0)
-		}
-		var names []string
-		for k, pc := range c.cellCols {
-			names = append(names, fmt.Sprintf("%s %q", pc.Name, parts[k]))
+		if tl.first >= 0 {
+			pos = c.t.Pos(tl.first, 0)
 		}
 		c.diags = append(c.diags, plan.Diagnostic{Severity: plan.Error, Code: "data-replication",
 			Pos:     pos,
-			Summary: fmt.Sprintf("%s: %d %s, the plan declares %d per cell", strings.Join(names, ", "), n, table.Plural(n, "unit", "units"), want),
+			Summary: fmt.Sprintf("%s: %d %s, the plan declares %d per cell", cellWords(c.cellCols, parts), n, table.Plural(n, "unit", "units"), want),
 			Related: table.RelatedPos(c.p.Design.Pos)})
 	})
+	if want > 0 && c.p.Design.LeastUnits != nil {
+		c.shortfall(keys, cellParts, tallies, blockLevels)
+	}
 }
 
 // maxCells bounds the cells CheckData lists from the levels' product.

@@ -16,8 +16,15 @@
 //	data-duplicate-record   a unit twice at one time (beyond the declared sub-samples)
 //	data-unit-inconsistent  a unit whose treatment, block, site or factor changes
 //	data-record-missing     a unit with no record at a declared time (warning)
-//	data-replication        a treatment cell (per site) whose unit count is not
-//	                        design.replicates
+//	data-replication        a treatment cell (per site) with more units than
+//	                        design.replicates, or fewer when the plan declares
+//	                        no least-units
+//	data-units-lost         a cell with fewer units than design.replicates but
+//	                        at least design.least-units (warning; the lost units
+//	                        are listed with their block in DesignSummary.Lost)
+//	data-units-below-least  a cell (or treatment level, per: treatment) below
+//	                        design.least-units: an error with below: stop, a
+//	                        warning with below: warn
 //	data-missing-values     missing values in a column, with counts (warning)
 //
 // and, from reading: data-ragged-row, data-quote, data-header-blank,
@@ -44,4 +51,13 @@
 // ways: "trt" is not suggested when another undeclared file column also
 // abbreviates "treatment", nor when it also abbreviates another missing
 // declared column.
+//
+// # Lost units
+//
+// A unit is lost when the data hold no row of it ([CheckData]) or the
+// declared exclusions removed every row of it ([CheckKept], called by
+// the run after the exclusions). The block of a unit with no row is the
+// block that lacks a unit of its cell, told when the blocks each hold
+// design.replicates / blocks units of every cell; its identifier is not
+// known. Both functions judge the cell's count by design.least-units.
 package contract

@@ -31,6 +31,12 @@ type DesignSummary struct {
 	// Cells lists every combination of the cell columns' levels (declared
 	// levels, else those seen), the last column varying fastest.
 	Cells []CellCount
+	// LeastUnits is the plan's design.least-units (nil when not declared).
+	LeastUnits *plan.LeastUnits
+	// Lost lists the units the cells lack in the data (fewer than
+	// Replicates), in cell order, when the plan declares least-units;
+	// see [LostUnit].
+	Lost []LostUnit
 	// Missing lists the declared columns with missing values, in plan order.
 	Missing []ColumnMissing
 	// Levels lists, for each declared categorical column other than the
@@ -59,7 +65,8 @@ type ColumnLevels struct {
 }
 
 func (c *contractCheck) summary() *DesignSummary {
-	s := &DesignSummary{Data: c.t.PosFile(), Rows: c.t.NumRows(), Replicates: c.p.Design.Replicates, Cells: c.cells}
+	s := &DesignSummary{Data: c.t.PosFile(), Rows: c.t.NumRows(), Replicates: c.p.Design.Replicates, Cells: c.cells,
+		LeastUnits: c.p.Design.LeastUnits, Lost: c.lost}
 	if c.unitCol != nil {
 		s.UnitColumn = c.unitCol.Name
 		s.Units = len(c.unitOrder)
@@ -110,6 +117,9 @@ func (c *contractCheck) summary() *DesignSummary {
 //	units per cell (replicates declared: 4)
 //	  site  untreated  reference  candidate
 //	  S1    4          4          4
+//	lost units (least accepted: 3 per cell, below: stop)
+//	  site  treatment  block
+//	  S2    reference  B3
 //	levels seen (rows)
 //	  treatment  untreated 48, reference 48, candidate 48
 //	missing values
@@ -136,6 +146,9 @@ func (s *DesignSummary) WriteText(w io.Writer) error {
 			fmt.Fprintf(ew, "%s per cell (replicates not declared)\n", what)
 		}
 		s.writeCells(ew)
+	}
+	if len(s.Lost) > 0 {
+		s.writeLost(ew)
 	}
 	if len(s.Levels) > 0 {
 		fmt.Fprintln(ew, "levels seen (rows)")
@@ -195,6 +208,26 @@ func (s *DesignSummary) writeCells(w io.Writer) {
 			fmt.Fprintf(tw, "\t%d", grid[[2]string{r, c}])
 		}
 		fmt.Fprintln(tw)
+	}
+	tw.Flush()
+}
+
+// writeLost writes the lost units, one a line, with their cell levels
+// and block ("?" where the blocks do not tell).
+func (s *DesignSummary) writeLost(w io.Writer) {
+	if l := s.LeastUnits; l != nil {
+		fmt.Fprintf(w, "lost units (least accepted: %d per %s, below: %s)\n", l.Count, l.Per, l.Below)
+	} else {
+		fmt.Fprintln(w, "lost units")
+	}
+	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
+	fmt.Fprintf(tw, "  %s\tblock\n", strings.Join(s.CellColumns, "\t"))
+	for _, l := range s.Lost {
+		b := l.Block
+		if b == "" {
+			b = "?"
+		}
+		fmt.Fprintf(tw, "  %s\t%s\n", strings.Join(l.Cell, "\t"), b)
 	}
 	tw.Flush()
 }

@@ -6,6 +6,7 @@ import (
 	"math"
 	"slices"
 
+	"furrow/checker/record"
 	"furrow/checker/table"
 	"furrow/plan"
 )
@@ -20,6 +21,13 @@ type dataset struct {
 	nums    map[string][]float64 // covariate -> value per observation
 	units   []string             // experimental unit per observation ("" when none)
 	rows    []int                // file row number of the (first) source row
+	// src lists, per observation, the file row numbers of every data row
+	// behind it (one for raw; from and to for change and baseline; every
+	// row averaged for unit-mean).
+	src [][]int
+	// unused lists each row of the table that no observation uses, with
+	// the reason, in file order.
+	unused []record.UnusedRow
 	// baseline is the name of the added baseline covariate (derive: baseline).
 	baseline string
 }
@@ -47,16 +55,30 @@ func covariateNames(p *plan.Plan, t *table.Table) []string {
 	return out
 }
 
+// cellText returns the text of the named column at row i, and false when
+// the column is absent or the cell is missing.
+func cellText(t *table.Table, name string, i int) (string, bool) {
+	c := t.Column(name)
+	if c == nil || c.Missing[i] {
+		return "", false
+	}
+	return c.Text[i], true
+}
+
 // baselineName is the covariate name of the baseline value in an ANCOVA step.
 func baselineName(response, from string) string { return response + "@" + from }
 
-// derive builds the analysed outcome of a step from the kept table.
-// Observations whose response (or a used covariate) is missing are left out.
+// derive builds the analysed outcome of a step from the kept table. Rows
+// whose response, or one of the step's covariates (useCovs), is missing
+// are left out, and so are, for the per-unit outcomes, rows without a unit,
+// rows at a level of the repeat factor the outcome does not use, and (change,
+// baseline) the row of a unit that has no value at the other time point.
+// Each row left out is listed in dataset.unused with its reason.
 //
 // The transform is applied to each measured value before the derivation
 // combines them: a change on a log scale is log(to) - log(from), a log
 // ratio; a unit mean is transformed after averaging.
-func derive(p *plan.Plan, t *table.Table, response string, o plan.Outcome, tr plan.Transform) (*dataset, error) {
+func derive(p *plan.Plan, t *table.Table, response string, o plan.Outcome, tr plan.Transform, useCovs []string) (*dataset, error) {
 	f, err := transformFunc(tr)
 	if err != nil {
 		return nil, err
@@ -84,7 +106,27 @@ func derive(p *plan.Plan, t *table.Table, response string, o plan.Outcome, tr pl
 	for _, c := range covs {
 		d.nums[c] = []float64{}
 	}
+	unitOf := func(i int) string {
+		if unitCol == "" {
+			return ""
+		}
+		u, _ := t.Text(unitCol, i)
+		return u
+	}
+	unused := func(i int, reason, column string) {
+		d.unused = append(d.unused, record.UnusedRow{Row: t.RowNumber(i), Unit: unitOf(i), Reason: reason, Column: column})
+	}
+	// missingCov returns the first of the step's covariates missing in row i.
+	missingCov := func(i int) string {
+		for _, c := range useCovs {
+			if v, ok := t.Float(c, i); !ok || math.IsNaN(v) {
+				return c
+			}
+		}
+		return ""
+	}
 	addRow := func(i int, raw, y float64) {
+		d.src = append(d.src, []int{t.RowNumber(i)})
 		d.raw = append(d.raw, raw)
 		d.y = append(d.y, y)
 		for _, f := range facs {
@@ -108,7 +150,12 @@ func derive(p *plan.Plan, t *table.Table, response string, o plan.Outcome, tr pl
 	switch o.Derive {
 	case plan.DeriveRaw, "":
 		for i := 0; i < t.NumRows(); i++ {
-			if present(i) {
+			switch c := missingCov(i); {
+			case !present(i):
+				unused(i, record.UnusedMissingResponse, "")
+			case c != "":
+				unused(i, record.UnusedMissingCovariate, c)
+			default:
 				addRow(i, ycol.Num[i], fx(ycol.Num[i], t.RowNumber(i)))
 			}
 		}
@@ -119,18 +166,23 @@ func derive(p *plan.Plan, t *table.Table, response string, o plan.Outcome, tr pl
 		from, to := map[string]int{}, map[string]int{}
 		var order []string
 		for i := 0; i < t.NumRows(); i++ {
-			if !present(i) {
-				continue
-			}
-			u, _ := t.Text(unitCol, i)
-			lv, _ := t.Text(repeat.Name, i)
+			u, okU := cellText(t, unitCol, i)
+			lv, okT := cellText(t, repeat.Name, i)
 			var m map[string]int
-			switch lv {
-			case o.From:
+			switch {
+			case !okU:
+				unused(i, record.UnusedMissingUnit, unitCol)
+				continue
+			case okT && lv == o.From:
 				m = from
-			case o.To:
+			case okT && lv == o.To:
 				m = to
 			default:
+				unused(i, record.UnusedOtherTime, repeat.Name)
+				continue
+			}
+			if !present(i) {
+				unused(i, record.UnusedMissingResponse, "")
 				continue
 			}
 			if _, dup := m[u]; dup {
@@ -147,7 +199,18 @@ func derive(p *plan.Plan, t *table.Table, response string, o plan.Outcome, tr pl
 		for _, u := range order {
 			i, okTo := to[u]
 			j, okFrom := from[u]
-			if !okTo || !okFrom {
+			switch {
+			case !okTo:
+				unused(j, record.UnusedNoSecondTime, repeat.Name)
+				continue
+			case !okFrom:
+				unused(i, record.UnusedNoSecondTime, repeat.Name)
+				continue
+			}
+			// The observation takes its covariates from the end-point row.
+			if c := missingCov(i); c != "" {
+				unused(j, record.UnusedMissingCovariate, c)
+				unused(i, record.UnusedMissingCovariate, c)
 				continue
 			}
 			yt, yf := fx(ycol.Num[i], t.RowNumber(i)), fx(ycol.Num[j], t.RowNumber(j))
@@ -157,6 +220,8 @@ func derive(p *plan.Plan, t *table.Table, response string, o plan.Outcome, tr pl
 				addRow(i, ycol.Num[i], yt)
 				base = append(base, yf)
 			}
+			g := len(d.src) - 1
+			d.src[g] = []int{t.RowNumber(min(i, j)), t.RowNumber(max(i, j))}
 		}
 		delete(d.factors, repeat.Name)
 		if o.Derive == plan.DeriveBaseline {
@@ -172,16 +237,27 @@ func derive(p *plan.Plan, t *table.Table, response string, o plan.Outcome, tr pl
 		var sums []float64
 		var counts []int
 		for i := 0; i < t.NumRows(); i++ {
-			if !present(i) {
+			u, okU := cellText(t, unitCol, i)
+			if !okU {
+				unused(i, record.UnusedMissingUnit, unitCol)
 				continue
 			}
-			u, _ := t.Text(unitCol, i)
 			lv := ""
 			if repeat != nil {
-				lv, _ = t.Text(repeat.Name, i)
-				if o.At != "" && lv != o.At {
+				var okT bool
+				lv, okT = cellText(t, repeat.Name, i)
+				if o.At != "" && (!okT || lv != o.At) {
+					unused(i, record.UnusedOtherTime, repeat.Name)
 					continue
 				}
+			}
+			if !present(i) {
+				unused(i, record.UnusedMissingResponse, "")
+				continue
+			}
+			if c := missingCov(i); c != "" {
+				unused(i, record.UnusedMissingCovariate, c)
+				continue
 			}
 			k := key{u, lv}
 			g, ok := idx[k]
@@ -191,6 +267,8 @@ func derive(p *plan.Plan, t *table.Table, response string, o plan.Outcome, tr pl
 				sums = append(sums, 0)
 				counts = append(counts, 0)
 				addRow(i, 0, 0)
+			} else {
+				d.src[g] = append(d.src[g], t.RowNumber(i))
 			}
 			sums[g] += ycol.Num[i]
 			counts[g]++
@@ -208,6 +286,7 @@ func derive(p *plan.Plan, t *table.Table, response string, o plan.Outcome, tr pl
 	if terr != nil {
 		return nil, terr
 	}
+	slices.SortFunc(d.unused, func(a, b record.UnusedRow) int { return a.Row - b.Row })
 	if len(d.raw) == 0 {
 		return nil, errors.New("no observations left after derivation")
 	}

@@ -16,6 +16,20 @@
 // recorded with a Reason code and the plan position of the rule that
 // caused it; nothing the plan does not declare is run.
 //
+// # Lost units and rows
+//
+// Before the cascades, the units the exclusions removed whole are judged,
+// with those missing from the data, by the plan's design.least-units
+// (contract.CheckKept): below its count with below: stop, Run returns a
+// DataError; otherwise every lost unit is listed in Result.LostUnits. Each
+// fitted step accounts for every row read: StepResult.Rows are the rows
+// behind its N observations, StepResult.Unused every other row with its
+// reason (excluded by a rule, missing response, missing covariate of the
+// step, missing unit or another time point for a per-unit outcome, a unit
+// without its second time point, a block a friedman or paired signed-rank
+// test left out), so Rows + len(Unused) = Inputs.Rows; the endpoint's
+// RowsAnalysed is the reported step's Rows.
+//
 // # Linear and mixed steps
 //
 // The fixed part uses sum-to-zero coding, so Type III tests are the

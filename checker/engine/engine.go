@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"os"
 	"path/filepath"
+	"slices"
 	"strings"
 	"time"
 
@@ -48,6 +49,9 @@ func (e *DataError) Error() string {
 		if d.Severity == plan.Error {
 			n++
 		}
+	}
+	if n == 1 {
+		return "the data do not meet the plan (1 error)"
 	}
 	return fmt.Sprintf("the data do not meet the plan (%d errors)", n)
 }
@@ -149,14 +153,45 @@ func Run(opt RunOptions) (*record.Result, error) {
 		r.Exclusions = []record.ExcludedRow{}
 	}
 	r.ExclusionRules = rules
-	r.Inputs.RowsAnalysed = kept.NumRows()
+	r.Inputs.RowsKept = kept.NumRows()
+	// Units the exclusions removed whole are lost units too, judged by the
+	// plan's least-units as those missing from the file.
+	kdiags, lost := contract.CheckKept(p, t, goneUnits(kept, excl, unitColumn(p)))
+	if kdiags.HasErrors() {
+		return nil, &DataError{Diagnostics: kdiags}
+	}
+	for _, d := range kdiags {
+		r.DataWarnings = append(r.DataWarnings, record.Finding{Severity: d.Severity.String(), Code: d.Code, Pos: posText(d.Pos), Summary: d.Summary})
+	}
+	r.LostUnits = []record.LostUnit{}
+	for _, l := range lost {
+		r.LostUnits = append(r.LostUnits, record.LostUnit{Cell: l.Cell, Block: l.Block, Unit: l.Unit, Rule: l.Rule})
+	}
 
 	eng := NewCascade()
 	for i := range p.Endpoints {
-		r.Endpoints = append(r.Endpoints, eng.RunEndpoint(p, kept, &p.Endpoints[i]))
+		er := eng.RunEndpoint(p, kept, &p.Endpoints[i])
+		withExcluded(&er, r.Exclusions)
+		r.Endpoints = append(r.Endpoints, er)
 	}
 	r.PlanPaths = planPaths(p, r)
 	return r, nil
+}
+
+// withExcluded adds the rows the exclusions removed to the unused rows of
+// every fitted step, so that each step accounts for every row read.
+func withExcluded(er *record.EndpointResult, excl []record.ExcludedRow) {
+	for k := range er.Steps {
+		s := &er.Steps[k]
+		if s.Fit == nil {
+			s.Unused = []record.UnusedRow{}
+			continue
+		}
+		for _, x := range excl {
+			s.Unused = append(s.Unused, record.UnusedRow{Row: x.Row, Unit: x.Unit, Reason: record.UnusedExcluded, Rule: x.Rule})
+		}
+		slices.SortStableFunc(s.Unused, func(a, b record.UnusedRow) int { return a.Row - b.Row })
+	}
 }
 
 // registrationRef reads the plan's registration record, if any, and
@@ -301,6 +336,25 @@ func posText(p plan.Pos) string {
 	return p.String()
 }
 
+// goneUnits returns the units of the excluded rows that have no row in kept, each with
+// the rule that removed its first row.
+func goneUnits(kept *table.Table, excl []record.ExcludedRow, unitCol string) map[string]string {
+	if unitCol == "" {
+		return nil
+	}
+	left := map[string]bool{}
+	for _, u := range kept.Texts(unitCol) {
+		left[u] = true
+	}
+	gone := map[string]string{}
+	for _, x := range excl {
+		if _, seen := gone[x.Unit]; !seen && !left[x.Unit] && x.Unit != "" {
+			gone[x.Unit] = x.Rule
+		}
+	}
+	return gone
+}
+
 // designSeen copies the parts of a design summary that do not depend on
 // where the files are (the summary's Data path is left out).
 func designSeen(s *contract.DesignSummary) *record.DesignSeen {
@@ -309,6 +363,9 @@ func designSeen(s *contract.DesignSummary) *record.DesignSeen {
 	}
 	d := &record.DesignSeen{Rows: s.Rows, Units: s.Units, UnitColumn: s.UnitColumn, CellColumns: append([]string{}, s.CellColumns...),
 		Replicates: s.Replicates, Cells: []record.CellSeen{}, Missing: []record.MissingSeen{}}
+	if l := s.LeastUnits; l != nil {
+		d.LeastUnits = &record.LeastUnitsSeen{Per: l.Per, Count: l.Count, Below: l.Below, Pos: posText(l.Pos)}
+	}
 	for _, c := range s.Cells {
 		d.Cells = append(d.Cells, record.CellSeen{Levels: append([]string{}, c.Levels...), Units: c.Units})
 	}

@@ -3,6 +3,7 @@ package engine
 import (
 	"fmt"
 	"math"
+	"slices"
 	"strings"
 
 	"furrow/checker/method"
@@ -24,6 +25,34 @@ type fitted struct {
 	rankLike  bool       // rank and Welch steps: hypotheses by pairwise tests
 	compare   string
 	residOnly bool // no residuals (rank tests): checks use the analysed values
+	// dropped are the observations of ds the model (or test) left out,
+	// with why (record.UnusedIncompleteBlock) and the column concerned.
+	dropped       []int
+	droppedReason string
+	droppedColumn string
+}
+
+// rowsUsed returns the data rows behind the observations the fit used and
+// every row of the analysed table it did not use (derive's unused rows
+// and the rows of dropped observations), in file order.
+func (f *fitted) rowsUsed() (int, []record.UnusedRow) {
+	unused := append([]record.UnusedRow{}, f.ds.unused...)
+	drop := map[int]bool{}
+	for _, g := range f.dropped {
+		drop[g] = true
+	}
+	rows := 0
+	for g, src := range f.ds.src {
+		if !drop[g] {
+			rows += len(src)
+			continue
+		}
+		for _, r := range src {
+			unused = append(unused, record.UnusedRow{Row: r, Unit: f.ds.units[g], Reason: f.droppedReason, Column: f.droppedColumn})
+		}
+	}
+	slices.SortFunc(unused, func(a, b record.UnusedRow) int { return a.Row - b.Row })
+	return rows, unused
 }
 
 // fitFunc fits one model kind.
@@ -57,7 +86,7 @@ func (e *Cascade) RunEndpoint(p *plan.Plan, kept *table.Table, ep *plan.Endpoint
 	for i, s := range ep.Steps {
 		index[s.ID] = i
 		er.Steps = append(er.Steps, record.StepResult{ID: s.ID, Pos: posText(s.Pos), Model: modelSpec(ep, &ep.Steps[i]),
-			Checks:   notRunChecks(&ep.Steps[i]),
+			Checks: notRunChecks(&ep.Steps[i]), Unused: []record.UnusedRow{},
 			Decision: record.Decision{Action: record.ActionSkip, Reason: record.ReasonNotReached, Detail: "the cascade did not reach this step"}})
 	}
 	var reported *fitted
@@ -87,6 +116,7 @@ func (e *Cascade) RunEndpoint(p *plan.Plan, kept *table.Table, ep *plan.Endpoint
 			continue
 		}
 		sr.N = f.n
+		sr.Rows, sr.Unused = f.rowsUsed()
 		sum := f.summary
 		sr.Fit = &sum
 		sr.Figures = figureData(f)
@@ -170,6 +200,7 @@ func (e *Cascade) RunEndpoint(p *plan.Plan, kept *table.Table, ep *plan.Endpoint
 		if reported != nil {
 			sr.Results = f.detail
 			er.Reported = s.ID
+			er.RowsAnalysed = sr.Rows
 			break
 		}
 		cur = next
@@ -204,7 +235,7 @@ func (e *Cascade) fitStep(p *plan.Plan, kept *table.Table, ep *plan.Endpoint, s 
 			f, err = nil, fmt.Errorf("internal error while fitting: %v", v)
 		}
 	}()
-	ds, err := derive(p, kept, ep.Response, s.Outcome, s.Transform)
+	ds, err := derive(p, kept, ep.Response, s.Outcome, s.Transform, s.Covariates)
 	if err != nil {
 		return nil, err
 	}
@@ -217,7 +248,7 @@ func (e *Cascade) fitStep(p *plan.Plan, kept *table.Table, ep *plan.Endpoint, s 
 		return nil, err
 	}
 	f.ds = ds
-	f.n = ds.n()
+	f.n = ds.n() - len(f.dropped)
 	if f.detail != nil {
 		f.detail.Scale = scaleText(ep.Response, s.Outcome, s.Transform)
 	}

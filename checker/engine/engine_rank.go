@@ -284,8 +284,9 @@ func strataOf(p *plan.Plan, y []float64, g, levels, st []string, within string) 
 
 // blockTable arranges the values as blocks x levels with one value per
 // cell, for the Friedman and paired signed-rank tests. Blocks that lack a
-// level are left out and counted; a cell with two values is an error.
-func blockTable(p *plan.Plan, y []float64, g, levels, b []string, within, compare string) (table [][]float64, blocks []string, incomplete int, err error) {
+// level are left out and returned in left; a cell with two values is an
+// error.
+func blockTable(p *plan.Plan, y []float64, g, levels, b []string, within, compare string) (table [][]float64, blocks, left []string, err error) {
 	bl := levelsFor(p, within, b)
 	bi := make(map[string]int, len(bl))
 	for i, l := range bl {
@@ -308,7 +309,7 @@ func blockTable(p *plan.Plan, y []float64, g, levels, b []string, within, compar
 		}
 		k := bi[b[i]]
 		if seen[k][j] {
-			return nil, nil, 0, fmt.Errorf("%s %q has more than one value at %s %q; the test needs one value per %s and level (derive unit-mean first)",
+			return nil, nil, nil, fmt.Errorf("%s %q has more than one value at %s %q; the test needs one value per %s and level (derive unit-mean first)",
 				within, b[i], compare, g[i], within)
 		}
 		seen[k][j] = true
@@ -316,13 +317,25 @@ func blockTable(p *plan.Plan, y []float64, g, levels, b []string, within, compar
 	}
 	for k := range cells {
 		if slices.Contains(seen[k], false) {
-			incomplete++
+			left = append(left, bl[k])
 			continue
 		}
 		table = append(table, cells[k])
 		blocks = append(blocks, bl[k])
 	}
-	return table, blocks, incomplete, nil
+	return table, blocks, left, nil
+}
+
+// leftOut returns the observations whose block is in left (the blocks a
+// blocked rank test left out).
+func leftOut(b, left []string) []int {
+	var out []int
+	for i, v := range b {
+		if slices.Contains(left, v) {
+			out = append(out, i)
+		}
+	}
+	return out
 }
 
 // fitFriedman runs Friedman's (1937, JASA 32:675) test of compare within
@@ -337,7 +350,7 @@ func fitFriedman(p *plan.Plan, _ *plan.Endpoint, s *plan.Step, ds *dataset) (*fi
 		return nil, err
 	}
 	levels := levelsFor(p, s.Compare, g)
-	table, blocks, incomplete, err := blockTable(p, ds.y, g, levels, b, s.Within, s.Compare)
+	table, blocks, left, err := blockTable(p, ds.y, g, levels, b, s.Within, s.Compare)
 	if err != nil {
 		return nil, fmt.Errorf("friedman test: %w", err)
 	}
@@ -346,8 +359,10 @@ func fitFriedman(p *plan.Plan, _ *plan.Endpoint, s *plan.Step, ds *dataset) (*fi
 		return nil, fmt.Errorf("friedman test of %s within %s: %w", s.Compare, s.Within, err)
 	}
 	resid, fit := medianSweep(ds.y, b, g)
-	return rankFitted(p, s, ds, "friedman", record.GlobalTest{Method: fmt.Sprintf("friedman, tie-corrected, chi-squared, %s", blocksText(len(blocks), incomplete, s.Within)),
-		Statistic: record.Num(r.Stat), DF: []record.Num{record.Num(r.DF)}, P: record.Num(r.P)}, resid, fit), nil
+	f := rankFitted(p, s, ds, "friedman", record.GlobalTest{Method: fmt.Sprintf("friedman, tie-corrected, chi-squared, %s", blocksText(len(blocks), len(left), s.Within)),
+		Statistic: record.Num(r.Stat), DF: []record.Num{record.Num(r.DF)}, P: record.Num(r.P)}, resid, fit)
+	f.dropped, f.droppedReason, f.droppedColumn = leftOut(b, left), record.UnusedIncompleteBlock, s.Within
+	return f, nil
 }
 
 func blocksText(used, incomplete int, within string) string {
@@ -362,7 +377,7 @@ func blocksText(used, incomplete int, within string) string {
 // (derive: baseline), or, with compare and within, the value at the first
 // level of compare minus the value at the second within each level of
 // within (paired).
-func signedRankData(p *plan.Plan, s *plan.Step, ds *dataset) (d []float64, what string, err error) {
+func signedRankData(p *plan.Plan, s *plan.Step, ds *dataset) (d []float64, what string, left []string, err error) {
 	if s.Compare == "" {
 		if ds.baseline != "" {
 			base := ds.nums[ds.baseline]
@@ -370,36 +385,36 @@ func signedRankData(p *plan.Plan, s *plan.Step, ds *dataset) (d []float64, what 
 			for i := range d {
 				d[i] = ds.y[i] - base[i]
 			}
-			return d, "outcome minus baseline, H0 median 0", nil
+			return d, "outcome minus baseline, H0 median 0", nil, nil
 		}
-		return slices.Clone(ds.y), "one sample, H0 median 0", nil
+		return slices.Clone(ds.y), "one sample, H0 median 0", nil, nil
 	}
 	g, err := rankFactor(ds, s.Compare, "compare")
 	if err != nil {
-		return nil, "", err
+		return nil, "", nil, err
 	}
 	b, err := rankFactor(ds, s.Within, "within")
 	if err != nil {
-		return nil, "", err
+		return nil, "", nil, err
 	}
 	levels := levelsFor(p, s.Compare, g)
 	if len(levels) != 2 {
-		return nil, "", fmt.Errorf("the paired signed-rank test compares two levels of %s, but the analysed data have %d", s.Compare, len(levels))
+		return nil, "", nil, fmt.Errorf("the paired signed-rank test compares two levels of %s, but the analysed data have %d", s.Compare, len(levels))
 	}
-	table, blocks, incomplete, err := blockTable(p, ds.y, g, levels, b, s.Within, s.Compare)
+	table, blocks, left, err := blockTable(p, ds.y, g, levels, b, s.Within, s.Compare)
 	if err != nil {
-		return nil, "", err
+		return nil, "", nil, err
 	}
 	for _, row := range table {
 		d = append(d, row[0]-row[1])
 	}
-	return d, fmt.Sprintf("paired, %s minus %s within %s, %s", levels[0], levels[1], s.Within, blocksText(len(blocks), incomplete, s.Within)), nil
+	return d, fmt.Sprintf("paired, %s minus %s within %s, %s", levels[0], levels[1], s.Within, blocksText(len(blocks), len(left), s.Within)), left, nil
 }
 
 // fitSignedRank runs Wilcoxon's (1945, Biometrics Bull 1:80) signed-rank
 // test (see signedRankData for what is tested).
 func fitSignedRank(p *plan.Plan, _ *plan.Endpoint, s *plan.Step, ds *dataset) (*fitted, error) {
-	d, what, err := signedRankData(p, s, ds)
+	d, what, left, err := signedRankData(p, s, ds)
 	if err != nil {
 		return nil, fmt.Errorf("signed-rank test: %w", err)
 	}
@@ -420,6 +435,10 @@ func fitSignedRank(p *plan.Plan, _ *plan.Endpoint, s *plan.Step, ds *dataset) (*
 	} else {
 		resid, fit = medianSweep(ds.y, ds.factors[s.Within], ds.factors[s.Compare])
 	}
-	return rankFitted(p, s, ds, "signed-rank", record.GlobalTest{Method: fmt.Sprintf("wilcoxon signed-rank, V, %s, %s", what, how),
-		Statistic: record.Num(r.V), DF: []record.Num{}, P: record.Num(r.P)}, resid, fit), nil
+	f := rankFitted(p, s, ds, "signed-rank", record.GlobalTest{Method: fmt.Sprintf("wilcoxon signed-rank, V, %s, %s", what, how),
+		Statistic: record.Num(r.V), DF: []record.Num{}, P: record.Num(r.P)}, resid, fit)
+	if len(left) > 0 {
+		f.dropped, f.droppedReason, f.droppedColumn = leftOut(ds.factors[s.Within], left), record.UnusedIncompleteBlock, s.Within
+	}
+	return f, nil
 }

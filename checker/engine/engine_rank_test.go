@@ -144,6 +144,7 @@ columns:
 design:
   layout: multi-site
   replicates: 4
+  least-units: {per: cell, count: 3, below: stop}
 endpoints:
   - id: density
     response: juveniles

@@ -58,6 +58,7 @@ columns:
 design:
   layout: crd
   replicates: 10
+  least-units: {per: cell, count: 9, below: stop}
 endpoints:
   - id: weight
     response: weight

@@ -39,6 +39,7 @@ columns:
 design:
   layout: crd
   replicates: 6
+  least-units: {per: cell, count: 5, below: stop}
 exclusions:
   - id: listed
     drop: unit
@@ -166,14 +167,14 @@ func TestCascadePaths(t *testing.T) {
 					t.Errorf("step %s: results present = %v", s.ID, s.Results != nil)
 				}
 			}
-			if s := ep.Steps[0]; s.Decision.Reason == record.ReasonCheckFailed && (s.Decision.Next != "second" || !strings.HasPrefix(s.Decision.Rule, "plan.yaml:40:")) {
+			if s := ep.Steps[0]; s.Decision.Reason == record.ReasonCheckFailed && (s.Decision.Next != "second" || !strings.HasPrefix(s.Decision.Rule, "plan.yaml:41:")) {
 				t.Errorf("fallback decision %+v", s.Decision)
 			}
 			if len(ep.Hypotheses) != 1 || len(ep.Hypotheses[0].Comparisons) != 2 || ep.Hypotheses[0].Step != c.reported {
 				t.Fatalf("hypotheses %+v", ep.Hypotheses)
 			}
-			if r.Inputs.Rows != 18 || r.Inputs.RowsAnalysed != 17 || len(r.Exclusions) != 1 || r.Exclusions[0].Rule != "listed" {
-				t.Errorf("exclusions: rows %d analysed %d %+v", r.Inputs.Rows, r.Inputs.RowsAnalysed, r.Exclusions)
+			if r.Inputs.Rows != 18 || r.Inputs.RowsKept != 17 || len(r.Exclusions) != 1 || r.Exclusions[0].Rule != "listed" {
+				t.Errorf("exclusions: rows %d kept %d %+v", r.Inputs.Rows, r.Inputs.RowsKept, r.Exclusions)
 			}
 			if ep.Steps[0].N != 17 {
 				t.Errorf("n = %d, want 17", ep.Steps[0].N)

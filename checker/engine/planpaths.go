@@ -32,6 +32,12 @@ func planPaths(p *plan.Plan, r *record.Result) map[string]string {
 	for _, f := range r.DataWarnings {
 		use(f.Pos)
 	}
+	for _, f := range r.PlanWarnings {
+		use(f.Pos)
+	}
+	if r.Design != nil && r.Design.LeastUnits != nil {
+		use(r.Design.LeastUnits.Pos)
+	}
 	for _, x := range r.Exclusions {
 		use(x.RulePos)
 	}

@@ -46,6 +46,11 @@ type Result struct {
 	// PlanWarnings are the plan's lint warnings, carried into the run so
 	// that the record shows what the analyst registered despite them.
 	PlanWarnings []Finding `json:"plan_warnings"`
+	// LostUnits lists the units the design declares that the analysis
+	// does not have (no row in the data, or every row removed by a
+	// declared exclusion), in cell order; empty when none is lost or the
+	// plan declares no least-units.
+	LostUnits []LostUnit `json:"lost_units"`
 	// DataWarnings are the data-contract warnings carried into the run
 	// (errors stop the run before a record is written).
 	DataWarnings []Finding `json:"data_warnings"`
@@ -116,8 +121,10 @@ type Inputs struct {
 	Rows int `json:"rows"`
 	// Columns are the column names of the table, in file order.
 	Columns []string `json:"columns"`
-	// RowsAnalysed is Rows minus the rows removed by exclusions.
-	RowsAnalysed int `json:"rows_analysed"`
+	// RowsKept is Rows minus the rows removed by exclusions. The rows
+	// each step used are in StepResult.Rows, those of the reported step in
+	// EndpointResult.RowsAnalysed.
+	RowsKept int `json:"rows_kept"`
 }
 
 // DataAsDeclared reports whether the file analysed is the plan's
@@ -211,6 +218,10 @@ type EndpointResult struct {
 	// accepted step, or the last-resort step whose assumptions were unmet);
 	// empty when Status is EndpointFailed.
 	Reported string `json:"reported"`
+	// RowsAnalysed is the number of data rows the reported step used (its
+	// StepResult.Rows): rows analysed plus that step's unused rows is
+	// Inputs.Rows. 0 when no step is reported.
+	RowsAnalysed int `json:"rows_analysed"`
 	// Steps are all declared steps in plan order; steps that were not
 	// reached carry the decision ReasonNotReached.
 	Steps []StepResult `json:"steps"`
@@ -228,8 +239,24 @@ type StepResult struct {
 	// Executed is false for a step the cascade did not reach.
 	Executed bool      `json:"executed"`
 	Model    ModelSpec `json:"model"`
-	// N is the number of observations the model was fitted to.
+	// N is the number of observations the step's model (or global test)
+	// used: data rows for a raw outcome; units for change and baseline
+	// outcomes (one observation per unit, from its rows at from and to);
+	// units (or unit and time) for unit-mean, one mean per unit of its
+	// sub-samples. Friedman and paired signed-rank tests leave out the
+	// blocks that lack a level of the compared factor (their comparisons,
+	// stratified two-sample tests, use every observation of the two
+	// levels). Zero when the step was not reached or not fitted.
 	N int `json:"n"`
+	// Rows is the number of data rows behind those N observations: N for
+	// a raw outcome, two per unit for change and baseline, the rows
+	// averaged for unit-mean (a row averaged into a unit mean is used).
+	// Rows plus len(Unused) is Inputs.Rows, the rows read.
+	Rows int `json:"rows"`
+	// Unused lists, in file order, every row read that the step did not
+	// use, with the reason (UnusedExcluded ... UnusedIncompleteBlock);
+	// empty when the step was not reached or not fitted.
+	Unused []UnusedRow `json:"unused"`
 	// Fit is the fit summary; nil when the step was not reached or failed to fit.
 	Fit *FitSummary `json:"fit"`
 	// Error is the fit error when the model could not be fitted.
@@ -243,6 +270,46 @@ type StepResult struct {
 	// Figures is the data behind the diagnostic figures; present only on
 	// executed steps that were fitted.
 	Figures *DiagnosticData `json:"figures"`
+}
+
+// Why a data row was not used by a step (UnusedRow.Reason).
+const (
+	// UnusedExcluded: a declared exclusion rule (Rule) removed the row.
+	UnusedExcluded = "excluded"
+	// UnusedMissingResponse: the row's response is missing.
+	UnusedMissingResponse = "missing-response"
+	// UnusedMissingCovariate: a covariate of the step (Column) is missing
+	// in the row (for change and baseline outcomes, in the unit's row at to).
+	UnusedMissingCovariate = "missing-covariate"
+	// UnusedMissingUnit: a per-unit outcome (change, baseline, unit-mean)
+	// and the row names no unit (Column: the unit column).
+	UnusedMissingUnit = "missing-unit"
+	// UnusedNoSecondTime: a change or baseline outcome and the row's unit
+	// has no value at the other time point (Column: the repeat column).
+	UnusedNoSecondTime = "no-second-time"
+	// UnusedOtherTime: the row is at a level of the repeat factor
+	// (Column) the outcome does not use (not from or to; not at).
+	UnusedOtherTime = "other-time"
+	// UnusedIncompleteBlock: a friedman or paired signed-rank test left
+	// out the row's block (Column: the within column), which lacks a level
+	// of the compared factor.
+	UnusedIncompleteBlock = "incomplete-block"
+)
+
+// UnusedRow is one data row a step did not use.
+type UnusedRow struct {
+	// Row is the row number a user sees in the file (header = row 1).
+	Row int `json:"row"`
+	// Unit is the row's experimental unit ("" when the plan has no unit
+	// column or the row names none).
+	Unit string `json:"unit"`
+	// Reason is one of the Unused... codes.
+	Reason string `json:"reason"`
+	// Rule is the exclusion rule (UnusedExcluded); "" otherwise.
+	Rule string `json:"rule"`
+	// Column is the column the reason concerns (the covariate, the unit,
+	// the repeat or the within column); "" otherwise.
+	Column string `json:"column"`
 }
 
 // ModelSpec is the model of a step, as text and structured.
@@ -634,10 +701,42 @@ type DesignSeen struct {
 	CellColumns []string `json:"cell_columns"`
 	// Replicates is design.replicates (0 when not declared).
 	Replicates int `json:"replicates"`
+	// LeastUnits is design.least-units (nil when not declared).
+	LeastUnits *LeastUnitsSeen `json:"least_units"`
 	// Cells are the units per combination of the cell columns' levels.
 	Cells []CellSeen `json:"cells"`
 	// Missing counts missing values per declared column that has any.
 	Missing []MissingSeen `json:"missing"`
+}
+
+// LeastUnitsSeen is the plan's rule for lost units, as declared.
+type LeastUnitsSeen struct {
+	// Per is "cell" or "treatment".
+	Per string `json:"per"`
+	// Count is the least number of units per cell (or treatment level).
+	Count int `json:"count"`
+	// Below is "stop" or "warn".
+	Below string `json:"below"`
+	// Pos is the plan position of the declaration (file:line:col).
+	Pos string `json:"pos"`
+}
+
+// LostUnit is one experimental unit the design declares that the
+// analysis does not have.
+type LostUnit struct {
+	// Cell is the unit's level of each DesignSeen.CellColumns entry (site
+	// first when there is one, then treatment and factors).
+	Cell []string `json:"cell"`
+	// Block is the unit's block: for a unit with no row in the data, the
+	// block that lacks a unit of the cell, when the blocks tell; "" when
+	// they do not or the plan has no block column.
+	Block string `json:"block"`
+	// Unit is the unit's identifier; "" for a unit with no row in the
+	// data (its identifier is not known).
+	Unit string `json:"unit"`
+	// Rule is the exclusion rule that removed the unit's rows (the rule of
+	// its first removed row); "" for a unit with no row in the data.
+	Rule string `json:"rule"`
 }
 
 // CellSeen is the number of units in one treatment cell.

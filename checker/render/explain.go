@@ -137,10 +137,29 @@ func designSection(p *plan.Plan) Section {
 	if p.Design.Replicates > 0 {
 		items = append(items, fmt.Sprintf("Replication: %d units per treatment combination%s.", p.Design.Replicates, perSite(p)))
 	}
+	if l := p.Design.LeastUnits; l != nil {
+		items = append(items, lostUnitsPlanText(p, l))
+	}
 	if p.Design.Subsamples > 1 {
 		items = append(items, fmt.Sprintf("Sub-samples: %d measurements per unit and time point.", p.Design.Subsamples))
 	}
 	return Section{Heading: "Experimental unit and design", Blocks: []Block{{Items: items}}}
+}
+
+// lostUnitsPlanText says in words what the plan accepts when units are lost.
+func lostUnitsPlanText(p *plan.Plan, l *plan.LeastUnits) string {
+	below := "the analysis stops before any model is fitted"
+	if l.Below == plan.BelowWarn {
+		below = "the analysis goes on, with a warning"
+	}
+	const lost = " A unit is lost when the data hold no row of it or a declared exclusion removes every row of it."
+	const listed = "is analysed as the data are, with a warning listing each lost unit with its treatment, block and site"
+	if l.Per == plan.LeastPerTreatment {
+		return fmt.Sprintf("Lost units: a treatment combination with fewer than its %d units %s; each treatment level%s must keep at least %d units over its combinations with the other factors, and below that %s.%s",
+			p.Design.Replicates, listed, perSite(p), l.Count, below, lost)
+	}
+	return fmt.Sprintf("Lost units: a treatment combination%s that keeps at least %d of its %d units %s; below %d units %s.%s",
+		perSite(p), l.Count, p.Design.Replicates, listed, l.Count, below, lost)
 }
 
 func perSite(p *plan.Plan) string {

@@ -407,6 +407,11 @@ var reportFuncs = template.FuncMap{
 		return "v-" + v.String()
 	},
 	"inc":       func(i int) int { return i + 1 },
+	"lostText":  lostUnitsText,
+	"rowsText":  rowsText,
+	"unused":    unusedText,
+	"lostWhy":   lostWhy,
+	"orDash":    orDash,
 	"peq":       pEq,
 	"answer":    answerText,
 	"terms":     hypothesisTerms,
@@ -451,7 +456,7 @@ func (rep *Report) Markdown() []byte {
 	w("| Trial | %s |\n| Plan version | %s |\n| Plan hash | `%s` |\n", mdCell(r.Trial.ID), mdCell(r.Trial.PlanVersion), r.Inputs.PlanHash)
 	w("| Registered | %s |\n", registeredText(r))
 	w("| Data | %s (`%s`)%s |\n", mdCode(r.Inputs.DataPath), r.Inputs.DataFileSHA256, otherDataText(r))
-	w("| Rows read / analysed | %d / %d |\n", r.Inputs.Rows, r.Inputs.RowsAnalysed)
+	w("| Rows read / kept after exclusions | %d / %d |\n", r.Inputs.Rows, r.Inputs.RowsKept)
 	w("| Tool | %s %s |\n\n", r.Tool.Name, r.Tool.Version)
 	for _, v := range rep.Verdicts {
 		kind := "Secondary"
@@ -506,6 +511,15 @@ func (rep *Report) Markdown() []byte {
 				}
 				w("| %s | %s | %s | %s | %s | %s | %s | %s | %s | %s |\n", id, model, n, test, fmtNum(c.Statistic), fmtP(c.P), fmtNum(c.FailBelow), c.Verdict, d, mdCell(c.Pos))
 			}
+		}
+		w("\n")
+		w("### Rows: `%s`\n\n%s\n\n", e.ID, rowsText(r, &e))
+		w("| Step | n | Rows used | Rows not used |\n| --- | --- | --- | --- |\n")
+		for _, s := range e.Steps {
+			if s.Fit == nil {
+				continue
+			}
+			w("| `%s` | %d | %d | %s |\n", s.ID, s.N, s.Rows, mdCell(unusedText(s.Unused)))
 		}
 		w("\n")
 		for _, s := range e.Steps {
@@ -567,6 +581,20 @@ func (rep *Report) Markdown() []byte {
 				parts = append(parts, fmt.Sprintf("%s %d", mdCode(m.Column), m.Missing))
 			}
 			w("Missing values: %s.\n\n", strings.Join(parts, ", "))
+		}
+	}
+	if d := r.Design; d != nil && (d.LeastUnits != nil || len(r.LostUnits) > 0) {
+		w("## Lost units\n\n%s\n\n", lostUnitsText(r))
+		if len(r.LostUnits) > 0 {
+			w("| %s | block | unit | lost because |\n|%s --- | --- | --- |\n", strings.Join(d.CellColumns, " | "), strings.Repeat(" --- |", len(d.CellColumns)))
+			for _, l := range r.LostUnits {
+				cells := make([]string, len(l.Cell))
+				for k, c := range l.Cell {
+					cells[k] = mdCell(c)
+				}
+				w("| %s | %s | %s | %s |\n", strings.Join(cells, " | "), mdCell(orDash(l.Block)), mdCell(orDash(l.Unit)), mdCell(lostWhy(l)))
+			}
+			w("\n")
 		}
 	}
 	if len(r.Exclusions) > 0 {
@@ -640,6 +668,112 @@ func otherDataText(r *record.Result) string {
 	return ", not the plan's data.file " + mdCode(r.Inputs.DataDeclared)
 }
 
+// rowsText says how many rows the reported step used of those read and
+// what its n counts.
+func rowsText(r *record.Result, e *record.EndpointResult) string {
+	var rep *record.StepResult
+	for i := range e.Steps {
+		if e.Steps[i].ID == e.Reported {
+			rep = &e.Steps[i]
+		}
+	}
+	if rep == nil {
+		return fmt.Sprintf("%d rows read; no step is reported.", r.Inputs.Rows)
+	}
+	what := "n counts rows"
+	switch rep.Model.Derive {
+	case "change", "baseline":
+		what = fmt.Sprintf("n counts units, one observation from each unit's rows at %s and %s", rep.Model.From, rep.Model.To)
+	case "unit-mean":
+		what = "n counts unit means, each from the unit's rows averaged"
+	}
+	return fmt.Sprintf("Rows analysed: %d of the %d rows read, by the reported step %s (n = %d; %s). Each step's rows used and the rows it did not use, with the reason, add up to the rows read.",
+		e.RowsAnalysed, r.Inputs.Rows, rep.ID, rep.N, what)
+}
+
+// maxRowsListed is the most row numbers the report lists per reason.
+const maxRowsListed = 10
+
+// unusedText groups a step's unused rows by reason: "excluded by
+// no-baseline: rows 48, 49; missing response: rows 87, 113, 133".
+func unusedText(us []record.UnusedRow) string {
+	if len(us) == 0 {
+		return "none"
+	}
+	var keys []string
+	rows := map[string][]int{}
+	for _, u := range us {
+		k := strings.ReplaceAll(u.Reason, "-", " ")
+		switch {
+		case u.Reason == record.UnusedExcluded:
+			k = "excluded by " + u.Rule
+		case u.Column != "" && u.Reason == record.UnusedMissingCovariate:
+			k = "missing " + u.Column
+		case u.Reason == record.UnusedIncompleteBlock:
+			k = "incomplete " + u.Column
+		}
+		if rows[k] == nil {
+			keys = append(keys, k)
+		}
+		rows[k] = append(rows[k], u.Row)
+	}
+	var parts []string
+	for _, k := range keys {
+		rs := rows[k]
+		var nums []string
+		for i, r := range rs {
+			if i == maxRowsListed {
+				nums = append(nums, fmt.Sprintf("and %d more", len(rs)-maxRowsListed))
+				break
+			}
+			nums = append(nums, strconv.Itoa(r))
+		}
+		parts = append(parts, fmt.Sprintf("%s: %s %s", k, plural(len(rs), "row", "rows"), strings.Join(nums, ", ")))
+	}
+	return strings.Join(parts, "; ")
+}
+
+// lostUnitsText says what the plan accepts when units are lost and how
+// many were: "The plan accepts at least 3 units per cell (below that the
+// run stops; plan.yaml:51:16). 1 unit is lost; the analysis went on with
+// the units left."
+func lostUnitsText(r *record.Result) string {
+	var b strings.Builder
+	if l := r.Design.LeastUnits; l != nil {
+		below := "the run stops"
+		if l.Below == "warn" {
+			below = "the analysis goes on with a warning"
+		}
+		per := "per cell"
+		if l.Per == "treatment" {
+			per = "per treatment level"
+		}
+		fmt.Fprintf(&b, "The plan accepts at least %d %s %s (below that %s; %s). ", l.Count, plural(l.Count, "unit", "units"), per, below, l.Pos)
+	}
+	switch n := len(r.LostUnits); n {
+	case 0:
+		b.WriteString("No unit is lost.")
+	default:
+		fmt.Fprintf(&b, "%d %s lost; the analysis went on with the units left.", n, plural(n, "unit is", "units are"))
+	}
+	return b.String()
+}
+
+// lostWhy says why a unit is lost.
+func lostWhy(l record.LostUnit) string {
+	if l.Rule != "" {
+		return "exclusion " + l.Rule + " removed its rows"
+	}
+	return "no row in the data"
+}
+
+func plural(n int, one, many string) string {
+	if n == 1 {
+		return one
+	}
+	return many
+}
+
 func registeredText(r *record.Result) string {
 	switch {
 	case r.Unregistered:
@@ -674,8 +808,10 @@ func mdCell(s string) string {
 			esc = unicode.IsLetter(next) || next == '#'
 		case '!': // an image
 			esc = next == '['
-		case '#', '>', '-', '+', '=': // a heading, quote, list or rule when it leads
+		case '>': // a quote when it leads
 			esc = i == 0
+		case '#', '-', '+': // a heading or a list item when it leads, with a space after
+			esc = i == 0 && (next == ' ' || next == '\t')
 		case '\n', '\r':
 			b.WriteByte(' ')
 			continue

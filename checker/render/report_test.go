@@ -19,7 +19,7 @@ func syntheticResult() *record.Result {
 		Format: record.AuditFormat,
 		Tool:   record.ToolInfo{Name: "furrow", Version: "test"},
 		Trial:  record.TrialInfo{ID: "T-1", Title: "A <small> trial & test", PlanVersion: "1.0"},
-		Inputs: record.Inputs{PlanHash: "sha256:abc", DataPath: "data.csv", Rows: 12, RowsAnalysed: 12, Columns: []string{"g", "y"}},
+		Inputs: record.Inputs{PlanHash: "sha256:abc", DataPath: "data.csv", Rows: 12, RowsKept: 12, Columns: []string{"g", "y"}},
 		Endpoints: []record.EndpointResult{{
 			ID: "yield", Response: "y", Primary: true, Alpha: 0.05, Status: record.EndpointAccepted, Reported: "ranks",
 			Steps: []record.StepResult{

@@ -25,7 +25,7 @@ columns:
   - {name: plot, role: unit}
   - {name: trt, role: treatment, levels: [C, A, B], control: C}
   - {name: y, role: response}
-design: {layout: crd, replicates: 5}
+design: {layout: crd, replicates: 5, least-units: {per: cell, count: 4, below: stop}}
 endpoints:
   - id: e
     response: y

@@ -44,6 +44,7 @@ columns:
 design:
   layout: crd
   replicates: 6
+  least-units: {per: cell, count: 5, below: stop}
 exclusions:
   - id: listed
     drop: unit
@@ -182,6 +183,7 @@ columns:
 design:
   layout: multi-site
   replicates: 4
+  least-units: {per: cell, count: 3, below: stop}
 endpoints:
   - id: density
     response: juveniles

@@ -43,7 +43,7 @@ func TestVerifyCatchesEdits(t *testing.T) {
 	}{
 		{"decision", `"reason": "checks-passed"`, `"reason": "no-checks"`, "endpoints[0].steps[1].decision.reason"},
 		{"verdict", `"verdict": "fail"`, `"verdict": "pass"`, "endpoints[0].steps[0].checks[0].verdict"},
-		{"count", `"rows_analysed": 17`, `"rows_analysed": 18`, "inputs.rows_analysed"},
+		{"count", `"rows_kept": 17`, `"rows_kept": 18`, "inputs.rows_kept"},
 		{"hash", `"table_hash": "sha256:`, `"table_hash": "sha256:0`, "inputs.table_hash"},
 	}
 	for _, e := range edits {

@@ -161,7 +161,15 @@ type design struct {
 	Replicates  int          `json:"replicates"` // declared; 0 = not declared
 	CellColumns []string     `json:"cell_columns"`
 	Cells       []designCell `json:"cells"`
+	Lost        []lostUnit   `json:"lost"`
 	Missing     []missing    `json:"missing"`
+}
+
+// lostUnit is a unit a cell lacks in the data (fewer units than declared),
+// with its cell levels and its block ("" when the blocks do not tell).
+type lostUnit struct {
+	Cell  []string `json:"cell"`
+	Block string   `json:"block"`
 }
 
 // designCell is the number of units in one combination of cell levels.
@@ -189,7 +197,11 @@ func (e *env) newDesign(s *checker.DesignSummary) *design {
 		Replicates:  s.Replicates,
 		CellColumns: append([]string{}, s.CellColumns...),
 		Cells:       []designCell{},
+		Lost:        []lostUnit{},
 		Missing:     []missing{},
+	}
+	for _, l := range s.Lost {
+		d.Lost = append(d.Lost, lostUnit{Cell: append([]string{}, l.Cell...), Block: l.Block})
 	}
 	for _, c := range s.Cells {
 		d.Cells = append(d.Cells, designCell{Levels: append([]string{}, c.Levels...), Units: c.Units})

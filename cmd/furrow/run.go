@@ -5,6 +5,7 @@ import (
 	"errors"
 	"fmt"
 	"os"
+	"strings"
 
 	"furrow/checker"
 )
@@ -104,12 +105,49 @@ func runRun(e *env, c *command, args []string) int {
 	for _, ep := range res.Endpoints {
 		fmt.Fprintf(e.stdout, "%s: %s (step %s)\n", ep.ID, ep.Status, ep.Reported)
 	}
+	e.writeLostUnits(res)
 	if res.Unregistered {
 		fmt.Fprintln(e.stdout, "UNREGISTERED run: the record is marked as such")
 	}
 	fmt.Fprintf(e.stdout, "wrote %s/%s %s\n", e.rel(*out), checker.AuditFileName, res.Integrity.ContentHash)
 	fmt.Fprintf(e.stdout, "wrote %s/%s, %s/%s and %s/%s/*.csv\n", e.rel(*out), checker.ReportHTMLName, e.rel(*out), checker.ReportMDName, e.rel(*out), checker.TablesDir)
 	return exitOK
+}
+
+// maxLostListed is the most lost units run lists on the terminal; the
+// record and the report list them all.
+const maxLostListed = 5
+
+// writeLostUnits says, after a run that went on with lost units, how many
+// were lost, and lists the first few with their cell and block.
+func (e *env) writeLostUnits(res *checker.Result) {
+	n := len(res.LostUnits)
+	if n == 0 {
+		return
+	}
+	fmt.Fprintf(e.stdout, "%s lost, listed in the record and the report; the analysis went on with the units left, as the plan's least-units declares\n", plural(n, "unit"))
+	for i, l := range res.LostUnits {
+		if i == maxLostListed {
+			fmt.Fprintf(e.stdout, "  and %d more\n", n-maxLostListed)
+			break
+		}
+		var parts []string
+		if res.Design != nil {
+			for k, c := range res.Design.CellColumns {
+				if k < len(l.Cell) {
+					parts = append(parts, fmt.Sprintf("%s %q", c, l.Cell[k]))
+				}
+			}
+		}
+		if l.Block != "" {
+			parts = append(parts, fmt.Sprintf("block %q", l.Block))
+		}
+		why := "no row in the data"
+		if l.Rule != "" {
+			why = fmt.Sprintf("unit %q, removed by exclusion %q", l.Unit, l.Rule)
+		}
+		fmt.Fprintf(e.stdout, "  %s: %s\n", strings.Join(parts, ", "), why)
+	}
 }
 
 // buildInfo describes the build for the record (Go version).
