@@ -38,7 +38,7 @@ func sampleResult() *Result {
 		Design: &DesignSeen{Rows: 13, Units: 13, UnitColumn: "unit", CellColumns: []string{"treatment"}, Replicates: 5,
 			LeastUnits: &LeastUnitsSeen{Per: "cell", Count: 4, Below: "stop", Pos: "plan.yaml:22:16"},
 			Cells:      []CellSeen{{Levels: []string{"a"}, Units: 4}}, Missing: []MissingSeen{{Column: "y", Missing: 1}}},
-		LostUnits: []LostUnit{{Cell: []string{"a"}, Block: ""}, {Cell: []string{"b"}, Block: "B2", Unit: "u4", Rule: "no-y"}},
+		LostUnits:      []LostUnit{{Cell: []string{"a"}, Block: ""}, {Cell: []string{"b"}, Block: "B2", Unit: "u4", Rule: "no-y"}},
 		DataWarnings:   []Finding{{Severity: "warning", Code: "value-implausible", Pos: "data.csv:4:3", Summary: "value is odd"}},
 		Exclusions:     []ExcludedRow{{Row: 5, Unit: "u4", Rule: "no-y", RulePos: "plan.yaml:30:5"}},
 		ExclusionRules: []ExclusionRule{{ID: "no-y", Pos: "plan.yaml:30:5", Drop: "row", When: "missing", Reason: "r", RowsRemoved: 1, Units: []string{"u4"}}},
