@@ -43,7 +43,6 @@ import (
 	"furrow/checker/record"
 	"furrow/plan"
 	"furrow/stats/dist"
-	"furrow/stats/multcomp"
 	"furrow/stats/rank"
 )
 
@@ -90,7 +89,7 @@ func rankHypothesis(p *plan.Plan, s *plan.Step, f *fitted, h *plan.Hypothesis, e
 		hr.Comparisons = append(hr.Comparisons, c)
 		ps = append(ps, float64(c.P))
 	}
-	adjP, err := adjustFinite(ps, used)
+	adjP, err := adjustP(ps, used)
 	if err != nil {
 		notes = append(notes, "the adjustment could not be computed: "+err.Error())
 	}
@@ -212,33 +211,6 @@ func joinNotes(a, b string) string {
 		return a
 	}
 	return a + "; " + b
-}
-
-// adjustFinite applies a stats/multcomp adjustment to the p-values that
-// are numbers; NaN entries (comparisons that could not be made) stay NaN
-// and do not count in the family.
-func adjustFinite(ps []float64, method string) ([]float64, error) {
-	out := make([]float64, len(ps))
-	var idx []int
-	var vals []float64
-	for i, v := range ps {
-		out[i] = math.NaN()
-		if !math.IsNaN(v) {
-			idx = append(idx, i)
-			vals = append(vals, v)
-		}
-	}
-	if len(vals) == 0 {
-		return out, nil
-	}
-	adj, err := multcomp.Adjust(vals, multcomp.Method(method))
-	if err != nil {
-		return out, err
-	}
-	for k, i := range idx {
-		out[i] = adj[k]
-	}
-	return out, nil
 }
 
 // emptyComparison is a comparison with every number NaN.
