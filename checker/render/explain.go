@@ -356,7 +356,16 @@ func describeCheck(c plan.Check, next string, index map[string]int) string {
 	if next != "" {
 		then = fmt.Sprintf("the analysis moves to step %d (%s)", index[next], code(next))
 	}
-	return fmt.Sprintf("The %s: if it gives p < %s, %s.", name, fnum(c.FailBelow), then)
+	var nc string
+	switch c.NotComputable {
+	case plan.NotComputablePass:
+		nc = " If it cannot be computed on the data, it counts as passed."
+	case plan.NotComputableStop:
+		nc = " If it cannot be computed on the data, the analysis of this endpoint stops and no step is reported."
+	case plan.NotComputableFail:
+		nc = " If it cannot be computed on the data, it counts as failed."
+	}
+	return fmt.Sprintf("The %s: if it gives p < %s, %s.%s", name, fnum(c.FailBelow), then, nc)
 }
 
 // describeAnswer says how step st answers hypothesis h if it is the step
