@@ -16,6 +16,21 @@
 // Holm, Hochberg, Benjamini-Hochberg, Tukey-Kramer, Dunnett) through
 // stats/multcomp.
 //
+// # Conditional means and simple effects
+//
+// A conditional grid "a | b" (stats/design's MeansGridBy) is a list of
+// Group values, one per level of b, each holding the rows of the means of
+// a at that level with the model's other factors averaged with equal
+// weights and covariates at their means (emmeans' emmeans(fit, ~ a | b)).
+// MeansBy gives those means; PairwiseBy and VersusControlBy the simple
+// effects of a within each level of b, every contrast with its SE, the
+// model's df for that contrast (m.DF(l)), t, p and interval. AdjustBy
+// applies Adjust within each level (PerGroup, emmeans' default) or to all
+// levels' comparisons as one family (AcrossGroups, emmeans' by = NULL);
+// Tukey's adjustment belongs to one set of means and is refused across
+// levels, where Dunnett's single-step multivariate t (any correlation)
+// and the p-value methods serve.
+//
 // # Back-transformation
 //
 // BackTransformMeans maps means and interval endpoints one by one to the
