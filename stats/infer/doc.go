@@ -31,6 +31,29 @@
 // levels, where Dunnett's single-step multivariate t (any correlation)
 // and the p-value methods serve.
 //
+// # Declared contrasts
+//
+// A LevelContrast names coefficients over the levels (rows) of a means
+// grid: products against the control, a new product against the mean of
+// two references (1, -1/2, -1/2), or any linear combination. Declared a
+// Comparison, its coefficients must sum to zero (to 1e-10 of the sum of
+// their absolute values); a level not in the grid, a level given twice, a
+// coefficient that is not finite or only zeros are errors too.
+// LevelContrasts estimates them over a grid, LevelContrastsBy within each
+// level of a conditional grid. PairwiseContrasts and ControlContrasts
+// write the pairwise and versus-control comparisons as declared contrasts.
+//
+// InteractionContrasts gives interaction contrasts on a cell-means grid
+// of two or more factors (MeansGrid(a, b), the first factor slowest): the
+// Kronecker product of one contrast per factor, each summing to zero, so
+// pairwise by pairwise is a difference of differences (Boik 1979 Psychol
+// Bull 86:1084). On a log scale BackTransformDifferences reports it as a
+// ratio of ratios, and a pairwise or declared comparison as a ratio.
+//
+// Every contrast is an Estimate, so TOST and NonInferiorityTest apply to
+// declared, interaction and conditional contrasts alike, and Adjust
+// to any family of them.
+//
 // # Back-transformation
 //
 // BackTransformMeans maps means and interval endpoints one by one to the
