@@ -111,8 +111,9 @@ func checkGrid(L mat.Matrix, labels []string) error {
 // grid: contrast c with weights w over the rows (labels name them, see
 // LevelContrast.Weights) is the linear function l = Σ_i w_i L_i of the
 // coefficients, reported with its SE, the model's df for l, t, p and
-// interval, labelled with its name. The pairs of PairwiseContrasts and
-// the comparisons of ControlContrasts are declared contrasts too.
+// interval, labelled with its name. A trend contrast from
+// PolynomialContrasts, the pairs of PairwiseContrasts and the comparisons
+// of ControlContrasts are declared contrasts too.
 func LevelContrasts(m Model, L mat.Matrix, labels []string, cs []LevelContrast, opt Options) ([]Estimate, error) {
 	if err := checkGrid(L, labels); err != nil {
 		return nil, fmt.Errorf("declared contrasts: %w", err)
@@ -183,7 +184,7 @@ type InteractionFactor struct {
 // of contrasts, the first factor's contrast varying slowest (emmeans'
 // contrast(..., interaction = ) varies the first fastest), labelled with
 // the contrasts' names joined by ":", a name with a space in parentheses:
-// "(rainfed - full):(0 - 60)". On a log scale BackTransformDifferences
+// "(full - rainfed):linear". On a log scale BackTransformDifferences
 // reports a pairwise-by-pairwise contrast as a ratio of ratios.
 func InteractionContrasts(m Model, L mat.Matrix, factors []InteractionFactor, opt Options) ([]Estimate, error) {
 	if len(factors) < 2 {

@@ -43,6 +43,16 @@
 // level of a conditional grid. PairwiseContrasts and ControlContrasts
 // write the pairwise and versus-control comparisons as declared contrasts.
 //
+// PolynomialContrasts gives the orthogonal polynomial trends over
+// quantitative levels with any spacing (OrthogonalPolynomials, Robson
+// 1959 Biometrics 15:187): with equal weights the powers of the centred
+// level values are orthogonalised by Gram-Schmidt and normalised, so the
+// coefficients of each degree sum to zero, have unit length and are
+// orthogonal to the other degrees (R's contr.poly(k, scores = x); they are
+// not emmeans' integer "poly" coefficients, which assume equal spacing).
+// A linear estimate is β·sqrt(Σ (x_i - x̄)²) for means exactly linear in x
+// with slope β.
+//
 // InteractionContrasts gives interaction contrasts on a cell-means grid
 // of two or more factors (MeansGrid(a, b), the first factor slowest): the
 // Kronecker product of one contrast per factor, each summing to zero, so
@@ -51,8 +61,11 @@
 // ratio of ratios, and a pairwise or declared comparison as a ratio.
 //
 // Every contrast is an Estimate, so TOST and NonInferiorityTest apply to
-// declared, interaction and conditional contrasts alike, and Adjust
-// to any family of them.
+// declared, trend, interaction and conditional contrasts alike, and Adjust
+// to any family of them. testdata/ref_contrasts.R writes the emmeans
+// values (R 4.2.2, emmeans 1.8.4.1) that conditional means, simple
+// effects and declared, trend and interaction contrasts are checked
+// against, with their equivalence and non-inferiority tests.
 //
 // # Back-transformation
 //
