@@ -32,7 +32,13 @@
 //
 // [Matrix.MeansGrid] returns the rows L of estimated marginal means (equal
 // weights over other factors, covariates at their mean; Searle, Speed &
-// Milliken 1980). [Matrix.TypeIIIHypothesis] and [Matrix.TypeIIHypothesis]
+// Milliken 1980). [Matrix.MeansGridBy] returns the conditional grid
+// "factors | by" (emmeans' a | b): one [GridGroup] per level combination
+// of the by factors, holding the means of the grid factors at that level
+// with the other factors averaged the same way; averaged with equal
+// weights over the by levels they give MeansGrid. Interaction contrasts
+// over two factors use the joint grid MeansGrid(a, b), the first factor
+// varying slowest. [Matrix.TypeIIIHypothesis] and [Matrix.TypeIIHypothesis]
 // give per-term hypothesis matrices (Searle 1987; Langsrud 2003).
 //
 // # Speed

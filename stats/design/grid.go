@@ -27,49 +27,130 @@ func (m *Matrix) MeansGrid(factors []string) (*mat.Dense, []string, error) {
 	if len(factors) == 0 {
 		return nil, nil, errors.New("means grid: no factors named")
 	}
-	levels := make([]int, len(factors))
-	facs := make([]*Factor, len(factors))
-	for i, name := range factors {
-		for j := 0; j < i; j++ {
-			if factors[j] == name {
-				return nil, nil, fmt.Errorf("means grid: factor %q named twice", name)
-			}
+	facs, err := m.gridFactors(factors, nil)
+	if err != nil {
+		return nil, nil, fmt.Errorf("means grid: %w", err)
+	}
+	L, labels := m.gridRows(factors, facs, map[string]int{})
+	return L, labels, nil
+}
+
+// GridGroup is the part of a conditional means grid that belongs to one
+// level combination of the by factors.
+type GridGroup struct {
+	// By labels the level combination of the by factors: "factor[level]"
+	// joined with ":" ("" when no by factor is named).
+	By string
+	// L holds the mean rows of the level combinations of the grid's
+	// factors within this by level, in the order MeansGrid gives them;
+	// Labels are MeansGrid's labels of those rows (without the by part).
+	L      *mat.Dense
+	Labels []string
+}
+
+// MeansGridBy returns the conditional means grid "factors | by" (the
+// "a | b" means of emmeans): for every level combination of the by
+// factors (the first by factor varying slowest) one [GridGroup] whose rows
+// are the means of the level combinations of factors with the by factors
+// held at that combination. Every other factor of the model is averaged
+// with equal weights and numeric covariates are held at their mean, as in
+// MeansGrid; group g's row i is the row of MeansGrid(by..., factors...)
+// for the same levels, so averaging the groups' rows with equal weights
+// over the by levels gives MeansGrid(factors). The same factor may not be
+// named twice, nor in both lists. With no by factor the single group is
+// MeansGrid(factors).
+func (m *Matrix) MeansGridBy(factors, by []string) ([]GridGroup, error) {
+	if len(factors) == 0 {
+		return nil, errors.New("conditional means grid: no factors named")
+	}
+	facs, err := m.gridFactors(factors, nil)
+	if err != nil {
+		return nil, fmt.Errorf("conditional means grid: %w", err)
+	}
+	byFacs, err := m.gridFactors(by, factors)
+	if err != nil {
+		return nil, fmt.Errorf("conditional means grid: by factors: %w", err)
+	}
+	groups := 1
+	for _, f := range byFacs {
+		groups *= len(f.Levels)
+	}
+	out := make([]GridGroup, groups)
+	idx := make([]int, len(by))
+	for g := range out {
+		decode(g, byFacs, idx)
+		at := make(map[string]int, len(by)+len(factors))
+		for i, name := range by {
+			at[name] = idx[i]
+		}
+		L, labels := m.gridRows(factors, facs, at)
+		out[g] = GridGroup{By: gridLabel(by, byFacs, idx), L: L, Labels: labels}
+	}
+	return out, nil
+}
+
+// gridFactors looks up the named factors, refusing a name given twice, a
+// name that is not a factor of the model and a name among exclude.
+func (m *Matrix) gridFactors(names, exclude []string) ([]*Factor, error) {
+	facs := make([]*Factor, len(names))
+	for i, name := range names {
+		if slices.Contains(names[:i], name) {
+			return nil, fmt.Errorf("factor %q named twice", name)
+		}
+		if slices.Contains(exclude, name) {
+			return nil, fmt.Errorf("factor %q named both as a grid factor and as a by factor", name)
 		}
 		fac := m.findFactor(name)
 		if fac == nil {
-			return nil, nil, fmt.Errorf("means grid: %q is not a factor of the model", name)
+			return nil, fmt.Errorf("%q is not a factor of the model", name)
 		}
 		facs[i] = fac
-		levels[i] = len(fac.Levels)
 	}
+	return facs, nil
+}
+
+// decode writes into idx the level codes of combination r, the last
+// factor varying fastest.
+func decode(r int, facs []*Factor, idx []int) {
+	for i := len(facs) - 1; i >= 0; i-- {
+		k := len(facs[i].Levels)
+		idx[i] = r % k
+		r /= k
+	}
+}
+
+// gridLabel joins "factor[level]" of the combination idx with ":".
+func gridLabel(names []string, facs []*Factor, idx []int) string {
+	lab := ""
+	for i, name := range names {
+		if i > 0 {
+			lab += ":"
+		}
+		lab += name + "[" + facs[i].Levels[idx[i]] + "]"
+	}
+	return lab
+}
+
+// gridRows returns the mean rows of every level combination of factors
+// (the first varying slowest) with the factors already in at held fixed
+// too, and their labels. at is modified.
+func (m *Matrix) gridRows(factors []string, facs []*Factor, at map[string]int) (*mat.Dense, []string) {
 	rows := 1
-	for _, k := range levels {
-		rows *= k
+	for _, f := range facs {
+		rows *= len(f.Levels)
 	}
-	p := len(m.Names)
-	L := mat.NewDense(rows, p, nil)
+	L := mat.NewDense(rows, len(m.Names), nil)
 	labels := make([]string, rows)
-	at := make(map[string]int, len(factors))
 	idx := make([]int, len(factors))
 	for r := 0; r < rows; r++ {
-		// Decode r with the last factor varying fastest.
-		rem := r
-		for i := len(factors) - 1; i >= 0; i-- {
-			idx[i] = rem % levels[i]
-			rem /= levels[i]
-		}
-		lab := ""
+		decode(r, facs, idx)
 		for i, name := range factors {
 			at[name] = idx[i]
-			if i > 0 {
-				lab += ":"
-			}
-			lab += name + "[" + facs[i].Levels[idx[i]] + "]"
 		}
-		labels[r] = lab
+		labels[r] = gridLabel(factors, facs, idx)
 		m.averageRow(at, L.RawRowView(r))
 	}
-	return L, labels, nil
+	return L, labels
 }
 
 // averageRow writes into dst the model row with the factors in at fixed at

@@ -68,7 +68,8 @@ type Equivalence struct {
 }
 
 // TOST tests equivalence of a difference d = l'β (an Estimate from
-// Contrast or Pairwise) within a margin by Schuirmann's two one-sided tests
+// Contrast, Pairwise, LevelContrasts, InteractionContrasts or the by-group
+// functions: any comparison) within a margin by Schuirmann's two one-sided tests
 // (Schuirmann 1987 J Pharmacokinet Biopharm 15:657): equivalence is claimed
 // when both H0: δ <= Lower and H0: δ >= Upper are rejected at level alpha,
 // which is the same as the (1 - 2α) confidence interval lying inside
