@@ -5,7 +5,28 @@
 // # Adjustments
 //
 // Adjust implements Bonferroni, Holm (1979) Scand J Stat 6:65, Hochberg
-// (1988) Biometrika 75:800 and Benjamini & Hochberg (1995) JRSS B 57:289.
+// (1988) Biometrika 75:800, Benjamini & Hochberg (1995) JRSS B 57:289, and
+// Šidák's (1967) JASA 62:626 single-step adjustment 1 - (1 - p)^m with its
+// step-down form Holm-Šidák (Holm 1979; Holland & Copenhaver 1987
+// Biometrics 43:417). The Šidák forms are computed as -expm1(k log1p(-p)),
+// accurate for the smallest p. Šidák controls the family-wise error rate
+// for independent tests and for two-sided tests of jointly normal or t
+// statistics with any correlation (Šidák's inequality); Bonferroni for any
+// dependence.
+//
+// # Simultaneous intervals
+//
+// Only single-step procedures have simultaneous intervals compatible with
+// their tests. PerComparisonLevel gives the level α' of each comparison
+// for Bonferroni (α/m) and Šidák (1 - (1 - α)^(1/m)): the simultaneous
+// intervals are the ordinary ones at confidence 1 - α'. Tukey and Dunnett
+// families carry their own (Family). Step-wise procedures (Holm,
+// Holm-Šidák, Hochberg, Benjamini-Hochberg, Shaffer's, closed tests in
+// general, fixed-sequence, fallback and graphical tests) have no
+// compatible simultaneous intervals in general: the level a comparison is
+// tested at depends on the outcome of the others, and PerComparisonLevel
+// returns an error for them. Their reports give adjusted p-values and
+// decisions, with unadjusted intervals labelled as such.
 //
 // # Studentised range
 //
