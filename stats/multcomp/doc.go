@@ -28,6 +28,53 @@
 // returns an error for them. Their reports give adjusted p-values and
 // decisions, with unadjusted intervals labelled as such.
 //
+// # Closed testing
+//
+// ClosedTest is the closed test of Marcus, Peritz & Gabriel (1976)
+// Biometrika 63:655 for any local test of intersection hypotheses (an
+// IntersectionTest: a function from an index set to a p-value): H_i is
+// rejected at α when every intersection containing it is, so its adjusted
+// p-value is the largest local p-value over those intersections. It tests
+// all 2^m - 1 intersections (m <= MaxClosedHypotheses = 16) and returns
+// each with its p-value (Closure). ClosedTestOver tests a given family of
+// intersections instead, for hypotheses with logical constraints, where an
+// index set whose truth forces others to be true stands for the same
+// hypothesis as the larger set. BonferroniIntersection and
+// SidakIntersection are the local tests whose closures are Holm and
+// Holm-Šidák (the tests check both equalities on random p-values).
+//
+// # Pairwise comparisons with logical constraints
+//
+// Among the k(k-1)/2 hypotheses μ_i = μ_j (AllPairs: B-A, C-A, ..., the
+// order of multcomp's Tukey contrasts) only some sets can be true
+// together: those of a split of the means into groups of equal means
+// (PairwiseConfigurations: the Bell(k) - 1 splits with a group of two or
+// more), and only some numbers (PossibleTrueCounts, Shaffer's 1986
+// recursion; for k = 4: 0, 1, 2, 3, 6). Shaffer (1986) JASA 81:826 uses
+// them to sharpen Holm's divisors; three forms, from the most
+// conservative:
+//
+//   - ShafferS1, method 1: step j divides by t_j, the largest possible
+//     number of true hypotheses not above m - j + 1. It needs only the
+//     ordered p-values (k <= MaxShafferMeans = 100).
+//   - ShafferS2, method 2 sharpened: step j divides by the size of the
+//     largest configuration that holds the hypothesis tested and none
+//     already rejected (Royen 1989; Westfall 1997). This is what
+//     multcomp's summary(glht(...), test = adjusted("Shaffer")) computes;
+//     it is checked against multcomp 1.4-22 on two invented one-way
+//     layouts (k = 4, 5) to 1e-14 relative (2.8e-15 measured).
+//   - ShafferClosed: the full closed test over the configurations with
+//     Bonferroni local tests. It rejects all that S2 rejects and
+//     sometimes more, but its adjusted p-values need not increase with
+//     the raw ones.
+//
+// Adjusted p-values: closed <= S2 <= S1 <= Holm. S2 and the closed test
+// enumerate the configurations (k <= MaxShafferClosedMeans = 10; about
+// 50 ms at k = 10, BenchmarkShafferS2K10 and BenchmarkShafferClosedK10).
+// S1 and S2 differ when the rejections so far leave fewer hypotheses that
+// can still be true together than their number allows (in the committed
+// k = 4 layout: D - B, 0.324 by S1, 0.207 by S2).
+//
 // # Studentised range
 //
 // PTukey, PTukeyUpper, QTukey and QTukeyUpper evaluate the distribution of
