@@ -75,6 +75,18 @@
 // can still be true together than their number allows (in the committed
 // k = 4 layout: D - B, 0.324 by S1, 0.207 by S2).
 //
+// # Fixed-sequence and fallback tests
+//
+// FixedSequence tests hypotheses in their declared order at the full
+// level and stops at the first not rejected; adjusted p-values are the
+// running maximum of the raw ones. Fallback (Wiens 2003 Pharm Stat
+// 2:211; Wiens & Dmitrienko 2005 J Biopharm Stat 15:929) gives each
+// hypothesis a declared share w_i of α (Σ w_i <= 1) and adds to it the
+// level of the unbroken run of rejected hypotheses just before it; its
+// adjusted p-value is the smallest α that rejects, by a recursion over
+// where that run starts (see Fallback). Sequence records the level each
+// hypothesis was tested at.
+//
 // # Studentised range
 //
 // PTukey, PTukeyUpper, QTukey and QTukeyUpper evaluate the distribution of
