@@ -87,6 +87,38 @@
 // where that run starts (see Fallback). Sequence records the level each
 // hypothesis was tested at.
 //
+// # Graphical procedures
+//
+// Graph is the Bonferroni-based graphical approach of Bretz, Maurer,
+// Brannath & Posch (2009) Stat Med 28:586: weights w (w_i >= 0,
+// Σ w_i <= 1) and a transition matrix G (non-negative, zero diagonal,
+// rows summing to at most 1), refused with a plain error otherwise
+// (NewGraph; sums may exceed 1 by 1e-12, the rounding of decimal inputs).
+// Test runs their Algorithm 1: while some hypothesis has p_j <= α w_j,
+// reject it (the smallest p_j/w_j first, then the lowest index) and
+// remove it, updating for the others
+//
+//	w_l ← w_l + w_j g_jl,   g_lk ← (g_lk + g_lj g_jk) / (1 - g_lj g_jl).
+//
+// GraphResult keeps each step (the hypothesis, its p-value and level,
+// the level passed to each other hypothesis, the weights and graph
+// after it), the final levels and the adjusted p-values of their
+// section on adjusted p-values (AdjustedP: the smallest α at which each
+// hypothesis is rejected). A hypothesis with weight 0 is never rejected
+// at that step, even with p = 0. HolmGraph, FixedSequenceGraph and
+// FallbackGraph build the classical procedures; the tests check, on
+// seeded random p-values, weights and levels, that they reproduce Adjust
+// (Holm), FixedSequence and Fallback: the same rejections and adjusted
+// p-values to 1e-13 relative (Holm: R's p.adjust as well). The graph is
+// the closed test of weighted Bonferroni tests with the weights
+// IntersectionWeights (all hypotheses outside the intersection removed);
+// the tests check that ClosedTest with Graph.IntersectionTest gives the
+// same adjusted p-values on random graphs (1e-12 relative). The numbers
+// of the paper's own examples were not available to check; the graphs
+// tested (Holm, fixed sequence, fallback, two primary hypotheses each
+// with a secondary) follow its figures as recalled from memory, with
+// hand-computed values.
+//
 // # Studentised range
 //
 // PTukey, PTukeyUpper, QTukey and QTukeyUpper evaluate the distribution of
