@@ -12,6 +12,7 @@ import (
 	"testing"
 
 	"furrow/checker/record"
+	"furrow/internal/testkit"
 )
 
 // rnum is a number in ref.json, where R writes non-finite values as
@@ -84,17 +85,12 @@ type refMixed struct {
 	ByDF    map[string]json.RawMessage
 }
 
-// loadRef reads testdata/published/ref.json (made by ref.R) into v at key.
+// loadRef reads testdata/published/ref.json (made by ref.R) into v at key;
+// the file is committed, so its absence fails the test.
 func loadRef(t *testing.T, key string, v any) {
 	t.Helper()
-	b, err := os.ReadFile(filepath.Join("testdata", "published", "ref.json"))
-	if err != nil {
-		t.Fatal(err)
-	}
 	var all map[string]json.RawMessage
-	if err := json.Unmarshal(b, &all); err != nil {
-		t.Fatal(err)
-	}
+	testkit.DecodeFile(t, filepath.Join("testdata", "published", "ref.json"), &all)
 	raw, ok := all[key]
 	if !ok {
 		t.Fatalf("ref.json has no %q", key)
@@ -104,18 +100,11 @@ func loadRef(t *testing.T, key string, v any) {
 	}
 }
 
-// near reports |got - want| <= tol * max(1, |want|) (relative-or-absolute);
-// infinities must match exactly.
-func near(got, want, tol float64) bool {
-	if math.IsInf(want, 0) || math.IsInf(got, 0) {
-		return got == want
-	}
-	return math.Abs(got-want) <= tol*math.Max(1, math.Abs(want))
-}
-
+// checkNear is testkit.CheckClose with the reference's source in the
+// message.
 func checkNear(t *testing.T, what string, got record.Num, want rnum, tol float64, source string) {
 	t.Helper()
-	if !near(float64(got), float64(want), tol) {
+	if !testkit.Close(float64(got), float64(want), tol) {
 		t.Errorf("%s = %.12g, %s %.12g (tol %g)", what, float64(got), source, float64(want), tol)
 	}
 }
@@ -198,7 +187,7 @@ func anovaRow(t *testing.T, rows []record.AnovaRow, term string) record.AnovaRow
 func TestOatsFamilies(t *testing.T) {
 	for _, m := range []string{"satterthwaite", "kenward-roger"} {
 		t.Run(m, func(t *testing.T) {
-			r := publishedRun(t, "oats.yaml", filepath.Join(refDir, "agri", "oats_MASS.csv"), "oats.csv", "DFMETHOD", m)
+			r := publishedRun(t, "oats.yaml", testkit.ReadShared(t, "agri/oats_MASS.csv"), "oats.csv", "DFMETHOD", m)
 			var ref map[string]json.RawMessage
 			loadRef(t, "oats", &ref)
 			var fams struct {
@@ -295,11 +284,7 @@ endpoints:
 // single-step as a second source; ptukey).
 func TestChickwtsFamilies(t *testing.T) {
 	dir := t.TempDir()
-	b, err := os.ReadFile(filepath.Join("testdata", "published", "chickwts.csv"))
-	if err != nil {
-		t.Fatal(err)
-	}
-	write(t, filepath.Join(dir, "chickwts.csv"), string(b))
+	write(t, filepath.Join(dir, "chickwts.csv"), string(readTestdata(t, "published/chickwts.csv")))
 	pp := filepath.Join(dir, "plan.yaml")
 	write(t, pp, chickwtsPlan)
 	register(t, pp, t0)
@@ -372,7 +357,7 @@ func TestChickwtsFamilies(t *testing.T) {
 func TestUnbalancedMixedNonIntegerDF(t *testing.T) {
 	for _, m := range []string{"satterthwaite", "kenward-roger"} {
 		t.Run(m, func(t *testing.T) {
-			r := publishedRun(t, "unbalanced.yaml", filepath.Join("testdata", "published", "unbalanced.csv"), "unbalanced.csv", "DFMETHOD", m)
+			r := publishedRun(t, "unbalanced.yaml", readTestdata(t, "published/unbalanced.csv"), "unbalanced.csv", "DFMETHOD", m)
 			ep := r.Endpoints[0]
 			if ep.Status != record.EndpointAccepted {
 				t.Fatalf("status %s error %q", ep.Status, ep.Steps[0].Error)

@@ -11,15 +11,8 @@ import (
 	"testing"
 
 	"furrow/checker/record"
+	"furrow/internal/testkit"
 )
-
-// refDir is the shared reference folder beside the checkout.
-const refDir = "../../../shared/reference"
-
-func closeTo(got, want, tol float64) bool {
-	d := math.Abs(got - want)
-	return d <= tol || d <= tol*math.Abs(want)
-}
 
 // PlantGrowth (R datasets; Dobson 1983, An Introduction to Statistical
 // Modelling, table 7.1) through a furrow plan: one-way linear model on
@@ -27,14 +20,12 @@ func closeTo(got, want, tol float64) bool {
 // p = 0.0159 (Dobson 1983). Reference-library values from R 4.2.2 aov,
 // oracle case05 (read at test time).
 func TestPlantGrowthEndToEnd(t *testing.T) {
-	data := filepath.Join(refDir, "oracle", "data", "case05_plantgrowth.csv")
-	refPath := filepath.Join(refDir, "oracle", "ref", "case05_plantgrowth.json")
-	if _, err := os.Stat(data); err != nil {
-		t.Skip("shared reference data not found beside the checkout (../shared/reference); skipping")
+	b := testkit.ReadShared(t, "oracle/data/case05_plantgrowth.csv")
+	var ref struct {
+		Anova []map[string]any `json:"anova"`
 	}
+	testkit.ReadJSON(t, testkit.SharedPath(t, "oracle/ref/case05_plantgrowth.json"), &ref)
 	dir := t.TempDir()
-	abs, _ := filepath.Abs(data)
-	b, _ := os.ReadFile(abs)
 	write(t, filepath.Join(dir, "plantgrowth.csv"), string(b))
 	pp := filepath.Join(dir, "plan.yaml")
 	write(t, pp, `furrow: 1
@@ -84,41 +75,19 @@ endpoints:
 	}
 	an := ep.Steps[0].Results.Anova
 	// Published (Dobson 1983): F 4.846, p 0.0159 — to the printed digits.
-	if !closeTo(float64(an[0].F), 4.846, 5e-4) || !closeTo(float64(an[0].P), 0.0159, 1e-4) {
-		t.Errorf("F %v p %v, published 4.846 / 0.0159", an[0].F, an[0].P)
-	}
-	rb, err := os.ReadFile(refPath)
-	if err != nil {
-		t.Skip("reference values not found")
-	}
-	var ref struct {
-		Anova []map[string]any `json:"anova"`
-	}
-	if err := json.Unmarshal(rb, &ref); err != nil {
-		t.Fatal(err)
-	}
+	testkit.CheckWithin(t, "F (Dobson 1983)", float64(an[0].F), 4.846, 5e-4, 5e-4)
+	testkit.CheckWithin(t, "p (Dobson 1983)", float64(an[0].P), 0.0159, 1e-4, 1e-4)
 	// R 4.2.2 aov (oracle case05): SS and F to 1e-10 relative.
-	if want := ref.Anova[0]["Sum Sq"].(float64); !closeTo(float64(an[0].SS), want, 1e-10) {
-		t.Errorf("SS %v, R %v", an[0].SS, want)
-	}
-	if want := ref.Anova[0]["F value"].(float64); !closeTo(float64(an[0].F), want, 1e-10) {
-		t.Errorf("F %v, R %v", an[0].F, want)
-	}
-	if want := ref.Anova[1]["Sum Sq"].(float64); !closeTo(float64(an[1].SS), want, 1e-10) {
-		t.Errorf("residual SS %v, R %v", an[1].SS, want)
-	}
+	testkit.CheckWithin(t, "SS (R aov)", float64(an[0].SS), ref.Anova[0]["Sum Sq"].(float64), 1e-10, 1e-10)
+	testkit.CheckWithin(t, "F (R aov)", float64(an[0].F), ref.Anova[0]["F value"].(float64), 1e-10, 1e-10)
+	testkit.CheckWithin(t, "residual SS (R aov)", float64(an[1].SS), ref.Anova[1]["Sum Sq"].(float64), 1e-10, 1e-10)
 }
 
 // publishedRun copies the plan testdata/published/<plan> (with the
-// replacements old -> new applied) and the data file beside it as the
-// plan's data.file name, registers and runs it. It skips when the data
-// are absent.
-func publishedRun(t *testing.T, planName, dataSrc, dataName string, repl ...string) *record.Result {
+// replacements old -> new applied) and the data b beside it as the plan's
+// data.file name, registers and runs it.
+func publishedRun(t *testing.T, planName string, b []byte, dataName string, repl ...string) *record.Result {
 	t.Helper()
-	b, err := os.ReadFile(dataSrc)
-	if err != nil {
-		t.Skipf("reference data %s not found (../shared/reference beside the checkout); skipping", dataSrc)
-	}
 	src, err := os.ReadFile(filepath.Join("testdata", "published", planName))
 	if err != nil {
 		t.Fatal(err)
@@ -147,7 +116,8 @@ func publishedRun(t *testing.T, planName, dataSrc, dataName string, repl ...stri
 func TestOatsSplitPlotEndToEnd(t *testing.T) {
 	for _, m := range []string{"satterthwaite", "kenward-roger"} {
 		t.Run(m, func(t *testing.T) {
-			r := publishedRun(t, "oats.yaml", filepath.Join(refDir, "agri", "oats_MASS.csv"), "oats.csv", "DFMETHOD", m)
+			oats := testkit.ReadShared(t, "agri/oats_MASS.csv")
+			r := publishedRun(t, "oats.yaml", oats, "oats.csv", "DFMETHOD", m)
 			ep := r.Endpoints[0]
 			if ep.Status != record.EndpointAccepted || ep.Reported != "split-plot" {
 				t.Fatalf("status %s reported %q, error %q", ep.Status, ep.Reported, ep.Steps[0].Error)
@@ -165,8 +135,8 @@ func TestOatsSplitPlotEndToEnd(t *testing.T) {
 			} {
 				row := anovaRow(t, res.Anova, w.term)
 				// Published F to its 5-6 printed digits; df to 1e-3 relative.
-				if !closeTo(float64(row.F), w.f, 5e-6) || !closeTo(float64(row.DF), w.num, 1e-9) ||
-					!closeTo(float64(row.DenDF), w.den, 1e-3) || math.Abs(float64(row.P)-w.p) > w.pTol {
+				if !testkit.Close(float64(row.F), w.f, 5e-6) || !testkit.Close(float64(row.DF), w.num, 1e-9) ||
+					!testkit.Close(float64(row.DenDF), w.den, 1e-3) || math.Abs(float64(row.P)-w.p) > w.pTol {
 					t.Errorf("%s: F %v on (%v, %v) p %v; Yates (1935) split-plot: F %v on (%v, %v) p %v",
 						w.term, row.F, row.DF, row.DenDF, row.P, w.f, w.num, w.den, w.p)
 				}
@@ -183,20 +153,20 @@ func TestOatsSplitPlotEndToEnd(t *testing.T) {
 					continue
 				}
 				// Closed-form ANOVA estimates (values.json, basis computed): 1e-6 relative.
-				if !closeTo(float64(vc.Variance), w, 1e-6) || !closeTo(float64(vc.Share), w/total, 1e-6) ||
-					!closeTo(float64(vc.SD), math.Sqrt(w), 1e-6) || vc.Boundary {
+				if !testkit.Close(float64(vc.Variance), w, 1e-6) || !testkit.Close(float64(vc.Share), w/total, 1e-6) ||
+					!testkit.Close(float64(vc.SD), math.Sqrt(w), 1e-6) || vc.Boundary {
 					t.Errorf("%s: variance %v share %v sd %v boundary %v; ANOVA estimate %v share %v",
 						vc.Group, vc.Variance, vc.Share, vc.SD, vc.Boundary, w, w/total)
 				}
 			}
-			if fs := ep.Steps[0].Fit; fs.Method != "reml" || !fs.Converged || !closeTo(float64(fs.Sigma), math.Sqrt(177.083333333333), 1e-6) {
+			if fs := ep.Steps[0].Fit; fs.Method != "reml" || !fs.Converged || !testkit.Close(float64(fs.Sigma), math.Sqrt(177.083333333333), 1e-6) {
 				t.Errorf("fit summary %+v", *fs)
 			}
 			// The record of a mixed step meets the published schema, and a
 			// second run gives the same bytes.
 			if m == "satterthwaite" {
 				var recs [2][]byte
-				for k, res := range []*record.Result{r, publishedRun(t, "oats.yaml", filepath.Join(refDir, "agri", "oats_MASS.csv"), "oats.csv", "DFMETHOD", m)} {
+				for k, res := range []*record.Result{r, publishedRun(t, "oats.yaml", oats, "oats.csv", "DFMETHOD", m)} {
 					if err := record.Seal(res, nil); err != nil {
 						t.Fatal(err)
 					}
@@ -255,7 +225,7 @@ func checkAnova(t *testing.T, rows []record.AnovaRow, ref refAnova, names map[st
 func TestNpkRandomBlocksEndToEnd(t *testing.T) {
 	for _, m := range []string{"satterthwaite", "kenward-roger"} {
 		t.Run(m, func(t *testing.T) {
-			r := publishedRun(t, "npk.yaml", filepath.Join(refDir, "agri", "npk.csv"), "npk.csv", "DFMETHOD", m)
+			r := publishedRun(t, "npk.yaml", testkit.ReadShared(t, "agri/npk.csv"), "npk.csv", "DFMETHOD", m)
 			ep := r.Endpoints[0]
 			if ep.Status != record.EndpointAccepted {
 				t.Fatalf("status %s, error %q", ep.Status, ep.Steps[0].Error)
@@ -268,13 +238,13 @@ func TestNpkRandomBlocksEndToEnd(t *testing.T) {
 				{"N:K", 2.14597, 12}, {"P:K", 0.03119, 12}, {"N:P:K", 0.48322, 4}} {
 				row := anovaRow(t, res.Anova, w.term)
 				// Printed to 5 significant digits: 1e-4 relative (3e-4 for P:K's 4 digits).
-				if !closeTo(float64(row.F), w.f, 3e-4) || !closeTo(float64(row.DenDF), w.den, 1e-3) {
+				if !testkit.Close(float64(row.F), w.f, 3e-4) || !testkit.Close(float64(row.DenDF), w.den, 1e-3) {
 					t.Errorf("%s: F %v on %v df; error-strata ANOVA (R aov, case01): %v on %v", w.term, row.F, row.DenDF, w.f, w.den)
 				}
 			}
 			want := map[string]float64{"block": (306.293333333333/4 - 185.286666666667/12) / 4, "residual": 185.286666666667 / 12}
 			for _, vc := range res.VarianceComponents {
-				if !closeTo(float64(vc.Variance), want[vc.Group], 1e-6) {
+				if !testkit.Close(float64(vc.Variance), want[vc.Group], 1e-6) {
 					t.Errorf("%s variance %v, strata estimate %v", vc.Group, vc.Variance, want[vc.Group])
 				}
 			}
