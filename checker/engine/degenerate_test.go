@@ -12,10 +12,12 @@ import (
 	"furrow/checker/record"
 )
 
-// This file holds hand-written degenerate data sets: each must give either
-// a result whose decision trail records the failure, or a clear error that
-// names the problem; never a panic and never a non-number reported as a
-// passed check. All scenarios are invented.
+// This file holds hand-written degenerate data sets: each must give a
+// result whose decision trail records the failure in the step that meets
+// it, with an error that names the problem; never a panic and never a
+// non-number reported as a passed check. Each test pins the step and the
+// words of its error, so a run that stopped with an error instead, or a
+// trail that failed elsewhere, fails the test. All scenarios are invented.
 
 // degeneratePlan is a one-factor plan with a block, a unit and a repeat
 // column; %s are the columns' extras, the exclusions, and the steps.
@@ -105,59 +107,31 @@ func crdRows(n int, blocks []string, f func(trt, i int) float64) [][]string {
 	return rows
 }
 
-// failureRecorded reports whether the result's trail records a fit error or
-// a check that could not be computed, on any executed step.
-func failureRecorded(r *record.Result) bool {
-	for _, ep := range r.Endpoints {
-		for _, s := range ep.Steps {
-			if !s.Executed {
-				continue
-			}
-			if s.Error != "" && (s.Decision.Reason == record.ReasonFitFailed || s.Decision.Reason == record.ReasonLastResortFitFailed) {
-				return true
-			}
-			for _, c := range s.Checks {
-				if c.Verdict == record.VerdictError && c.Error != "" {
-					return true
-				}
-			}
-		}
-	}
-	return false
-}
-
-// errorNames reports whether err, or one of its data findings, mentions word.
-func errorNames(err error, word string) bool {
-	if strings.Contains(err.Error(), word) {
-		return true
-	}
-	var de *engine.DataError
-	if errors.As(err, &de) {
-		for _, d := range de.Diagnostics {
-			if strings.Contains(d.Summary, word) {
-				return true
-			}
-		}
-	}
-	return false
-}
-
-// expectTrailOrError is the common assertion: a result must pass the fuzz
-// properties and record the failure; an error must name the problem.
-func expectTrailOrError(t *testing.T, r *record.Result, err error, word string) {
+// expectTrail is the common assertion: the run returns a result (no
+// error), which passes the fuzz properties, and its step id was executed,
+// failed to fit with an error containing text, and says so in its
+// decision.
+func expectTrail(t *testing.T, r *record.Result, err error, id, text string) *record.StepResult {
 	t.Helper()
 	if err != nil {
-		t.Logf("error: %v %s", err, dataFindings(err))
-		if !errorNames(err, word) {
-			t.Fatalf("error does not name the problem (%q): %v %s", word, err, dataFindings(err))
-		}
-		return
+		t.Fatalf("run stopped with an error instead of recording the failure: %v %s", err, dataFindings(err))
 	}
 	checkFuzzResult(t, "degenerate", r, nil)
 	t.Logf("trail:\n%s", trail(r))
-	if !failureRecorded(r) {
-		t.Fatalf("result does not record the failure: %+v", trail(r))
+	var s *record.StepResult
+	for i := range r.Endpoints[0].Steps {
+		if r.Endpoints[0].Steps[i].ID == id {
+			s = &r.Endpoints[0].Steps[i]
+		}
 	}
+	if s == nil {
+		t.Fatalf("no step %s:\n%s", id, trail(r))
+	}
+	if !s.Executed || !strings.Contains(s.Error, text) ||
+		(s.Decision.Reason != record.ReasonFitFailed && s.Decision.Reason != record.ReasonLastResortFitFailed) {
+		t.Fatalf("step %s: executed %v, error %q (want it to contain %q), reason %v", id, s.Executed, s.Error, text, s.Decision.Reason)
+	}
+	return s
 }
 
 func dataFindings(err error) string {
@@ -213,10 +187,9 @@ func TestDegenerateTreatmentAllExcluded(t *testing.T) {
 	}
 	r, err := c.run(t)
 	if err != nil {
-		expectTrailOrError(t, r, err, "b")
-		return
+		t.Fatalf("run stopped with an error: %v %s", err, dataFindings(err))
 	}
-	// A result must keep b in the declared family, as a comparison that
+	// The result must keep b in the declared family, as a comparison that
 	// cannot be made, and say why.
 	checkFuzzResult(t, "degenerate", r, nil)
 	hs := r.Endpoints[0].Hypotheses
@@ -246,19 +219,16 @@ func TestDegenerateConstantWithinGroups(t *testing.T) {
 		rows: crdRows(4, []string{"B1"}, func(k, i int) float64 { return 10 + 5*float64(k) }),
 	}
 	r, err := c.run(t)
-	expectTrailOrError(t, r, err, "constant")
-	for _, ep := range r.Endpoints {
-		for _, s := range ep.Steps {
-			if s.ID == "linear" && s.Executed {
-				if !strings.Contains(s.Error, "fits the data exactly") || s.Decision.Reason != record.ReasonFitFailed {
-					t.Errorf("exact fit not recorded as a fit error: error %q, reason %v", s.Error, s.Decision.Reason)
-				}
-				for _, ch := range s.Checks {
-					if ch.Verdict == record.VerdictPass || ch.Verdict == record.VerdictFail {
-						t.Errorf("check %s gave a verdict (%v, p = %v) on zero residuals", ch.Test, ch.Verdict, float64(ch.P))
-					}
-				}
-			}
+	s := expectTrail(t, r, err, "linear", "fits the data exactly")
+	if s.Decision.Reason != record.ReasonFitFailed || s.Decision.Next != "ranks" {
+		t.Errorf("exact fit: decision %+v, want a fit failure falling back to ranks", s.Decision)
+	}
+	if len(s.Checks) != 2 {
+		t.Fatalf("%d checks recorded, want the 2 declared", len(s.Checks))
+	}
+	for _, ch := range s.Checks {
+		if ch.Verdict == record.VerdictPass || ch.Verdict == record.VerdictFail {
+			t.Errorf("check %s gave a verdict (%v, p = %v) on zero residuals", ch.Test, ch.Verdict, float64(ch.P))
 		}
 	}
 }
@@ -286,7 +256,11 @@ func TestDegenerateNoSecondTime(t *testing.T) {
 		rows: rows,
 	}
 	r, err := c.run(t)
-	expectTrailOrError(t, r, err, "t2")
+	expectTrail(t, r, err, "change", "no observations left after derivation")
+	expectTrail(t, r, err, "ranks", "no observations left after derivation")
+	if ep := r.Endpoints[0]; ep.Status != record.EndpointFailed || ep.Reported != "" {
+		t.Errorf("endpoint %s reported %q with no second time point", ep.Status, ep.Reported)
+	}
 }
 
 // A mixed model whose random factor (block) has a single level.
@@ -304,7 +278,10 @@ func TestDegenerateRandomFactorOneLevel(t *testing.T) {
 		rows: crdRows(4, []string{"B1"}, func(k, i int) float64 { return 10 + float64(k) + 0.37*float64(i) - 0.11*float64(k*i) }),
 	}
 	r, err := c.run(t)
-	expectTrailOrError(t, r, err, "block")
+	expectTrail(t, r, err, "mixed", `"block" has 1 level with data`)
+	if ep := r.Endpoints[0]; ep.Status != record.EndpointAccepted || ep.Reported != "fixed" {
+		t.Errorf("endpoint %s reported %q, want the fixed-effects fallback", ep.Status, ep.Reported)
+	}
 }
 
 // A rank step where every response value ties.
@@ -320,13 +297,9 @@ func TestDegenerateAllTies(t *testing.T) {
 		rows: crdRows(4, []string{"B1"}, func(k, i int) float64 { return 7 }),
 	}
 	r, err := c.run(t)
-	expectTrailOrError(t, r, err, "tie")
-	if err == nil {
-		for _, ep := range r.Endpoints {
-			if ep.Status != record.EndpointFailed {
-				t.Errorf("endpoint %s reported %q on all-tied data:\n%s", ep.ID, ep.Reported, trail(r))
-			}
-		}
+	expectTrail(t, r, err, "ranks", "all values are tied")
+	if ep := r.Endpoints[0]; ep.Status != record.EndpointFailed {
+		t.Errorf("endpoint %s reported %q on all-tied data:\n%s", ep.ID, ep.Reported, trail(r))
 	}
 }
 

@@ -156,6 +156,9 @@ func TestCascadePaths(t *testing.T) {
 			if ep.Status != c.status || ep.Reported != c.reported {
 				t.Fatalf("status %s reported %q, want %s %q", ep.Status, ep.Reported, c.status, c.reported)
 			}
+			if len(ep.Steps) != 3 {
+				t.Fatalf("%d steps recorded, want the 3 declared", len(ep.Steps))
+			}
 			for i, s := range ep.Steps {
 				if s.Decision.Reason != c.reasons[i] || s.Executed != c.executed[i] {
 					t.Errorf("step %s: reason %s executed %v, want %s %v (%s)", s.ID, s.Decision.Reason, s.Executed, c.reasons[i], c.executed[i], s.Decision.Detail)

@@ -17,6 +17,12 @@ import (
 // is the reported step's rows, and for a raw outcome n is those rows.
 func checkRowsAddUp(t *testing.T, r *record.Result) {
 	t.Helper()
+	fitted := 0
+	defer func() {
+		if fitted == 0 {
+			t.Errorf("no fitted step to account for")
+		}
+	}()
 	for _, e := range r.Endpoints {
 		for _, s := range e.Steps {
 			if s.Fit == nil {
@@ -25,6 +31,7 @@ func checkRowsAddUp(t *testing.T, r *record.Result) {
 				}
 				continue
 			}
+			fitted++
 			if got := s.Rows + len(s.Unused); got != r.Inputs.Rows {
 				t.Errorf("%s/%s: rows used %d + unused %d = %d, want the %d rows read", e.ID, s.ID, s.Rows, len(s.Unused), got, r.Inputs.Rows)
 			}

@@ -32,9 +32,12 @@ func rewritePlan(t *testing.T, pp string, edits ...[2]string) {
 // marginal means and comparisons at the endpoint's alpha (here 0.1), the
 // level and kind of the intervals, n per group, the model equation, the
 // declared margin, and the statistic of the test whose p decides an
-// equivalence. The expected interval half-widths are t quantiles
-// (stats/dist, itself checked against R 4.2.2 qt) times the SE the record
-// holds; 1e-12 is rounding.
+// equivalence. The expected interval half-widths are R 4.2.2's
+// qt(0.95, 14) times the SE the record holds (17 observations, 3 groups:
+// 14 residual df); measured 1.5e-15 relative, held to 3e-14. The two
+// one-sided p-values are checked as the t tails of the recorded t and df
+// (stats/dist, itself checked against R's pt), which ties the record's
+// numbers to each other, not to R.
 func TestRecordStatesTheTermsOfEachVerdict(t *testing.T) {
 	pp := writeCascade(t, "0.0000001", "0.0000001", "0.0000001")
 	rewritePlan(t, pp,
@@ -50,14 +53,21 @@ func TestRecordStatesTheTermsOfEachVerdict(t *testing.T) {
 	if want := "y = intercept + treatment + residual"; s.Model.Equation != want {
 		t.Errorf("equation %q, want %q", s.Model.Equation, want)
 	}
+	// R 4.2.2 qt(0.95, 14), printed with 17 significant digits.
+	const qt95df14 = 1.7613101357748917
 	d := s.Results
 	testkit.CheckClose(t, "means level", float64(d.MeansLevel), 0.9, 1e-15)
 	if len(d.MeansOver) != 0 || len(d.MeansAt) != 0 {
 		t.Errorf("one-factor model: means over %v at %v", d.MeansOver, d.MeansAt)
 	}
+	if len(d.MarginalMeans) != 3 {
+		t.Fatalf("%d marginal means, want 3", len(d.MarginalMeans))
+	}
 	for _, m := range d.MarginalMeans {
-		half := dist.TUpperQuantile(0.05, float64(m.DF)) * float64(m.SE)
-		testkit.CheckClose(t, m.Level+" mean upper", float64(m.Upper-m.Estimate), half, 1e-12)
+		if m.DF != 14 {
+			t.Errorf("%s: mean df %v, want the 14 residual df", m.Level, m.DF)
+		}
+		testkit.CheckRelClose(t, m.Level+" mean upper", float64(m.Upper-m.Estimate), qt95df14*float64(m.SE), 3e-14)
 	}
 	counts := map[string]int{}
 	for _, g := range d.GroupSummaries {
@@ -68,12 +78,17 @@ func TestRecordStatesTheTermsOfEachVerdict(t *testing.T) {
 	if vs.Intervals != "per-comparison" || vs.Margin != nil {
 		t.Errorf("holm intervals %q, margin %+v", vs.Intervals, vs.Margin)
 	}
+	if len(vs.Comparisons) != 2 {
+		t.Fatalf("%d comparisons, want 2", len(vs.Comparisons))
+	}
 	for _, c := range vs.Comparisons {
 		if c.N != counts[c.Level] || c.NAgainst != counts[c.Against] || c.N == 0 {
 			t.Errorf("%s: n %d / %d, groups %v", c.Label, c.N, c.NAgainst, counts)
 		}
-		half := dist.TUpperQuantile(0.05, float64(c.DF)) * float64(c.SE)
-		testkit.CheckClose(t, c.Label+" upper", float64(c.Upper-c.Estimate), half, 1e-12)
+		if c.DF != 14 {
+			t.Errorf("%s: df %v, want the 14 residual df", c.Label, c.DF)
+		}
+		testkit.CheckRelClose(t, c.Label+" upper", float64(c.Upper-c.Estimate), qt95df14*float64(c.SE), 3e-14)
 	}
 	eq := ep.Hypotheses[1]
 	if eq.Margin == nil || eq.Margin.Scale != "difference" || eq.Margin.Lower != -3 || eq.Margin.Upper != 3 {
