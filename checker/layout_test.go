@@ -44,7 +44,10 @@ var sideways = map[[2]string]bool{
 const (
 	enginePath = "furrow/checker/engine"
 	facadePath = "furrow/checker"
-	maxFacade  = 5 // non-test files of the facade package
+	// fixturePath is the checker tests' shared support; production code
+	// never imports it.
+	fixturePath = "furrow/checker/internal/fixture"
+	maxFacade   = 5 // non-test files of the facade package
 )
 
 // layer returns the layer of an import path of the module, and false for
@@ -112,6 +115,9 @@ func TestLayout(t *testing.T) {
 				engine = engine || imp == enginePath
 				if strings.HasPrefix(pkg, facadePath+"/") && imp == facadePath {
 					t.Errorf("%s imports the facade %s", p, facadePath)
+				}
+				if imp == fixturePath && pkg != fixturePath {
+					t.Errorf("%s imports %s, which is test support for _test.go files only", p, fixturePath)
 				}
 				to, ok := layer(imp)
 				if !known || !ok || imp == pkg {

@@ -2,6 +2,7 @@ package plan_test
 
 import (
 	"furrow/checker/method"
+	"furrow/internal/testkit"
 	"furrow/plan"
 
 	"flag"
@@ -55,20 +56,7 @@ func TestMalformedPlans(t *testing.T) {
 				t.Fatalf("no diagnostics for a malformed plan")
 			}
 			got := formatDiags(ds)
-			wantFile := strings.TrimSuffix(f, ".yaml") + ".want"
-			if *update {
-				if err := os.WriteFile(wantFile, []byte(got), 0o644); err != nil {
-					t.Fatal(err)
-				}
-				return
-			}
-			want, err := os.ReadFile(wantFile)
-			if err != nil {
-				t.Fatalf("%v (run with -update to create it)", err)
-			}
-			if got != string(want) {
-				t.Errorf("diagnostics differ from %s (regenerate with -update)\ngot:\n%swant:\n%s", wantFile, got, want)
-			}
+			testkit.Golden(t, strings.TrimSuffix(f, ".yaml")+".want", []byte(got), *update, "go test ./plan -run TestMalformedPlans -update")
 			for _, d := range ds {
 				if d.Code == "" {
 					t.Errorf("diagnostic without a code: %s", d.Error())

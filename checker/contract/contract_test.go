@@ -4,14 +4,16 @@ import (
 	"bytes"
 	"flag"
 	"fmt"
-	"furrow/checker/method"
 	"os"
 	"path/filepath"
 	"slices"
 	"strings"
 	"testing"
 
-	"github.com/xuri/excelize/v2"
+	"furrow/internal/testkit"
+
+	"furrow/checker/internal/fixture"
+	"furrow/checker/method"
 
 	"furrow/checker/table"
 	"furrow/plan"
@@ -66,33 +68,6 @@ var xlsxFixtures = map[string]map[string][][]any{
 	},
 }
 
-func writeXLSXFixture(path string, sheets map[string][][]any) error {
-	f := excelize.NewFile()
-	defer f.Close()
-	names := make([]string, 0, len(sheets))
-	for name := range sheets {
-		names = append(names, name)
-	}
-	slices.Sort(names)
-	for i, name := range names {
-		if i == 0 {
-			if err := f.SetSheetName("Sheet1", name); err != nil {
-				return err
-			}
-		} else if _, err := f.NewSheet(name); err != nil {
-			return err
-		}
-		for r, row := range sheets[name] {
-			for c, v := range row {
-				if err := f.SetCellValue(name, table.CellRef(r+1, c+1), v); err != nil {
-					return err
-				}
-			}
-		}
-	}
-	return f.SaveAs(path)
-}
-
 // TestDataFixtures loads each ../../testdata/data/<case>/plan.yaml with
 // plan.Load, reads and checks its data, and compares the findings (or the
 // read error) with want.txt. Regenerate with -update.
@@ -109,7 +84,7 @@ func TestDataFixtures(t *testing.T) {
 		name := filepath.Base(dir)
 		t.Run(name, func(t *testing.T) {
 			if sheets, ok := xlsxFixtures[name]; ok && *update {
-				if err := writeXLSXFixture(filepath.Join(dir, "plots.xlsx"), sheets); err != nil {
+				if err := fixture.WriteXLSX(filepath.Join(dir, "plots.xlsx"), sheets); err != nil {
 					t.Fatal(err)
 				}
 			}
@@ -132,20 +107,7 @@ func TestDataFixtures(t *testing.T) {
 				}
 				got = formatFindings(ds, strip)
 			}
-			wantFile := filepath.Join(dir, "want.txt")
-			if *update {
-				if err := os.WriteFile(wantFile, []byte(got), 0o644); err != nil {
-					t.Fatal(err)
-				}
-				return
-			}
-			want, err := os.ReadFile(wantFile)
-			if err != nil {
-				t.Fatalf("%v (regenerate with go test ./checker/contract -run TestDataFixtures -update)", err)
-			}
-			if got != string(want) {
-				t.Errorf("findings differ from %s (regenerate with -update)\ngot:\n%s\nwant:\n%s", wantFile, got, want)
-			}
+			testkit.Golden(t, filepath.Join(dir, "want.txt"), []byte(got), *update, "go test ./checker/contract -run TestDataFixtures -update")
 		})
 	}
 }
@@ -197,7 +159,7 @@ func TestExamplesConform(t *testing.T) {
 // contractPlan is a multi-site plan with a repeat factor: two sites, two
 // blocks per site, two treatments, plots measured before and after.
 func contractPlan(dir string) *plan.Plan {
-	p := tablePlan(dir, "plots.csv")
+	p := fixture.TablePlan(dir, "plots.csv")
 	p.Columns = append([]plan.Column{{Name: "site", Role: plan.RoleSite, Levels: []string{"S1", "S2"}, Pos: plan.Pos{File: "plan.yaml", Line: 8, Column: 5}}}, p.Columns...)
 	p.Columns = append(p.Columns, plan.Column{Name: "time", Role: plan.RoleRepeat, Levels: []string{"before", "after"}, Pos: plan.Pos{File: "plan.yaml", Line: 22, Column: 5}})
 	p.Design.Layout = "multi-site"
@@ -234,7 +196,7 @@ func contractCSV(edit func(rows [][]string) [][]string) string {
 func checkCSV(t *testing.T, text string, edit func(p *plan.Plan)) (plan.Diagnostics, *DesignSummary) {
 	t.Helper()
 	dir := t.TempDir()
-	writeData(t, dir, "plots.csv", []byte(text))
+	fixture.WriteData(t, dir, "plots.csv", []byte(text))
 	p := contractPlan(dir)
 	if edit != nil {
 		edit(p)
@@ -373,8 +335,8 @@ func TestCheckDataLimitsRepeats(t *testing.T) {
 		fmt.Fprintf(&sb, "B1,%d,ctl,x%d\n", i, i)
 	}
 	dir := t.TempDir()
-	writeData(t, dir, "plots.csv", []byte(sb.String()))
-	p := tablePlan(dir, "plots.csv")
+	fixture.WriteData(t, dir, "plots.csv", []byte(sb.String()))
+	p := fixture.TablePlan(dir, "plots.csv")
 	p.Design.Replicates = 0
 	tab, _, err := table.ReadTable(p, "")
 	if err != nil {
@@ -405,8 +367,8 @@ func TestCheckDataManyUndeclaredLevels(t *testing.T) {
 		fmt.Fprintf(&sb, "%d,T%d,V%d,1\n", i, i, i)
 	}
 	dir := t.TempDir()
-	writeData(t, dir, "plots.csv", []byte(sb.String()))
-	p := tablePlan(dir, "plots.csv")
+	fixture.WriteData(t, dir, "plots.csv", []byte(sb.String()))
+	p := fixture.TablePlan(dir, "plots.csv")
 	p.Columns = []plan.Column{{Name: "plot", Role: plan.RoleUnit}, {Name: "treatment", Role: plan.RoleTreatment},
 		{Name: "variety", Role: plan.RoleFactor}, {Name: "yield", Role: plan.RoleResponse}}
 	p.Design.Replicates = 1

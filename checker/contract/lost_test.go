@@ -6,6 +6,8 @@ import (
 	"strings"
 	"testing"
 
+	"furrow/checker/internal/fixture"
+
 	"furrow/checker/table"
 	"furrow/plan"
 )
@@ -192,7 +194,7 @@ func TestCheckKept(t *testing.T) {
 	for _, c := range cases {
 		t.Run(c.name, func(t *testing.T) {
 			dir := t.TempDir()
-			writeData(t, dir, "plots.csv", []byte(contractCSV(c.edit)))
+			fixture.WriteData(t, dir, "plots.csv", []byte(contractCSV(c.edit)))
 			p := contractPlan(dir)
 			c.least(p)
 			tab, _, err := table.ReadTable(p, "")
@@ -217,7 +219,7 @@ func TestCheckKept(t *testing.T) {
 			}
 		})
 	}
-	if ds, lost := CheckKept(tablePlan(t.TempDir(), "x.csv"), nil, nil); ds != nil || lost != nil {
+	if ds, lost := CheckKept(fixture.TablePlan(t.TempDir(), "x.csv"), nil, nil); ds != nil || lost != nil {
 		t.Error("nil table gives findings")
 	}
 }

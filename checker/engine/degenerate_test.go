@@ -8,6 +8,8 @@ import (
 	"strings"
 	"testing"
 
+	"furrow/checker/internal/fixture"
+
 	"furrow/checker/engine"
 	"furrow/checker/record"
 )
@@ -83,14 +85,14 @@ func (c degenerateCase) run(t *testing.T) (*record.Result, error) {
 	for _, r := range c.rows {
 		b.WriteString(strings.Join(r, ",") + "\n")
 	}
-	write(t, filepath.Join(dir, "data.csv"), b.String())
+	fixture.Write(t, filepath.Join(dir, "data.csv"), b.String())
 	excl := c.exclusions
 	if excl == "" {
 		excl = "  []"
 	}
 	pp := filepath.Join(dir, "plan.yaml")
-	write(t, pp, fmt.Sprintf(degeneratePlan, "data.csv", "csv", c.blocks, extra, c.layout, excl, c.steps))
-	return engine.Run(engine.RunOptions{PlanPath: pp, OutDir: filepath.Join(dir, "run"), Now: t0, Tool: record.ToolInfo{Version: "test"}, Unregistered: true})
+	fixture.Write(t, pp, fmt.Sprintf(degeneratePlan, "data.csv", "csv", c.blocks, extra, c.layout, excl, c.steps))
+	return engine.Run(engine.RunOptions{PlanPath: pp, OutDir: filepath.Join(dir, "run"), Now: fixture.T0, Tool: record.ToolInfo{Version: "test"}, Unregistered: true})
 }
 
 // crdRows returns n units per treatment in one block "B1" with y from f.
@@ -307,14 +309,14 @@ func TestDegenerateAllTies(t *testing.T) {
 func TestDegenerateXLSXHeaderOnly(t *testing.T) {
 	dir := t.TempDir()
 	xp := filepath.Join(dir, "data.xlsx")
-	if err := writeXLSXFixture(xp, map[string][][]any{"plots": {{"block", "unit", "treatment", "y"}}}); err != nil {
+	if err := fixture.WriteXLSX(xp, map[string][][]any{"plots": {{"block", "unit", "treatment", "y"}}}); err != nil {
 		t.Fatal(err)
 	}
 	pp := filepath.Join(dir, "plan.yaml")
 	plan := fmt.Sprintf(degeneratePlan, "data.xlsx", "xlsx", "B1", "", "crd", "  []", linearThenKruskal)
 	plan = strings.Replace(plan, "  format: xlsx\n", "  format: xlsx\n  sheet: plots\n", 1)
-	write(t, pp, plan)
-	_, err := engine.Run(engine.RunOptions{PlanPath: pp, OutDir: filepath.Join(dir, "run"), Now: t0, Tool: record.ToolInfo{Version: "test"}, Unregistered: true})
+	fixture.Write(t, pp, plan)
+	_, err := engine.Run(engine.RunOptions{PlanPath: pp, OutDir: filepath.Join(dir, "run"), Now: fixture.T0, Tool: record.ToolInfo{Version: "test"}, Unregistered: true})
 	var de *engine.DataError
 	if !errors.As(err, &de) {
 		t.Fatalf("a header-only sheet: got %v, want a data error", err)

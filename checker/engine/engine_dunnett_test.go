@@ -9,6 +9,8 @@ import (
 	"strconv"
 	"strings"
 	"testing"
+
+	"furrow/checker/internal/fixture"
 )
 
 // An unbalanced RCBD (five plots dropped unevenly, four comparisons) makes the correlation of the
@@ -23,7 +25,7 @@ import (
 // that reference error.
 func TestDunnettNonProductCorrelation(t *testing.T) {
 	dir := t.TempDir()
-	write(t, filepath.Join(dir, "d.csv"), `block,trt,y
+	fixture.Write(t, filepath.Join(dir, "d.csv"), `block,trt,y
 B1,ctrl,10.1
 B1,c,13.2
 B1,d,10.9
@@ -41,7 +43,7 @@ B4,c,12.1
 B4,d,10.4
 `)
 	pp := filepath.Join(dir, "plan.yaml")
-	write(t, pp, `furrow: 1
+	fixture.Write(t, pp, `furrow: 1
 trial: {id: QMC-1, title: unbalanced blocks, version: "1.0"}
 data: {file: d.csv}
 columns:
@@ -63,8 +65,8 @@ endpoints:
         factor: trt
         adjust: dunnett
 `)
-	register(t, pp, t0)
-	r := run(t, pp, filepath.Join(dir, "out"), t0.Add(3600e9))
+	fixture.Register(t, pp, fixture.T0)
+	r := run(t, pp, filepath.Join(dir, "out"), fixture.T0.Add(3600e9))
 	h := r.Endpoints[0].Hypotheses[0]
 	if !strings.Contains(h.Note, "quasi-Monte Carlo") {
 		t.Fatalf("expected the quasi-Monte Carlo route, note: %q", h.Note)

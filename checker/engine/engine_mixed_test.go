@@ -11,6 +11,8 @@ import (
 	"strings"
 	"testing"
 
+	"furrow/checker/internal/fixture"
+
 	"furrow/checker/record"
 	"furrow/internal/testkit"
 )
@@ -365,11 +367,11 @@ endpoints:
 // not reached: measured 7.3e-7 absolute; held to 1e-5 absolute).
 func TestChickwtsFamilies(t *testing.T) {
 	dir := t.TempDir()
-	write(t, filepath.Join(dir, "chickwts.csv"), string(readTestdata(t, "published/chickwts.csv")))
+	fixture.Write(t, filepath.Join(dir, "chickwts.csv"), string(readTestdata(t, "published/chickwts.csv")))
 	pp := filepath.Join(dir, "plan.yaml")
-	write(t, pp, chickwtsPlan)
-	register(t, pp, t0)
-	r := run(t, pp, filepath.Join(dir, "out"), t0)
+	fixture.Write(t, pp, chickwtsPlan)
+	fixture.Register(t, pp, fixture.T0)
+	r := run(t, pp, filepath.Join(dir, "out"), fixture.T0)
 	var ref struct {
 		Dunnett     refFamily `json:"dunnett"`
 		DunnettLess refFamily `json:"dunnett_less"`
@@ -554,11 +556,11 @@ func TestSoilNematodesMixedStep(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		write(t, filepath.Join(dir, f), string(b))
+		fixture.Write(t, filepath.Join(dir, f), string(b))
 	}
 	pp := filepath.Join(dir, "plan.yaml")
-	register(t, pp, t0)
-	r := run(t, pp, filepath.Join(dir, "out"), t0)
+	fixture.Register(t, pp, fixture.T0)
+	r := run(t, pp, filepath.Join(dir, "out"), fixture.T0)
 	ep := r.Endpoints[0]
 	s0 := ep.Steps[0]
 	if s0.Error != "" || s0.Fit == nil {
@@ -666,11 +668,11 @@ func TestMixedStepFallsBack(t *testing.T) {
 		}
 	}
 	dir := t.TempDir()
-	write(t, filepath.Join(dir, "data.csv"), b.String())
+	fixture.Write(t, filepath.Join(dir, "data.csv"), b.String())
 	pp := filepath.Join(dir, "plan.yaml")
-	write(t, pp, rmPlan)
-	register(t, pp, t0)
-	r := run(t, pp, filepath.Join(dir, "out"), t0)
+	fixture.Write(t, pp, rmPlan)
+	fixture.Register(t, pp, fixture.T0)
+	r := run(t, pp, filepath.Join(dir, "out"), fixture.T0)
 	ep := r.Endpoints[0]
 	s0, s1, s2 := ep.Steps[0], ep.Steps[1], ep.Steps[2]
 	if s0.Error == "" || s0.Decision.Reason != record.ReasonFitFailed || s0.Decision.Next != "mixed" {

@@ -10,6 +10,8 @@ import (
 	"testing"
 	"time"
 
+	"furrow/checker/internal/fixture"
+
 	"furrow/checker/record"
 	"furrow/internal/testkit"
 )
@@ -100,80 +102,12 @@ func loadRankRef(t *testing.T) *rankRef {
 	return &r
 }
 
-// rankPlan is the plan of the invented trial in testdata/rank/plots.csv;
-// %s are the treatment levels, the steps and the hypotheses.
-const rankPlan = `furrow: 1
-trial:
-  id: T-RANK
-  title: rank and welch steps (invented)
-  version: "1.0"
-  amendments: []
-data:
-  file: plots.csv
-  format: csv
-columns:
-  - name: site
-    role: site
-    levels: [S1, S2, S3]
-  - name: block
-    role: block
-  - name: plot
-    role: unit
-  - name: treatment
-    role: treatment
-    levels: [%s]
-    control: control
-  - name: time
-    role: repeat
-    levels: [before, harvest]
-  - name: juveniles
-    role: response
-    min: 0
-    max: 100000
-design:
-  layout: multi-site
-  replicates: 4
-  least-units: {per: cell, count: 3, below: stop}
-endpoints:
-  - id: density
-    response: juveniles
-    primary: true
-    not-computable: fail
-    steps:
-%s
-    hypotheses:
-%s
-`
-
-const changeLog = `        outcome: {derive: change, from: before, to: harvest}
-        transform: {kind: log-offset, offset: 1}
-`
-
 // rankRun writes the plan and data into a fresh folder, registers the
 // plan and runs it. twoLevels keeps the control and a only.
 func rankRun(t *testing.T, twoLevels bool, steps, hyps string) (*record.Result, string) {
 	t.Helper()
-	dir := t.TempDir()
-	levels := "control, a, b"
-	data := string(readTestdata(t, "rank/plots.csv"))
-	if twoLevels {
-		levels = "control, a"
-		var keep []string
-		for _, l := range strings.Split(strings.TrimSpace(data), "\n") {
-			if !strings.Contains(l, ",b,") {
-				keep = append(keep, l)
-			}
-		}
-		data = strings.Join(keep, "\n") + "\n"
-	}
-	if hyps == "" {
-		hyps = "      []"
-	}
-	write(t, filepath.Join(dir, "plots.csv"), data)
-	pp := filepath.Join(dir, "plan.yaml")
-	write(t, pp, fmt.Sprintf(rankPlan, levels, steps, hyps))
-	register(t, pp, t0)
-	return run(t, pp, filepath.Join(dir, "out"), t0.Add(time.Hour)), pp
+	pp := fixture.WriteRank(t, readTestdata(t, "rank/plots.csv"), twoLevels, steps, hyps)
+	return run(t, pp, filepath.Join(filepath.Dir(pp), "out"), fixture.T0.Add(time.Hour)), pp
 }
 
 // acceptedStep returns the last step of the first endpoint, failing
@@ -201,7 +135,7 @@ const tolRef = 1e-13
 // linear step for its term hypothesis.
 const failingLinear = `      - id: lin
         model: linear
-` + changeLog + `        fixed: [site, treatment]
+` + fixture.ChangeLog + `        fixed: [site, treatment]
         checks:
           - test: shapiro-wilk
             fail-below: 0.99999
@@ -220,22 +154,22 @@ func TestRankStepsAgainstR(t *testing.T) {
 		statName string
 	}{
 		// R 4.2.2 kruskal.test
-		{"kruskal", false, "model: kruskal-wallis\n" + changeLog + "        compare: treatment\n", ref.Kruskal.H, ref.Kruskal.P, []float64{2}, "kruskal-wallis", "H"},
+		{"kruskal", false, "model: kruskal-wallis\n" + fixture.ChangeLog + "        compare: treatment\n", ref.Kruskal.H, ref.Kruskal.P, []float64{2}, "kruskal-wallis", "H"},
 		// R 4.2.2 oneway.test(var.equal = FALSE)
-		{"welch", false, "model: welch\n" + changeLog + "        compare: treatment\n", ref.Welch.F, ref.Welch.P, []float64{ref.Welch.DF1, ref.Welch.DF2}, "welch", "F"},
+		{"welch", false, "model: welch\n" + fixture.ChangeLog + "        compare: treatment\n", ref.Welch.F, ref.Welch.P, []float64{ref.Welch.DF1, ref.Welch.DF2}, "welch", "F"},
 		// R 4.2.2 friedman.test(change, treatment, block)
-		{"friedman", false, "model: friedman\n" + changeLog + "        compare: treatment\n        within: block\n", ref.Friedman.Stat, ref.Friedman.P, []float64{2}, "friedman", "chi-squared"},
+		{"friedman", false, "model: friedman\n" + fixture.ChangeLog + "        compare: treatment\n        within: block\n", ref.Friedman.Stat, ref.Friedman.P, []float64{2}, "friedman", "chi-squared"},
 		// R 4.2.2 wilcox.test(change): zero dropped, normal with continuity correction
-		{"signed-rank one sample", false, "model: signed-rank\n" + changeLog, ref.SignedOne.V, ref.SignedOne.P, nil, "signed-rank", "V"},
+		{"signed-rank one sample", false, "model: signed-rank\n" + fixture.ChangeLog, ref.SignedOne.V, ref.SignedOne.P, nil, "signed-rank", "V"},
 		// R 4.2.2 wilcox.test(log(before+1), log(harvest+1), paired = TRUE)
 		{"signed-rank paired", false, "model: signed-rank\n        outcome: {derive: raw}\n        transform: {kind: log-offset, offset: 1}\n        compare: time\n        within: plot\n",
 			ref.SignedPaired.V, ref.SignedPaired.P, nil, "signed-rank", "V"},
 		// van Elteren k-sample from the Landis, Heyman & Koch (1978) formula, ref.R
-		{"van elteren k", false, "model: van-elteren\n" + changeLog + "        compare: treatment\n        within: site\n", ref.VanEltK.Q, ref.VanEltK.P, []float64{2}, "van-elteren", "Q"},
+		{"van elteren k", false, "model: van-elteren\n" + fixture.ChangeLog + "        compare: treatment\n        within: site\n", ref.VanEltK.Q, ref.VanEltK.P, []float64{2}, "van-elteren", "Q"},
 		// R 4.2.2 wilcox.test(control, a): W is the U of control
-		{"rank-sum", true, "model: rank-sum\n" + changeLog + "        compare: treatment\n", ref.RankSum2.U, ref.RankSum2.P, nil, "rank-sum", "U"},
+		{"rank-sum", true, "model: rank-sum\n" + fixture.ChangeLog + "        compare: treatment\n", ref.RankSum2.U, ref.RankSum2.P, nil, "rank-sum", "U"},
 		// van Elteren (1960) two-sample Z from the published formula, ref.R
-		{"van elteren two", true, "model: van-elteren\n" + changeLog + "        compare: treatment\n        within: site\n", ref.VanElt2.Z, ref.VanElt2.P, nil, "van-elteren", "Z"},
+		{"van elteren two", true, "model: van-elteren\n" + fixture.ChangeLog + "        compare: treatment\n        within: site\n", ref.VanElt2.Z, ref.VanElt2.P, nil, "van-elteren", "Z"},
 	} {
 		t.Run(c.name, func(t *testing.T) {
 			r, _ := rankRun(t, c.two, "      - id: only\n        "+c.step, "")
@@ -269,7 +203,7 @@ func TestRankStepsAgainstR(t *testing.T) {
 func TestRankStepChecks(t *testing.T) {
 	ref := loadRankRef(t)
 	checks := "        checks:\n          - test: shapiro-wilk\n            fail-below: 0.01\n          - test: %s\n            fail-below: 0.01\n"
-	r, _ := rankRun(t, false, "      - id: w\n        model: welch\n"+changeLog+"        compare: treatment\n"+fmt.Sprintf(checks, "levene"), "")
+	r, _ := rankRun(t, false, "      - id: w\n        model: welch\n"+fixture.ChangeLog+"        compare: treatment\n"+fmt.Sprintf(checks, "levene"), "")
 	_, s := acceptedStep(t, r)
 	testkit.CheckRelClose(t, "welch shapiro W", float64(s.Checks[0].Statistic), ref.WelchShapiro.W, tolRef)
 	testkit.CheckRelClose(t, "welch shapiro p", float64(s.Checks[0].P), ref.WelchShapiro.P, tolRef)
@@ -278,7 +212,7 @@ func TestRankStepChecks(t *testing.T) {
 	if s.Checks[1].Verdict != record.VerdictPass || s.Checks[1].N != 36 {
 		t.Errorf("levene %+v", s.Checks[1])
 	}
-	r, _ = rankRun(t, false, "      - id: k\n        model: kruskal-wallis\n"+changeLog+"        compare: treatment\n"+fmt.Sprintf(checks, "brown-forsythe"), "")
+	r, _ = rankRun(t, false, "      - id: k\n        model: kruskal-wallis\n"+fixture.ChangeLog+"        compare: treatment\n"+fmt.Sprintf(checks, "brown-forsythe"), "")
 	_, s = acceptedStep(t, r)
 	testkit.CheckRelClose(t, "kruskal shapiro W", float64(s.Checks[0].Statistic), ref.KruskalSW.W, tolRef)
 	testkit.CheckRelClose(t, "kruskal shapiro p", float64(s.Checks[0].P), ref.KruskalSW.P, tolRef)
@@ -313,11 +247,11 @@ func TestRankStepHypotheses(t *testing.T) {
 		hl         struct{ Estimate, Upper []float64 }
 	}{
 		// R 4.2.2 wilcox.test(x, control, alternative = "less"), p.adjust holm
-		{"kruskal", "model: kruskal-wallis\n" + changeLog + "        compare: treatment\n" + rankAnswers, ref.VsRankSum,
+		{"kruskal", "model: kruskal-wallis\n" + fixture.ChangeLog + "        compare: treatment\n" + rankAnswers, ref.VsRankSum,
 			// R 4.2.2 wilcox.test(x, control, "less", conf.int = TRUE): exact Moses bound
 			hl.VsRankSum},
 		// van Elteren (1960) two-sample, alternative less, from ref.R; p.adjust holm
-		{"van elteren", "model: van-elteren\n" + changeLog + "        compare: treatment\n        within: site\n" + rankAnswers, ref.VsVanElt,
+		{"van elteren", "model: van-elteren\n" + fixture.ChangeLog + "        compare: treatment\n        within: site\n" + rankAnswers, ref.VsVanElt,
 			// van Elteren inversion by formula, ref_hl.R
 			hl.VsVanElt},
 	} {
@@ -378,7 +312,7 @@ func TestRankStepHypotheses(t *testing.T) {
 // as declared (R 4.2.2 p.adjust bonferroni).
 func TestFriedmanStepHypotheses(t *testing.T) {
 	ref := loadRankRef(t)
-	r, _ := rankRun(t, false, "      - id: only\n        model: friedman\n"+changeLog+"        compare: treatment\n        within: block\n        answers:\n          - hypothesis: vs\n            estimate: hodges-lehmann\n",
+	r, _ := rankRun(t, false, "      - id: only\n        model: friedman\n"+fixture.ChangeLog+"        compare: treatment\n        within: block\n        answers:\n          - hypothesis: vs\n            estimate: hodges-lehmann\n",
 		"      - id: vs\n        kind: versus-control\n        adjust: bonferroni\n")
 	ep, _ := acceptedStep(t, r)
 	h := ep.Hypotheses[0]
@@ -434,7 +368,7 @@ func TestWelchStepHypotheses(t *testing.T) {
         kind: term
         term: [treatment]
 `
-	r, _ := rankRun(t, false, failingLinear+"      - id: only\n        model: welch\n"+changeLog+"        compare: treatment\n        answers:\n          - hypothesis: all-pairs\n            adjust: holm\n          - hypothesis: term\n            omit: Welch's test fits no model terms\n", hyps)
+	r, _ := rankRun(t, false, failingLinear+"      - id: only\n        model: welch\n"+fixture.ChangeLog+"        compare: treatment\n        answers:\n          - hypothesis: all-pairs\n            adjust: holm\n          - hypothesis: term\n            omit: Welch's test fits no model terms\n", hyps)
 	ep, _ := acceptedStep(t, r)
 	h := ep.Hypotheses[0]
 	if !h.Assessable || h.AdjustUsed != "holm" || len(h.Comparisons) != 3 {
@@ -479,7 +413,7 @@ func TestWelchStepHypotheses(t *testing.T) {
 // Data problems are step errors, not panics: a friedman step whose
 // blocks hold two values per treatment, a rank-sum over three levels.
 func TestRankStepErrors(t *testing.T) {
-	r, _ := rankRun(t, false, "      - id: f\n        model: friedman\n"+changeLog+"        compare: treatment\n        within: site\n", "")
+	r, _ := rankRun(t, false, "      - id: f\n        model: friedman\n"+fixture.ChangeLog+"        compare: treatment\n        within: site\n", "")
 	s := r.Endpoints[0].Steps[0]
 	if s.Decision.Reason != record.ReasonLastResortFitFailed || !strings.Contains(s.Error, "more than one value") {
 		t.Errorf("friedman within site: %q %+v", s.Error, s.Decision)
@@ -500,9 +434,9 @@ func TestSoilNematodesExample(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		write(t, filepath.Join(dir, f), string(b))
+		fixture.Write(t, filepath.Join(dir, f), string(b))
 	}
-	r, err := Run(RunOptions{PlanPath: filepath.Join(dir, "plan.yaml"), OutDir: filepath.Join(dir, "out"), Now: t0,
+	r, err := Run(RunOptions{PlanPath: filepath.Join(dir, "plan.yaml"), OutDir: filepath.Join(dir, "out"), Now: fixture.T0,
 		Tool: record.ToolInfo{Name: "furrow", Version: "test"}, Unregistered: true})
 	if err != nil {
 		t.Fatal(err)

@@ -10,6 +10,8 @@ import (
 	"strings"
 	"testing"
 
+	"furrow/checker/internal/fixture"
+
 	"furrow/checker/record"
 	"furrow/internal/testkit"
 )
@@ -26,9 +28,9 @@ func TestPlantGrowthEndToEnd(t *testing.T) {
 	}
 	testkit.ReadJSON(t, testkit.SharedPath(t, "oracle/ref/case05_plantgrowth.json"), &ref)
 	dir := t.TempDir()
-	write(t, filepath.Join(dir, "plantgrowth.csv"), string(b))
+	fixture.Write(t, filepath.Join(dir, "plantgrowth.csv"), string(b))
 	pp := filepath.Join(dir, "plan.yaml")
-	write(t, pp, `furrow: 1
+	fixture.Write(t, pp, `furrow: 1
 trial:
   id: PG
   title: PlantGrowth one-way layout (public dataset)
@@ -67,8 +69,8 @@ endpoints:
             by: [group]
             fail-below: 0.05
 `)
-	register(t, pp, t0)
-	r := run(t, pp, filepath.Join(dir, "out"), t0)
+	fixture.Register(t, pp, fixture.T0)
+	r := run(t, pp, filepath.Join(dir, "out"), fixture.T0)
 	ep := r.Endpoints[0]
 	if ep.Status != record.EndpointAccepted || ep.Reported != "anova" {
 		t.Fatalf("status %s reported %q", ep.Status, ep.Reported)
@@ -99,11 +101,11 @@ func publishedRun(t *testing.T, planName string, b []byte, dataName string, repl
 		s = strings.ReplaceAll(s, repl[i], repl[i+1])
 	}
 	dir := t.TempDir()
-	write(t, filepath.Join(dir, dataName), string(b))
+	fixture.Write(t, filepath.Join(dir, dataName), string(b))
 	pp := filepath.Join(dir, "plan.yaml")
-	write(t, pp, s)
-	register(t, pp, t0)
-	return run(t, pp, filepath.Join(dir, "out"), t0)
+	fixture.Write(t, pp, s)
+	fixture.Register(t, pp, fixture.T0)
+	return run(t, pp, filepath.Join(dir, "out"), fixture.T0)
 }
 
 // TestOatsSplitPlotEndToEnd runs the Yates (1935) oats split-plot (J R Stat

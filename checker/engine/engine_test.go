@@ -2,120 +2,15 @@ package engine
 
 import (
 	"crypto/ed25519"
-	"fmt"
-	"math"
-	"math/rand/v2"
-	"os"
 	"path/filepath"
 	"strings"
 	"testing"
 	"time"
 
+	"furrow/checker/internal/fixture"
+
 	"furrow/checker/record"
 )
-
-// cascadePlan is a small CRD plan with three linear steps whose checks
-// are tuned by the test through the thresholds.
-const cascadePlan = `furrow: 1
-trial:
-  id: T-CASCADE
-  title: synthetic cascade test (invented)
-  version: "1.0"
-  amendments: []
-data:
-  file: data.csv
-  format: csv
-columns:
-  - name: unit
-    role: unit
-  - name: treatment
-    role: treatment
-    levels: [control, a, b]
-    control: control
-  - name: y
-    role: response
-    min: 1
-    max: 1000
-design:
-  layout: crd
-  replicates: 6
-  least-units: {per: cell, count: 5, below: stop}
-exclusions:
-  - id: listed
-    drop: unit
-    when: listed
-    units: [u18]
-    reason: invented exclusion for the test
-endpoints:
-  - id: yield
-    response: y
-    primary: true
-    not-computable: fail
-    steps:
-      - id: first
-        model: linear
-        fixed: [treatment]
-        checks:
-          - test: shapiro-wilk
-            fail-below: %s
-        on-fail: second
-      - id: second
-        model: linear
-        transform: {kind: log}
-        fixed: [treatment]
-        checks:
-          - test: levene
-            fail-below: %s
-        on-fail: third
-      - id: third
-        model: linear
-        transform: {kind: sqrt}
-        fixed: [treatment]
-        checks:
-          - test: brown-forsythe
-            fail-below: %s
-    hypotheses:
-      - id: vs-control
-        kind: versus-control
-        adjust: holm
-`
-
-// writeCascade writes the plan (with the three thresholds) and seeded data
-// into a fresh folder and returns the plan path.
-func writeCascade(t *testing.T, th1, th2, th3 string) string {
-	t.Helper()
-	dir := t.TempDir()
-	rng := rand.New(rand.NewPCG(7, 11))
-	var b strings.Builder
-	b.WriteString("unit,treatment,y\n")
-	trts := []string{"control", "a", "b"}
-	for i := 0; i < 18; i++ {
-		tr := trts[i%3]
-		mu := map[string]float64{"control": 20, "a": 26, "b": 31}[tr]
-		y := mu * math.Exp(0.15*rng.NormFloat64())
-		fmt.Fprintf(&b, "u%d,%s,%.3f\n", i+1, tr, y)
-	}
-	write(t, filepath.Join(dir, "data.csv"), b.String())
-	pp := filepath.Join(dir, "plan.yaml")
-	write(t, pp, fmt.Sprintf(cascadePlan, th1, th2, th3))
-	return pp
-}
-
-func write(t *testing.T, path, s string) {
-	t.Helper()
-	if err := os.WriteFile(path, []byte(s), 0o644); err != nil {
-		t.Fatal(err)
-	}
-}
-
-var t0 = time.Date(2026, 3, 1, 9, 0, 0, 0, time.UTC)
-
-func register(t *testing.T, pp string, at time.Time) {
-	t.Helper()
-	if _, ds, err := record.Register(pp, record.RegisterOptions{Now: at, ToolVersion: "test", GitCommit: func(string) string { return "" }}); err != nil {
-		t.Fatalf("register: %v %v", err, ds)
-	}
-}
 
 func run(t *testing.T, pp, out string, at time.Time) *record.Result {
 	t.Helper()
@@ -149,9 +44,9 @@ func TestCascadePaths(t *testing.T) {
 			[3]record.Reason{record.ReasonCheckFailed, record.ReasonCheckFailed, record.ReasonLastResortAssumptionsUnmet}, [3]bool{true, true, true}, true},
 	} {
 		t.Run(c.name, func(t *testing.T) {
-			pp := writeCascade(t, c.th[0], c.th[1], c.th[2])
-			register(t, pp, t0)
-			r := run(t, pp, filepath.Join(filepath.Dir(pp), "out"), t0.Add(time.Hour))
+			pp := fixture.WriteCascade(t, c.th[0], c.th[1], c.th[2])
+			fixture.Register(t, pp, fixture.T0)
+			r := run(t, pp, filepath.Join(filepath.Dir(pp), "out"), fixture.T0.Add(time.Hour))
 			ep := r.Endpoints[0]
 			if ep.Status != c.status || ep.Reported != c.reported {
 				t.Fatalf("status %s reported %q, want %s %q", ep.Status, ep.Reported, c.status, c.reported)
@@ -188,29 +83,15 @@ func TestCascadePaths(t *testing.T) {
 
 func writeRun(t *testing.T, pp, out string, at time.Time, key ed25519.PrivateKey) []byte {
 	t.Helper()
-	r := run(t, pp, out, at)
-	if err := os.MkdirAll(out, 0o755); err != nil {
-		t.Fatal(err)
-	}
-	if err := record.WriteRecord(out, r, key); err != nil {
-		t.Fatal(err)
-	}
-	b, err := os.ReadFile(filepath.Join(out, record.AuditFileName))
-	if err != nil {
-		t.Fatal(err)
-	}
-	if err := record.ValidateRecord(b); err != nil {
-		t.Fatalf("produced record does not validate: %v", err)
-	}
-	return b
+	return fixture.WriteRecordFile(t, out, run(t, pp, out, at), key)
 }
 
 func TestRecordDeterministic(t *testing.T) {
-	pp := writeCascade(t, "0.99999", "1e-12", "1e-12")
-	register(t, pp, t0)
+	pp := fixture.WriteCascade(t, "0.99999", "1e-12", "1e-12")
+	fixture.Register(t, pp, fixture.T0)
 	out := filepath.Join(filepath.Dir(pp), "out")
-	b1 := writeRun(t, pp, out, t0.Add(time.Hour), nil)
-	b2 := writeRun(t, pp, out, t0.Add(5*time.Hour), nil)
+	b1 := writeRun(t, pp, out, fixture.T0.Add(time.Hour), nil)
+	b2 := writeRun(t, pp, out, fixture.T0.Add(5*time.Hour), nil)
 	l1, l2 := strings.Split(string(b1), "\n"), strings.Split(string(b2), "\n")
 	if len(l1) != len(l2) {
 		t.Fatalf("records differ in length")

@@ -8,6 +8,8 @@ import (
 	"strings"
 	"testing"
 
+	"furrow/checker/internal/fixture"
+
 	"furrow/checker/record"
 	"furrow/plan"
 )
@@ -34,15 +36,15 @@ func TestRunLostUnits(t *testing.T) {
 			}
 			return false
 		})
-		write(t, dp, strings.Join(lines, ""))
+		fixture.Write(t, dp, strings.Join(lines, ""))
 	}
 	runIt := func(pp string) (*record.Result, error) {
-		return Run(RunOptions{PlanPath: pp, OutDir: filepath.Join(filepath.Dir(pp), "run"), Now: t0,
+		return Run(RunOptions{PlanPath: pp, OutDir: filepath.Join(filepath.Dir(pp), "run"), Now: fixture.T0,
 			Tool: record.ToolInfo{Name: "furrow", Version: "test"}, Unregistered: true})
 	}
 
 	t.Run("one lost, one excluded: the run goes on", func(t *testing.T) {
-		pp := writeCascade(t, "1e-12", "1e-12", "1e-12")
+		pp := fixture.WriteCascade(t, "1e-12", "1e-12", "1e-12")
 		dropUnits(pp, "u1") // a control unit
 		r, err := runIt(pp)
 		if err != nil {
@@ -100,17 +102,17 @@ func TestRunLostUnits(t *testing.T) {
 		t.Errorf("no data-units-below-least error containing %q: %v", text, de.Diagnostics)
 	}
 	t.Run("two lost: below the least, the run stops", func(t *testing.T) {
-		pp := writeCascade(t, "1e-12", "1e-12", "1e-12")
+		pp := fixture.WriteCascade(t, "1e-12", "1e-12", "1e-12")
 		dropUnits(pp, "u1", "u4")
 		stops(t, pp, `treatment "control": 4 of the 6 units the plan declares per cell; 2 lost; that is below the least 5 per cell the plan accepts, so the run stops`)
 	})
 	t.Run("excluded below the least: the run stops", func(t *testing.T) {
-		pp := writeCascade(t, "1e-12", "1e-12", "1e-12")
+		pp := fixture.WriteCascade(t, "1e-12", "1e-12", "1e-12")
 		b, err := os.ReadFile(pp)
 		if err != nil {
 			t.Fatal(err)
 		}
-		write(t, pp, strings.Replace(string(b), "units: [u18]", "units: [u15, u18]", 1))
+		fixture.Write(t, pp, strings.Replace(string(b), "units: [u18]", "units: [u15, u18]", 1))
 		stops(t, pp, `treatment "b": 4 of the 6 units the plan declares per cell after the declared exclusions; exclusion "listed" removed units "u15", "u18"; that is below the least 5`)
 	})
 }

@@ -5,14 +5,16 @@ import (
 	"path/filepath"
 	"testing"
 	"time"
+
+	"furrow/checker/internal/fixture"
 )
 
 // Every plan position the record holds is in PlanPaths, under the data
 // path of the plan value it points at.
 func TestPlanPathsNameEveryPosition(t *testing.T) {
-	pp := writeCascade(t, "0.99999", "1e-12", "1e-12")
-	register(t, pp, t0)
-	r := run(t, pp, filepath.Join(filepath.Dir(pp), "out"), t0.Add(time.Hour))
+	pp := fixture.WriteCascade(t, "0.99999", "1e-12", "1e-12")
+	fixture.Register(t, pp, fixture.T0)
+	r := run(t, pp, filepath.Join(filepath.Dir(pp), "out"), fixture.T0.Add(time.Hour))
 	want := map[string]string{}
 	for i, x := range r.ExclusionRules {
 		want[x.Pos] = fmt.Sprintf("exclusions[%d]", i)

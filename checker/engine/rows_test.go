@@ -8,6 +8,8 @@ import (
 	"strings"
 	"testing"
 
+	"furrow/checker/internal/fixture"
+
 	"furrow/checker/record"
 )
 
@@ -93,7 +95,7 @@ func TestRowsAddUpExamples(t *testing.T) {
 	for _, pp := range plans {
 		name := filepath.Base(filepath.Dir(pp))
 		t.Run(name, func(t *testing.T) {
-			r := run(t, pp, t.TempDir(), t0)
+			r := run(t, pp, t.TempDir(), fixture.T0)
 			checkRowsAddUp(t, r)
 			e := &r.Endpoints[0]
 			if e.Reported == "" || e.RowsAnalysed == 0 {
@@ -150,8 +152,8 @@ func TestRowsMissingResponse(t *testing.T) {
 	f := strings.Split(lines[4], ";")
 	lines[4] = strings.Join(append(f[:3], ""), ";")
 	dp := filepath.Join(dir, "plots.csv")
-	write(t, dp, strings.Join(lines, "\n"))
-	r, err := Run(RunOptions{PlanPath: "../../examples/wheat-varieties/plan.yaml", DataPath: dp, OutDir: filepath.Join(dir, "run"), Now: t0,
+	fixture.Write(t, dp, strings.Join(lines, "\n"))
+	r, err := Run(RunOptions{PlanPath: "../../examples/wheat-varieties/plan.yaml", DataPath: dp, OutDir: filepath.Join(dir, "run"), Now: fixture.T0,
 		Tool: record.ToolInfo{Name: "furrow", Version: "test"}})
 	if err != nil {
 		t.Fatal(err)
@@ -259,10 +261,10 @@ func TestRowsByStep(t *testing.T) {
 			for _, r := range rows {
 				sb.WriteString(strings.Join(r, ",") + "\n")
 			}
-			write(t, filepath.Join(dir, "data.csv"), sb.String())
+			fixture.Write(t, filepath.Join(dir, "data.csv"), sb.String())
 			pp := filepath.Join(dir, "plan.yaml")
-			write(t, pp, fmt.Sprintf(rowsPlan, c.steps))
-			r, err := Run(RunOptions{PlanPath: pp, OutDir: filepath.Join(dir, "run"), Now: t0, Tool: record.ToolInfo{Name: "furrow", Version: "test"}, Unregistered: true})
+			fixture.Write(t, pp, fmt.Sprintf(rowsPlan, c.steps))
+			r, err := Run(RunOptions{PlanPath: pp, OutDir: filepath.Join(dir, "run"), Now: fixture.T0, Tool: record.ToolInfo{Name: "furrow", Version: "test"}, Unregistered: true})
 			if err != nil {
 				t.Fatal(err)
 			}

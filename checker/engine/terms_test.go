@@ -7,6 +7,8 @@ import (
 	"testing"
 	"time"
 
+	"furrow/checker/internal/fixture"
+
 	"furrow/internal/testkit"
 	"furrow/stats/dist"
 )
@@ -25,7 +27,7 @@ func rewritePlan(t *testing.T, pp string, edits ...[2]string) {
 		}
 		s = strings.Replace(s, e[0], e[1], 1)
 	}
-	write(t, pp, s)
+	fixture.Write(t, pp, s)
 }
 
 // The record holds what a reviewer needs to check a verdict: intervals of
@@ -39,12 +41,12 @@ func rewritePlan(t *testing.T, pp string, edits ...[2]string) {
 // (stats/dist, itself checked against R's pt), which ties the record's
 // numbers to each other, not to R.
 func TestRecordStatesTheTermsOfEachVerdict(t *testing.T) {
-	pp := writeCascade(t, "0.0000001", "0.0000001", "0.0000001")
+	pp := fixture.WriteCascade(t, "0.0000001", "0.0000001", "0.0000001")
 	rewritePlan(t, pp,
 		[2]string{"    not-computable: fail\n", "    not-computable: fail\n    alpha: 0.1\n"},
 		[2]string{"        adjust: holm\n", "        adjust: holm\n      - id: b-as-a\n        kind: equivalence\n        test: b\n        against: a\n        margin: {scale: difference, lower: -3, upper: 3}\n"})
-	register(t, pp, t0)
-	r := run(t, pp, t.TempDir(), t0.Add(time.Hour))
+	fixture.Register(t, pp, fixture.T0)
+	r := run(t, pp, t.TempDir(), fixture.T0.Add(time.Hour))
 	ep := r.Endpoints[0]
 	s := ep.Steps[0]
 	if ep.Reported != "first" || s.Results == nil {
@@ -111,10 +113,10 @@ func TestRecordStatesTheTermsOfEachVerdict(t *testing.T) {
 
 // Lint warnings are carried into the record.
 func TestPlanWarningsInRecord(t *testing.T) {
-	pp := writeCascade(t, "0.0000001", "0.0000001", "0.0000001")
+	pp := fixture.WriteCascade(t, "0.0000001", "0.0000001", "0.0000001")
 	rewritePlan(t, pp, [2]string{"  layout: crd\n", "  layout: rcbd\n"})
-	register(t, pp, t0)
-	r := run(t, pp, t.TempDir(), t0.Add(time.Hour))
+	fixture.Register(t, pp, fixture.T0)
+	r := run(t, pp, t.TempDir(), fixture.T0.Add(time.Hour))
 	if len(r.PlanWarnings) != 1 || r.PlanWarnings[0].Code != "layout-columns" || r.PlanWarnings[0].Severity != "warning" {
 		t.Errorf("plan warnings %v", r.PlanWarnings)
 	}

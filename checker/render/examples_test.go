@@ -4,12 +4,14 @@ import (
 	"bytes"
 	"encoding/json"
 	"flag"
-	"furrow/checker/method"
 	"os"
 	"path/filepath"
 	"strconv"
 	"strings"
 	"testing"
+
+	"furrow/checker/internal/fixture"
+	"furrow/checker/method"
 
 	"furrow/checker/engine"
 	"furrow/checker/record"
@@ -41,15 +43,15 @@ func exampleRun(t *testing.T, name string) (*record.Result, string) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		write(t, filepath.Join(dir, e.Name()), string(b))
+		fixture.Write(t, filepath.Join(dir, e.Name()), string(b))
 	}
 	pp := filepath.Join(dir, "plan.yaml")
-	register(t, pp, t0)
+	fixture.Register(t, pp, fixture.T0)
 	out := filepath.Join(dir, "run")
 	if err := os.MkdirAll(out, 0o755); err != nil {
 		t.Fatal(err)
 	}
-	r := run(t, pp, out, t0.Add(48*3600e9))
+	r := run(t, pp, out, fixture.T0.Add(48*3600e9))
 	if err := record.WriteRecord(out, r, nil); err != nil {
 		t.Fatal(err)
 	}
@@ -208,7 +210,7 @@ func TestExampleCSVAndXLSXAgree(t *testing.T) {
 			csvRes, out := exampleRun(t, name)
 			dir := filepath.Dir(out)
 			xr, err := engine.Run(engine.RunOptions{PlanPath: filepath.Join(dir, "plan.yaml"), DataPath: filepath.Join(dir, "plots.xlsx"),
-				OutDir: filepath.Join(dir, "run-xlsx"), Now: t0.Add(49 * 3600e9), Tool: record.ToolInfo{Name: "furrow", Version: "test"}})
+				OutDir: filepath.Join(dir, "run-xlsx"), Now: fixture.T0.Add(49 * 3600e9), Tool: record.ToolInfo{Name: "furrow", Version: "test"}})
 			if err != nil {
 				t.Fatal(err)
 			}

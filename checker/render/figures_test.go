@@ -83,7 +83,7 @@ func TestThinningKeepsExtremesAndSaysSo(t *testing.T) {
 func TestFiguresRenderDeterministically(t *testing.T) {
 	vals := []float64{4, 5, 6, 5.5, 7, 8, 6.5, 9, 3, 4.5, 5, 6}
 	grp := []string{"a", "a", "a", "a", "b", "b", "b", "b", "c", "c", "c", "c"}
-	tm := []string{"t0", "t1", "t0", "t1", "t0", "t1", "t0", "t1", "t0", "t1", "t0", "t1"}
+	tm := []string{"fixture.T0", "t1", "fixture.T0", "t1", "fixture.T0", "t1", "fixture.T0", "t1", "fixture.T0", "t1", "fixture.T0", "t1"}
 	unit := []string{"u1", "u1", "u2", "u2", "u3", "u3", "u4", "u4", "u5", "u5", "u6", "u6"}
 	build := func() []Figure {
 		var out []Figure
@@ -95,8 +95,8 @@ func TestFiguresRenderDeterministically(t *testing.T) {
 		}
 		add(ResidualHistogram("h", vals))
 		add(BoxPoints("b", "group", "y", []string{"a", "b", "c"}, grp, vals))
-		add(CellMeans("c", "group", "time", "y", []string{"a", "b", "c"}, []string{"t0", "t1"}, grp, tm, vals))
-		add(UnitLines("u", "time", "y", []string{"t0", "t1"}, unit, tm, vals))
+		add(CellMeans("c", "group", "time", "y", []string{"a", "b", "c"}, []string{"fixture.T0", "t1"}, grp, tm, vals))
+		add(UnitLines("u", "time", "y", []string{"fixture.T0", "t1"}, unit, tm, vals))
 		add(MeansWithCI("m", "means", "response scale", []string{"a", "b"}, []float64{1, 2}, []float64{0.5, 1.4}, []float64{1.5, 2.6}))
 		return out
 	}
@@ -113,9 +113,9 @@ func TestFiguresRenderDeterministically(t *testing.T) {
 	if got := a[1].Data.Y[0]; math.Abs(got-5.25) > 1e-12 {
 		t.Errorf("median of group a = %v, want 5.25", got)
 	}
-	// Cell means: a|t0 = (4+6)/2 = 5.
+	// Cell means: a|fixture.T0 = (4+6)/2 = 5.
 	if got := a[2].Data.Y[0]; math.Abs(got-5) > 1e-12 {
-		t.Errorf("cell mean a|t0 = %v, want 5", got)
+		t.Errorf("cell mean a|fixture.T0 = %v, want 5", got)
 	}
 }
 

@@ -7,6 +7,8 @@ import (
 	"strings"
 	"testing"
 
+	"furrow/checker/internal/fixture"
+
 	"furrow/checker/method"
 	"furrow/checker/record"
 	"furrow/plan"
@@ -106,14 +108,14 @@ func TestEveryMethodEndToEnd(t *testing.T) {
 			}
 			dir := t.TempDir()
 			pp := filepath.Join(dir, "plan.yaml")
-			write(t, pp, fmt.Sprintf(methodsPlan, "      - id: only\n        "+step+"\n"+checks.String()))
-			write(t, filepath.Join(dir, "data.csv"), data)
+			fixture.Write(t, pp, fmt.Sprintf(methodsPlan, "      - id: only\n        "+step+"\n"+checks.String()))
+			fixture.Write(t, filepath.Join(dir, "data.csv"), data)
 			p, ds, err := plan.Load(pp, method.Default)
 			if err != nil || ds.HasErrors() {
 				t.Fatalf("lint: %v %v", err, ds)
 			}
-			register(t, pp, t0)
-			r := run(t, pp, filepath.Join(dir, "out"), t0.Add(3600e9))
+			fixture.Register(t, pp, fixture.T0)
+			r := run(t, pp, filepath.Join(dir, "out"), fixture.T0.Add(3600e9))
 			ep := r.Endpoints[0]
 			if ep.Status != record.EndpointAccepted || ep.Reported != "only" {
 				t.Fatalf("status %s, reported %q: %+v", ep.Status, ep.Reported, ep.Steps[0].Decision)

@@ -133,7 +133,7 @@ func TestReportSizeAt10000Rows(t *testing.T) {
 	r := syntheticResult()
 	e := &r.Endpoints[0]
 	fd := &record.DiagnosticData{}
-	od := &record.ObservedData{Response: "y", Repeat: "time", RepeatLevels: []string{"t0", "t1"}}
+	od := &record.ObservedData{Response: "y", Repeat: "time", RepeatLevels: []string{"fixture.T0", "t1"}}
 	grp := record.ObservedFactor{Name: "g", Role: "treatment", Levels: []string{"a", "b", "c"}}
 	for i := 0; i < n; i++ {
 		x := float64(i)

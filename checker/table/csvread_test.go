@@ -11,6 +11,8 @@ import (
 	"strings"
 	"testing"
 
+	"furrow/checker/internal/fixture"
+
 	"furrow/plan"
 )
 
@@ -182,8 +184,8 @@ func TestReadTableErrors(t *testing.T) {
 	}
 	for _, c := range cases {
 		t.Run(c.name, func(t *testing.T) {
-			path := writeData(t, dir, c.file, c.data)
-			p := tablePlan(dir, c.file)
+			path := fixture.WriteData(t, dir, c.file, c.data)
+			p := fixture.TablePlan(dir, c.file)
 			p.Data.Format = c.format
 			tab, diags, err := ReadTable(p, "")
 			if err == nil {
@@ -194,12 +196,12 @@ func TestReadTableErrors(t *testing.T) {
 			}
 		})
 	}
-	p := tablePlan(dir, "absent.csv")
+	p := fixture.TablePlan(dir, "absent.csv")
 	if _, _, err := ReadTable(p, ""); err == nil || !strings.Contains(err.Error(), "absent.csv") {
 		t.Errorf("missing file: %v", err)
 	}
 	p.Data.Delimiter = ";;"
-	writeData(t, dir, "absent.csv", []byte("a\n"))
+	fixture.WriteData(t, dir, "absent.csv", []byte("a\n"))
 	if _, _, err := ReadTable(p, ""); err == nil || !strings.Contains(err.Error(), "delimiter") {
 		t.Errorf("bad delimiter: %v", err)
 	}
@@ -214,8 +216,8 @@ func TestReadTableErrors(t *testing.T) {
 
 func TestReadTableDataPath(t *testing.T) {
 	dir := t.TempDir()
-	other := writeData(t, dir, "other.csv", []byte(goodCSV))
-	p := tablePlan(filepath.Join(dir, "no-such-dir"), "plots.csv")
+	other := fixture.WriteData(t, dir, "other.csv", []byte(goodCSV))
+	p := fixture.TablePlan(filepath.Join(dir, "no-such-dir"), "plots.csv")
 	tab, _, err := ReadTable(p, other)
 	if err != nil {
 		t.Fatal(err)
@@ -232,8 +234,8 @@ func TestReadTableDataPath(t *testing.T) {
 
 func TestReadCSVDoesNotModifyPlan(t *testing.T) {
 	dir := t.TempDir()
-	writeData(t, dir, "plots.csv", []byte(goodCSV))
-	p := tablePlan(dir, "plots.csv")
+	fixture.WriteData(t, dir, "plots.csv", []byte(goodCSV))
+	p := fixture.TablePlan(dir, "plots.csv")
 	before := fmt.Sprintf("%#v", *p)
 	if _, _, err := ReadTable(p, ""); err != nil {
 		t.Fatal(err)

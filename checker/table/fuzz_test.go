@@ -11,6 +11,8 @@ import (
 	"path/filepath"
 	"testing"
 
+	"furrow/checker/internal/fixture"
+
 	"furrow/checker/contract"
 	"furrow/checker/table"
 )
@@ -30,7 +32,7 @@ func FuzzReadCSV(f *testing.F) {
 			t.Fatal(err)
 		}
 		defer os.Remove(path)
-		p := table.TablePlan(dir, "unused.csv")
+		p := fixture.TablePlan(dir, "unused.csv")
 		if semicolon {
 			p.Data.Delimiter, p.Data.Decimal = ";", ","
 		}

@@ -11,6 +11,8 @@ import (
 	"testing"
 	"time"
 
+	"furrow/checker/internal/fixture"
+
 	"github.com/xuri/excelize/v2"
 
 	"furrow/plan"
@@ -81,7 +83,7 @@ func rewriteZip(t *testing.T, data []byte, member string, edit func(string) stri
 }
 
 func xlsxPlan(dir string) *plan.Plan {
-	p := tablePlan(dir, "plots.xlsx")
+	p := fixture.TablePlan(dir, "plots.xlsx")
 	p.Data.Format = "xlsx"
 	p.Data.Sheet = "plots"
 	p.Columns = append(p.Columns, plan.Column{Name: "sown", Role: plan.RoleLabel})
@@ -91,7 +93,7 @@ func xlsxPlan(dir string) *plan.Plan {
 func readXLSXBytes(t *testing.T, data []byte, edit func(p *plan.Plan)) (*Table, plan.Diagnostics) {
 	t.Helper()
 	dir := t.TempDir()
-	writeData(t, dir, "plots.xlsx", data)
+	fixture.WriteData(t, dir, "plots.xlsx", data)
 	p := xlsxPlan(dir)
 	if edit != nil {
 		edit(p)
@@ -212,7 +214,7 @@ func TestReadXLSXDecimalComma(t *testing.T) {
 	// The same plan read with a CSV file given instead still refuses a
 	// comma that is both the delimiter and the decimal mark.
 	dir := t.TempDir()
-	csvPath := writeData(t, dir, "plots.csv", []byte("block,plot,treatment,yield\nB1,1,ctl,2\n"))
+	csvPath := fixture.WriteData(t, dir, "plots.csv", []byte("block,plot,treatment,yield\nB1,1,ctl,2\n"))
 	p := xlsxPlan(dir)
 	p.Data.Decimal, p.Data.Delimiter = ",", ""
 	if _, _, err := ReadTable(p, csvPath); err == nil || !strings.Contains(err.Error(), "both") || !strings.Contains(err.Error(), "plots.csv") {
@@ -276,7 +278,7 @@ func TestContentHashCSVEqualsXLSX(t *testing.T) {
 		t.Errorf("content hash differs between CSV and XLSX with equal cells")
 	}
 	dir := t.TempDir()
-	writeData(t, dir, "plots.xlsx", data)
+	fixture.WriteData(t, dir, "plots.xlsx", data)
 	if _, _, err := ReadTable(xlsxPlan(dir), filepath.Join(dir, "plots.xlsx")); err != nil {
 		t.Fatal(err)
 	}

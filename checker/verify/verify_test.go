@@ -10,6 +10,8 @@ import (
 	"testing"
 	"time"
 
+	"furrow/checker/internal/fixture"
+
 	"furrow/checker/engine"
 	"furrow/checker/record"
 )
@@ -28,11 +30,11 @@ func verifyCodes(t *testing.T, opt VerifyOptions) (*VerifyReport, map[DeviationC
 }
 
 func TestVerifyCatchesEdits(t *testing.T) {
-	pp := writeCascade(t, "0.99999", "1e-12", "1e-12")
-	register(t, pp, t0)
+	pp := fixture.WriteCascade(t, "0.99999", "1e-12", "1e-12")
+	fixture.Register(t, pp, fixture.T0)
 	dir := filepath.Dir(pp)
 	out := filepath.Join(dir, "out")
-	orig := writeRun(t, pp, out, t0.Add(time.Hour), nil)
+	orig := writeRun(t, pp, out, fixture.T0.Add(time.Hour), nil)
 	rec := filepath.Join(out, record.AuditFileName)
 	if rep, _ := verifyCodes(t, VerifyOptions{Dir: out, Tool: record.ToolInfo{Version: "test"}}); !rep.OK() || len(rep.Deviations) != 0 {
 		t.Fatalf("clean run: %+v", rep.Deviations)
@@ -57,8 +59,8 @@ func TestVerifyCatchesEdits(t *testing.T) {
 			if edited == string(orig) {
 				t.Fatal("edit did not apply")
 			}
-			write(t, rec, edited)
-			defer write(t, rec, string(orig))
+			fixture.Write(t, rec, edited)
+			defer fixture.Write(t, rec, string(orig))
 			rep, m := verifyCodes(t, VerifyOptions{Dir: out, Tool: record.ToolInfo{Version: "test"}})
 			if rep.OK() || m[DevRecordEdited] == nil {
 				t.Fatalf("edit not caught: %+v", rep.Deviations)
@@ -80,8 +82,8 @@ func TestVerifyCatchesEdits(t *testing.T) {
 		r = *rr
 		r.Endpoints[0].Steps[1].Checks[0].P *= 1.001
 		b, _ := record.EncodeRecord(&r)
-		write(t, rec, string(b))
-		defer write(t, rec, string(orig))
+		fixture.Write(t, rec, string(b))
+		defer fixture.Write(t, rec, string(orig))
 		rep, m := verifyCodes(t, VerifyOptions{Dir: out, Tool: record.ToolInfo{Version: "test"}})
 		if rep.OK() || !strings.Contains(strings.Join(m[DevResultsDiffer], " "), "endpoints[0].steps[1].checks[0].p") {
 			t.Fatalf("number edit not named: %v", m)
@@ -94,8 +96,8 @@ func TestVerifyCatchesEdits(t *testing.T) {
 		if edited == string(orig) {
 			t.Fatal("edit did not apply")
 		}
-		write(t, rec, edited)
-		defer write(t, rec, string(orig))
+		fixture.Write(t, rec, edited)
+		defer fixture.Write(t, rec, string(orig))
 		rep, m := verifyCodes(t, VerifyOptions{Dir: out, Tool: record.ToolInfo{Version: "test"}})
 		if rep.OK() || !slices.Contains(m[DevRecordEdited], "run_at") {
 			t.Fatalf("unparsable run_at not caught: %v", m)
@@ -104,8 +106,8 @@ func TestVerifyCatchesEdits(t *testing.T) {
 	t.Run("data edited", func(t *testing.T) {
 		dp := filepath.Join(dir, "data.csv")
 		d, _ := os.ReadFile(dp)
-		write(t, dp, strings.Replace(string(d), "u1,control,", "u1,control,1", 1))
-		defer write(t, dp, string(d))
+		fixture.Write(t, dp, strings.Replace(string(d), "u1,control,", "u1,control,1", 1))
+		defer fixture.Write(t, dp, string(d))
 		_, m := verifyCodes(t, VerifyOptions{Dir: out, Tool: record.ToolInfo{Version: "test"}})
 		if m[DevDataChanged] == nil {
 			t.Fatalf("data edit not caught: %v", m)
@@ -113,14 +115,14 @@ func TestVerifyCatchesEdits(t *testing.T) {
 	})
 	t.Run("plan edited after registration", func(t *testing.T) {
 		pb, _ := os.ReadFile(pp)
-		write(t, pp, strings.Replace(string(pb), "adjust: holm", "adjust: bonferroni", 1))
-		defer write(t, pp, string(pb))
+		fixture.Write(t, pp, strings.Replace(string(pb), "adjust: holm", "adjust: bonferroni", 1))
+		defer fixture.Write(t, pp, string(pb))
 		_, m := verifyCodes(t, VerifyOptions{Dir: out, Tool: record.ToolInfo{Version: "test"}})
 		if m[DevPlanChanged] == nil {
 			t.Fatalf("plan edit not caught: %v", m)
 		}
 		// And run refuses it.
-		if _, err := engine.Run(engine.RunOptions{PlanPath: pp, OutDir: out, Now: t0}); err == nil {
+		if _, err := engine.Run(engine.RunOptions{PlanPath: pp, OutDir: out, Now: fixture.T0}); err == nil {
 			t.Error("run accepted a plan that differs from its registration")
 		}
 	})
@@ -133,12 +135,12 @@ func TestVerifyCatchesEdits(t *testing.T) {
 }
 
 func TestRegistrationChain(t *testing.T) {
-	pp := writeCascade(t, "1e-12", "1e-12", "1e-12")
-	register(t, pp, t0)
+	pp := fixture.WriteCascade(t, "1e-12", "1e-12", "1e-12")
+	fixture.Register(t, pp, fixture.T0)
 	pb, _ := os.ReadFile(pp)
 	// Amending without a new version is refused.
-	write(t, pp, strings.Replace(string(pb), "adjust: holm", "adjust: hochberg", 1))
-	if _, _, err := record.Register(pp, record.RegisterOptions{Now: t0.Add(time.Hour), GitCommit: func(string) string { return "" }}); err == nil {
+	fixture.Write(t, pp, strings.Replace(string(pb), "adjust: holm", "adjust: hochberg", 1))
+	if _, _, err := record.Register(pp, record.RegisterOptions{Now: fixture.T0.Add(time.Hour), GitCommit: func(string) string { return "" }}); err == nil {
 		t.Fatal("amendment without a new version accepted")
 	}
 	amended := strings.Replace(strings.Replace(string(pb), "adjust: holm", "adjust: hochberg", 1),
@@ -149,8 +151,8 @@ func TestRegistrationChain(t *testing.T) {
       date: "2026-03-02"
       reason: step-up procedure preferred
       changes: adjust holm -> hochberg`, 1)
-	write(t, pp, amended)
-	res, ds, err := record.Register(pp, record.RegisterOptions{Now: t0.Add(24 * time.Hour), GitCommit: func(string) string { return "" }})
+	fixture.Write(t, pp, amended)
+	res, ds, err := record.Register(pp, record.RegisterOptions{Now: fixture.T0.Add(24 * time.Hour), GitCommit: func(string) string { return "" }})
 	if err != nil {
 		t.Fatalf("amendment: %v %v", err, ds)
 	}
@@ -167,11 +169,11 @@ func TestRegistrationChain(t *testing.T) {
 	// Run after the amendment, then register another amendment: verify
 	// reports an amendment after data lock.
 	out := filepath.Join(filepath.Dir(pp), "out")
-	writeRun(t, pp, out, t0.Add(48*time.Hour), nil)
+	writeRun(t, pp, out, fixture.T0.Add(48*time.Hour), nil)
 	// Break a link: rewrite the first entry's reason.
 	rp := record.RegistrationPath(pp)
 	rb, _ := os.ReadFile(rp)
-	write(t, rp, strings.Replace(string(rb), "initial registration", "initial registration (edited)", 1))
+	fixture.Write(t, rp, strings.Replace(string(rb), "initial registration", "initial registration (edited)", 1))
 	reg2, _, _ := record.ReadRegistration(rp)
 	errs := reg2.CheckChain()
 	if len(errs) == 0 {
@@ -181,10 +183,10 @@ func TestRegistrationChain(t *testing.T) {
 	if m[DevPlanChanged] == nil {
 		t.Fatalf("broken chain not reported by verify: %v", m)
 	}
-	if _, _, err := record.Register(pp, record.RegisterOptions{Now: t0.Add(50 * time.Hour), GitCommit: func(string) string { return "" }}); err == nil {
+	if _, _, err := record.Register(pp, record.RegisterOptions{Now: fixture.T0.Add(50 * time.Hour), GitCommit: func(string) string { return "" }}); err == nil {
 		t.Error("register accepted a broken record")
 	}
-	write(t, rp, string(rb))
+	fixture.Write(t, rp, string(rb))
 	// An amendment registered after the run.
 	amended2 := strings.Replace(strings.Replace(strings.Replace(amended, "adjust: hochberg", "adjust: bonferroni", 1),
 		`version: "1.1"
@@ -194,11 +196,11 @@ func TestRegistrationChain(t *testing.T) {
       date: "2026-03-04"
       reason: late change
       changes: adjust`, 1)
-	write(t, pp, amended2)
-	if _, ds, err := record.Register(pp, record.RegisterOptions{Now: t0.Add(72 * time.Hour), GitCommit: func(string) string { return "" }}); err != nil {
+	fixture.Write(t, pp, amended2)
+	if _, ds, err := record.Register(pp, record.RegisterOptions{Now: fixture.T0.Add(72 * time.Hour), GitCommit: func(string) string { return "" }}); err != nil {
 		t.Fatal(err, ds)
 	}
-	write(t, pp, amended) // the plan as it was run
+	fixture.Write(t, pp, amended) // the plan as it was run
 	_, m = verifyCodes(t, VerifyOptions{Dir: out, Tool: record.ToolInfo{Version: "test"}})
 	if m[DevAmendmentAfterLock] == nil {
 		t.Fatalf("amendment after the run not reported: %v", m)
@@ -206,8 +208,8 @@ func TestRegistrationChain(t *testing.T) {
 }
 
 func TestSignature(t *testing.T) {
-	pp := writeCascade(t, "1e-12", "1e-12", "1e-12")
-	register(t, pp, t0)
+	pp := fixture.WriteCascade(t, "1e-12", "1e-12", "1e-12")
+	fixture.Register(t, pp, fixture.T0)
 	out := filepath.Join(filepath.Dir(pp), "out")
 	pub1, priv1, err := record.GenerateKey(nil)
 	if err != nil {
@@ -221,7 +223,7 @@ func TestSignature(t *testing.T) {
 		t.Fatal("a public key was accepted as a private key")
 	}
 	key, _ := record.ParsePrivateKey(priv1)
-	writeRun(t, pp, out, t0.Add(time.Hour), key)
+	writeRun(t, pp, out, fixture.T0.Add(time.Hour), key)
 	k1, _ := record.ParsePublicKey(pub1)
 	k2, _ := record.ParsePublicKey(pub2)
 	if rep, _ := verifyCodes(t, VerifyOptions{Dir: out, PublicKey: k1, Tool: record.ToolInfo{Version: "test"}}); !rep.OK() {
@@ -246,7 +248,7 @@ func TestSignature(t *testing.T) {
 	if moved == string(b) {
 		t.Fatal("run_at not found in the record")
 	}
-	write(t, filepath.Join(out, record.AuditFileName), moved)
+	fixture.Write(t, filepath.Join(out, record.AuditFileName), moved)
 	rep, m = verifyCodes(t, VerifyOptions{Dir: out, PublicKey: k1, Tool: record.ToolInfo{Version: "test"}})
 	if rep.OK() || !strings.Contains(strings.Join(m[DevRecordEdited], " "), "integrity.signature") {
 		t.Fatalf("a signed record with a moved run time passed: %+v", rep.Deviations)
@@ -254,12 +256,12 @@ func TestSignature(t *testing.T) {
 }
 
 func TestUnregisteredRun(t *testing.T) {
-	pp := writeCascade(t, "1e-12", "1e-12", "1e-12")
+	pp := fixture.WriteCascade(t, "1e-12", "1e-12", "1e-12")
 	out := filepath.Join(filepath.Dir(pp), "out")
-	if _, err := engine.Run(engine.RunOptions{PlanPath: pp, OutDir: out, Now: t0}); err == nil {
+	if _, err := engine.Run(engine.RunOptions{PlanPath: pp, OutDir: out, Now: fixture.T0}); err == nil {
 		t.Fatal("run without registration accepted")
 	}
-	r, err := engine.Run(engine.RunOptions{PlanPath: pp, OutDir: out, Now: t0, Unregistered: true, Tool: record.ToolInfo{Version: "test"}})
+	r, err := engine.Run(engine.RunOptions{PlanPath: pp, OutDir: out, Now: fixture.T0, Unregistered: true, Tool: record.ToolInfo{Version: "test"}})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -279,10 +281,10 @@ func TestUnregisteredRun(t *testing.T) {
 // A record with a rank step validates against the published schema and
 // verifies clean when re-run.
 func TestRankRecordVerifies(t *testing.T) {
-	_, pp := rankRun(t, false, "      - id: ve\n        model: van-elteren\n"+changeLog+"        compare: treatment\n        within: site\n        answers:\n          - hypothesis: vs\n            estimate: hodges-lehmann\n",
+	_, pp := rankRun(t, false, "      - id: ve\n        model: van-elteren\n"+fixture.ChangeLog+"        compare: treatment\n        within: site\n        answers:\n          - hypothesis: vs\n            estimate: hodges-lehmann\n",
 		"      - id: vs\n        kind: versus-control\n        adjust: holm\n")
 	out := filepath.Join(filepath.Dir(pp), "rec")
-	writeRun(t, pp, out, t0.Add(2*time.Hour), nil)
+	writeRun(t, pp, out, fixture.T0.Add(2*time.Hour), nil)
 	rep, err := Verify(VerifyOptions{Dir: out, Tool: record.ToolInfo{Version: "test"}})
 	if err != nil {
 		t.Fatal(err)
@@ -328,10 +330,10 @@ func TestPairTextShowsTheDifference(t *testing.T) {
 
 // No deviation Verify reports has an empty or an identical recorded / now pair.
 func TestDeviationPairsArePlain(t *testing.T) {
-	pp := writeCascade(t, "0.99999", "1e-12", "1e-12")
+	pp := fixture.WriteCascade(t, "0.99999", "1e-12", "1e-12")
 	dir := filepath.Dir(pp)
 	// An unregistered run.
-	r, err := engine.Run(engine.RunOptions{PlanPath: pp, OutDir: filepath.Join(dir, "unreg"), Now: t0, Unregistered: true, Tool: record.ToolInfo{Version: "test"}})
+	r, err := engine.Run(engine.RunOptions{PlanPath: pp, OutDir: filepath.Join(dir, "unreg"), Now: fixture.T0, Unregistered: true, Tool: record.ToolInfo{Version: "test"}})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -347,15 +349,15 @@ func TestDeviationPairsArePlain(t *testing.T) {
 
 	// A run dated before its registration, then an edited record with a
 	// step the plan does not declare.
-	register(t, pp, t0.Add(time.Hour))
+	fixture.Register(t, pp, fixture.T0.Add(time.Hour))
 	out := filepath.Join(dir, "out")
-	orig := writeRun(t, pp, out, t0, nil)
+	orig := writeRun(t, pp, out, fixture.T0, nil)
 	rep, m = verifyCodes(t, VerifyOptions{Dir: out, Tool: record.ToolInfo{Version: "test"}})
 	if m[DevPlanChanged] == nil {
 		t.Fatalf("run before registration: %v", m)
 	}
 	plainPair(t, "run before registration", rep.Deviations)
-	write(t, filepath.Join(out, record.AuditFileName), strings.Replace(string(orig), `"id": "second"`, `"id": "extra"`, 1))
+	fixture.Write(t, filepath.Join(out, record.AuditFileName), strings.Replace(string(orig), `"id": "second"`, `"id": "extra"`, 1))
 	rep, m = verifyCodes(t, VerifyOptions{Dir: out, Tool: record.ToolInfo{Version: "test"}})
 	if m[DevStepNotDeclared] == nil || m[DevRecordEdited] == nil {
 		t.Fatalf("undeclared step: %v", m)
