@@ -225,4 +225,10 @@ func TestAliasedNamed(t *testing.T) {
 		testkit.CheckClose(t, "SE", al.StdErr[j], full.StdErr[j], 1e-12)
 	}
 	testkit.CheckClose(t, "deviance", al.Deviance, full.Deviance, 1e-12)
+	// A Wald test touching the aliased column is refused.
+	l := mat.NewDense(1, p+1, nil)
+	l.Set(0, p, 1)
+	if _, err := al.Wald(l); err == nil {
+		t.Error("Wald test on an aliased coefficient: no error")
+	}
 }
