@@ -143,8 +143,13 @@ func TestInputsUnchanged(t *testing.T) {
 		if fam == Binomial {
 			opt.Trials = n
 		}
-		if _, err := FitModel(m, y, fam, opt); err != nil && !errors.Is(err, ErrThetaInfinite) {
+		r, err := FitModel(m, y, fam, opt)
+		if err != nil && !errors.Is(err, ErrThetaInfinite) {
 			t.Fatalf("%v: %v", fam, err)
+		}
+		if r != nil {
+			r.QuantileResiduals(1)
+			r.ZeroInflation()
 		}
 	}
 	for i := range y {
@@ -252,3 +257,5 @@ func equalStrings(a, b []string) bool {
 	}
 	return true
 }
+
+func asSep(err error, se **SeparationError) bool { return errors.As(err, se) }
