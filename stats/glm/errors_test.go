@@ -259,3 +259,23 @@ func equalStrings(a, b []string) bool {
 }
 
 func asSep(err error, se **SeparationError) bool { return errors.As(err, se) }
+
+// TestNoConvergenceAndTheta: an iteration limit too small to converge is
+// an error, and so is a negative binomial fit of counts with no
+// over-dispersion (θ → ∞), which wraps ErrThetaInfinite.
+func TestNoConvergenceAndTheta(t *testing.T) {
+	m := blocked(t, 3, 4)
+	y := []float64{12, 7, 3, 15, 8, 2, 11, 9, 4, 14, 6, 3}
+	_, err := FitModel(m, y, Poisson, &Options{MaxIter: 2})
+	wantErr(t, "two iterations", err, "did not converge in 2 steps")
+	// Counts closer to their means than Poisson counts would be.
+	_, err = FitModel(m, y, NegBinomial, nil)
+	if !errors.Is(err, ErrThetaInfinite) {
+		t.Errorf("under-dispersed counts: %v, want ErrThetaInfinite", err)
+	}
+	for _, o := range []*Options{{Tol: 1}, {Tol: -1}, {MaxIter: -1}, {Dispersion: Dispersion(7)}} {
+		if _, err := FitModel(m, y, Poisson, o); err == nil {
+			t.Errorf("options %+v: no error", *o)
+		}
+	}
+}
