@@ -394,7 +394,7 @@ func fit(x mat.Matrix, y []float64, opt *Options, dm *design.Matrix) (*Result, e
 	res.AIC = -2*res.LogLik + 2*k
 	res.BIC = -2*res.LogLik + math.Log(nf)*k
 
-	res.cov = res.covariance()
+	res.cov = res.covariance(res.Sigma * res.Sigma)
 	res.coefTable()
 	return res, nil
 }
@@ -443,8 +443,8 @@ func (r *Result) uncentre(b []float64) {
 	b[r.ic] -= s
 }
 
-// covariance returns sigma^2 B B' with B = A R11^{-1}, A the map toOriginal.
-func (r *Result) covariance() *mat.SymDense {
+// covariance returns s2 B B' with B = A R11^{-1}, A the map toOriginal.
+func (r *Result) covariance(s2 float64) *mat.SymDense {
 	q := r.q
 	rk := q.rank
 	ri := q.rinv()
@@ -460,7 +460,7 @@ func (r *Result) covariance() *mat.SymDense {
 		}
 	}
 	cov := mat.NewSymDense(r.P, nil)
-	cov.SymOuterK(r.Sigma*r.Sigma, B)
+	cov.SymOuterK(s2, B)
 	return cov
 }
 
@@ -500,6 +500,13 @@ func (r *Result) CoefCov() *mat.SymDense {
 	c.CopySym(r.cov)
 	return c
 }
+
+// UnscaledCov returns the P x P matrix (X'WX)^-1, the covariance of the
+// estimates divided by Sigma², computed from R without the residual (so
+// also for an exact fit, Sigma 0). Rows and columns of aliased
+// coefficients are zero. Weighted iterative fits (stats/glm) scale it by
+// their own dispersion.
+func (r *Result) UnscaledCov() *mat.SymDense { return r.covariance(1) }
 
 // DF returns the degrees of freedom of the contrast l: the residual degrees
 // of freedom, the same for every contrast in a fixed-effects model.
