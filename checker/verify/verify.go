@@ -112,8 +112,12 @@ func (e *MissingInputError) Error() string {
 }
 
 // DefaultRelTol is the tolerance verify uses for floating-point numbers:
-// |a-b| <= RelTol*max(|a|,|b|) or |a-b| <= RelTol (absolute, near zero).
-// Integers, strings, decisions and counts are compared exactly.
+// the recorded a and the re-computed b match when they have the same sign
+// and |a-b| <= RelTol*max(|a|,|b|), a relative comparison that works at
+// every scale (a response measured around 1e-11 is held to the same nine
+// digits as one around 1e3). There is no absolute floor, except that a
+// recorded zero must be re-computed as zero (|b| <= 1e-300). Integers,
+// strings, decisions and counts are compared exactly.
 const DefaultRelTol = 1e-9
 
 // VerifyReport is the outcome of Verify.
@@ -514,10 +518,26 @@ func (c *comparer) compare(path string, a, b any, out *[]Deviation) {
 	}
 }
 
+// closeEnough reports whether the re-computed b matches the recorded a:
+// the same sign and |a-b| <= tol*max(|a|,|b|), which holds at every
+// scale. A zero on either side is matched only by a zero (or a value
+// below zeroFloor, an underflow).
 func closeEnough(a, b, tol float64) bool {
-	d := math.Abs(a - b)
-	return d <= tol || d <= tol*math.Max(math.Abs(a), math.Abs(b))
+	if a == b {
+		return true
+	}
+	if a == 0 || b == 0 {
+		return math.Abs(a-b) <= zeroFloor
+	}
+	if math.Signbit(a) != math.Signbit(b) {
+		return false
+	}
+	return math.Abs(a-b) <= tol*math.Max(math.Abs(a), math.Abs(b))
 }
+
+// zeroFloor is the only absolute tolerance: what a recorded zero may be
+// re-computed as (floating-point underflow, nothing a measurement gives).
+const zeroFloor = 1e-300
 
 // maxPairText is the longest recorded or now text a deviation shows.
 const maxPairText = 80
