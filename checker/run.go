@@ -51,12 +51,6 @@ var ErrPlanDoesNotLint = record.ErrPlanDoesNotLint
 // returns the record; see [engine.Run].
 func Run(opt RunOptions) (*Result, error) { return engine.Run(opt) }
 
-// WriteRecord seals r (signing it when key is not nil) and writes it to
-// dir; see [record.WriteRecord].
-func WriteRecord(dir string, r *Result, key ed25519.PrivateKey) error {
-	return record.WriteRecord(dir, r, key)
-}
-
 // Register appends an entry for the plan to its registration file; see
 // [record.Register].
 func Register(planPath string, opt RegisterOptions) (*RegisterResult, plan.Diagnostics, error) {

@@ -161,6 +161,9 @@ func check(opt VerifyOptions) (*VerifyReport, error) {
 	} else {
 		dir = filepath.Dir(recPath)
 	}
+	if err := notScratch(dir); err != nil {
+		return nil, err
+	}
 	raw, err := os.ReadFile(recPath)
 	if err != nil {
 		return nil, fmt.Errorf("reading audit record: %w", err)
@@ -325,6 +328,22 @@ func check(opt VerifyOptions) (*VerifyReport, error) {
 		rep.Deviations = append(rep.Deviations, d)
 	}
 	return rep, nil
+}
+
+// notScratch refuses the folders furrow run keeps beside a run folder
+// while it works: whatever they hold, they are not run folders.
+func notScratch(dir string) error {
+	abs, err := filepath.Abs(dir)
+	if err != nil {
+		abs = dir
+	}
+	switch record.ScratchKind(filepath.Base(abs)) {
+	case "partial":
+		return fmt.Errorf("%s is the unfinished folder of a furrow run, not a run folder: a run is written there and renamed into place only when complete, so this one was interrupted (or is still being written); delete it", filepath.ToSlash(dir))
+	case "old":
+		return fmt.Errorf("%s is a run folder that furrow run --replace set aside to delete, not a run folder: the run that replaced it was interrupted or could not remove it; delete it", filepath.ToSlash(dir))
+	}
+	return nil
 }
 
 // plainPairs keeps a deviation's recorded / now pair only when it says

@@ -12,7 +12,7 @@ import (
 const runUsage = `usage: furrow run --out DIR [--unregistered] [--replace] [--sign KEY] PLAN [DATA]
 
 Runs the registered plan on the final data (the plan's data.file, or DATA)
-and writes the audit record DIR/audit.json: inputs with their hashes, every
+and writes the run folder DIR: the audit record DIR/audit.json with inputs with their hashes, every
 excluded row and the rule that removed it, every executed step with its
 model, checks (statistic, p, threshold, verdict) and the decision with the
 plan line that caused it, the reported step's full results, and an
@@ -23,12 +23,21 @@ run; a last step whose checks fail is reported with its assumptions unmet.
 The plan must match its registration record (see "furrow register");
 --unregistered runs anyway and marks the record as unregistered. Data
 errors stop the run; data warnings are carried into the record. Inputs
-are never modified. DIR must not exist unless --replace is given.
+are never modified.
+
+DIR is written whole or not at all: the reports, the tables and the record
+(last) go into a new folder beside it, .DIR.furrow-partial-*, which is
+renamed to DIR when complete. DIR must not exist, and is claimed in one
+step when the run is complete, so two runs into it cannot both succeed.
+--replace replaces a run folder whole: the old one is renamed aside
+(.DIR.furrow-old-*), the new one renamed in, the old one removed. A run
+that is interrupted may leave these folders beside DIR; they are never
+run folders (verify refuses them) and can be deleted.
 
 Flags:
   --out DIR        run directory to create (required)
   --unregistered   run without a matching registration; the record says so
-  --replace        replace the record in an existing DIR
+  --replace        replace the run folder DIR, whole, if it exists
   --sign KEY       sign the record with this private key (see "furrow keygen")
 
 Examples:
@@ -66,8 +75,8 @@ func runRun(e *env, c *command, args []string) int {
 			return fail(e, c, fmt.Errorf("%s: %w", e.rel(*sign), err))
 		}
 	}
-	if _, err := os.Stat(*out); err == nil && !*replace {
-		return fail(e, c, fmt.Errorf("%s exists; choose a new run directory or pass --replace", e.rel(*out)))
+	if err := checker.CheckRunDir(*out, *replace); err != nil {
+		return failRunDir(e, c, err)
 	}
 	dataPath := ""
 	if len(pos) == 2 {
@@ -92,14 +101,8 @@ func runRun(e *env, c *command, args []string) int {
 	case err != nil:
 		return fail(e, c, err)
 	}
-	if err := os.MkdirAll(*out, 0o755); err != nil {
-		return fail(e, c, err)
-	}
-	if err := checker.WriteRecord(*out, res, key); err != nil {
-		return fail(e, c, err)
-	}
-	if err := checker.WriteReports(*out, res); err != nil {
-		return fail(e, c, err)
+	if err := checker.WriteRun(*out, res, key, *replace); err != nil {
+		return failRunDir(e, c, err)
 	}
 	for _, ep := range res.Endpoints {
 		fmt.Fprintf(e.stdout, "%s: %s (step %s)\n", ep.ID, ep.Status, ep.Reported)
@@ -110,6 +113,18 @@ func runRun(e *env, c *command, args []string) int {
 	fmt.Fprintf(e.stdout, "wrote %s/%s %s\n", e.rel(*out), checker.AuditFileName, res.Integrity.ContentHash)
 	fmt.Fprintf(e.stdout, "wrote %s/%s, %s/%s and %s/%s/*.csv\n", e.rel(*out), checker.ReportHTMLName, e.rel(*out), checker.ReportMDName, e.rel(*out), checker.TablesDir)
 	return exitOK
+}
+
+// failRunDir prints an error about the run folder, its path relative to
+// the working folder.
+func failRunDir(e *env, c *command, err error) int {
+	var ee *checker.ExistsError
+	if errors.As(err, &ee) {
+		rel := *ee
+		rel.Dir = e.rel(ee.Dir)
+		err = &rel
+	}
+	return fail(e, c, err)
 }
 
 // buildInfo describes the build for the record (Go version).
