@@ -93,6 +93,7 @@ type DeviationCode = verify.DeviationCode
 // The deviation codes; see [verify.DeviationCode].
 const (
 	DevRecordEdited       = verify.DevRecordEdited
+	DevReportEdited       = verify.DevReportEdited
 	DevPlanChanged        = verify.DevPlanChanged
 	DevAmendmentAfterLock = verify.DevAmendmentAfterLock
 	DevDataChanged        = verify.DevDataChanged

@@ -33,6 +33,9 @@ func EncodeRecord(r *Result) ([]byte, error) {
 // key is non-nil, in r.Integrity.
 func Seal(r *Result, key ed25519.PrivateKey) error {
 	r.Integrity = Integrity{}
+	if r.Files == nil {
+		r.Files = []FileHash{}
+	}
 	b, err := EncodeRecord(r)
 	if err != nil {
 		return err

@@ -64,8 +64,23 @@ type Result struct {
 	// not a difference; the record keeps them because the plan as it was
 	// run is not kept, so its positions could not be re-derived later.
 	PlanPaths map[string]string `json:"plan_paths"`
+	// Files lists every file the run wrote into its folder beside the
+	// record (report.html, report.md, each table), by slash path inside
+	// the folder, with the SHA-256 of its bytes, sorted by path. It is
+	// inside the content hash, so verify can hold the whole folder to the
+	// record (see the package documentation, "Run folder"); empty for a
+	// record written alone.
+	Files []FileHash `json:"files"`
 	// Integrity is the content hash and optional signature.
 	Integrity Integrity `json:"integrity"`
+}
+
+// FileHash is one file of a run folder and the hash of its bytes.
+type FileHash struct {
+	// Path is the file's slash path inside the run folder ("tables/checks.csv").
+	Path string `json:"path"`
+	// SHA256 is "sha256:<hex>" of the file's bytes.
+	SHA256 string `json:"sha256"`
 }
 
 // ToolInfo identifies the program that wrote a record. Both values are

@@ -33,6 +33,7 @@ func sampleResult() *Result {
 			Rows: 13, Columns: []string{"unit", "treatment", "y"}, RowsAnalysed: 12,
 		},
 		PlanWarnings: []Finding{},
+		Files:        []FileHash{{Path: "report.md", SHA256: SHA256Hex([]byte("m"))}, {Path: "tables/checks.csv", SHA256: SHA256Hex([]byte("c"))}},
 		PlanPaths: map[string]string{"plan.yaml:30:5": "exclusions[0]", "plan.yaml:60:5": "endpoints[0]",
 			"plan.yaml:64:9": "endpoints[0].steps[0]", "plan.yaml:70:13": "endpoints[0].steps[0].checks[0]"},
 		DataWarnings:   []Finding{{Severity: "warning", Code: "value-implausible", Pos: "data.csv:4:3", Summary: "value is odd"}},

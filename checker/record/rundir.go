@@ -8,7 +8,9 @@ import (
 	"fmt"
 	"io/fs"
 	"os"
+	"path"
 	"path/filepath"
+	"sort"
 	"strings"
 )
 
@@ -131,6 +133,11 @@ func WriteRun(dir string, r *Result, key ed25519.PrivateKey, replace bool, fill 
 	if err := fill(tmp); err != nil {
 		return err
 	}
+	files, err := hashFiles(tmp)
+	if err != nil {
+		return err
+	}
+	r.Files = files
 	if err := WriteRecord(tmp, r, key); err != nil {
 		return err
 	}
@@ -210,6 +217,43 @@ func makeScratch(path, tag string) (string, error) {
 			return "", fmt.Errorf("creating a folder beside %s: %w", path, err)
 		}
 	}
+}
+
+// hashFiles lists every regular file under root, by slash path, with the
+// SHA-256 of its bytes, sorted by path.
+func hashFiles(root string) ([]FileHash, error) {
+	files := []FileHash{}
+	err := filepath.WalkDir(root, func(p string, d fs.DirEntry, err error) error {
+		if err != nil || d.IsDir() {
+			return err
+		}
+		if !d.Type().IsRegular() {
+			return fmt.Errorf("%s is not a regular file", p)
+		}
+		b, err := os.ReadFile(p)
+		if err != nil {
+			return err
+		}
+		rel, err := filepath.Rel(root, p)
+		if err != nil {
+			return err
+		}
+		files = append(files, FileHash{Path: filepath.ToSlash(rel), SHA256: SHA256Hex(b)})
+		return nil
+	})
+	if err != nil {
+		return nil, fmt.Errorf("listing the files of the run: %w", err)
+	}
+	sort.Slice(files, func(i, j int) bool { return files[i].Path < files[j].Path })
+	return files, nil
+}
+
+// LocalPath reports whether p, a path from a record's file list, names a
+// file inside the run folder: a clean, relative slash path that does not
+// leave the folder and is not the record itself.
+func LocalPath(p string) bool {
+	return p != "" && p != AuditFileName && path.Clean(p) == p && !strings.Contains(p, `\`) &&
+		filepath.IsLocal(filepath.FromSlash(p))
 }
 
 // syncTree flushes every folder under root to disk (the files were

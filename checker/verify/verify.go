@@ -38,6 +38,10 @@ const (
 	DevDataChanged DeviationCode = "data-changed"
 	// DevRecordEdited: the content hash or the signature does not match.
 	DevRecordEdited DeviationCode = "record-edited"
+	// DevReportEdited: a file of the run folder (report, table) differs
+	// from the SHA-256 the record lists for it, is missing, or is in the
+	// folder without being one of the files the run wrote.
+	DevReportEdited DeviationCode = "report-edited"
 	// DevResultsDiffer: re-running the analysis gives a different number or decision.
 	DevResultsDiffer DeviationCode = "results-differ"
 	// DevStepNotDeclared: the record contains a step the plan does not declare.
@@ -196,6 +200,7 @@ func check(opt VerifyOptions) (*VerifyReport, error) {
 	} else if opt.PublicKey != nil {
 		add(DevRecordEdited, "integrity.signature", "", "", "the record is not signed, but a public key was given")
 	}
+	verifyFiles(dir, &rec, add)
 	if rec.Unregistered {
 		add(DevUnregisteredRun, "unregistered", "", "", "the run was made without a matching registration")
 	}
@@ -304,7 +309,8 @@ func check(opt VerifyOptions) (*VerifyReport, error) {
 	// plan_paths is not compared as such: positions are compared through
 	// it (by the plan data path each stands for), so lines that moved in
 	// the plan are not a difference.
-	for _, k := range []string{"run_at", "plan_location", "integrity", "tool", "unregistered", "plan_paths"} {
+	// files is checked against the folder above.
+	for _, k := range []string{"run_at", "plan_location", "integrity", "tool", "unregistered", "plan_paths", "files"} {
 		delete(am, k)
 		delete(bm, k)
 	}
@@ -328,6 +334,49 @@ func check(opt VerifyOptions) (*VerifyReport, error) {
 		rep.Deviations = append(rep.Deviations, d)
 	}
 	return rep, nil
+}
+
+// verifyFiles holds the run folder to the record's list of the files the
+// run wrote: every one there with the bytes hashed, and no other file
+// beside the record.
+func verifyFiles(dir string, rec *record.Result, add func(DeviationCode, string, string, string, string)) {
+	listed := map[string]bool{}
+	for i, f := range rec.Files {
+		if !record.LocalPath(f.Path) {
+			add(DevRecordEdited, fmt.Sprintf("files[%d].path", i), "", "", fmt.Sprintf("the record lists %q among the files the run wrote, which is not a file inside the run folder", f.Path))
+			continue
+		}
+		listed[f.Path] = true
+		field := fmt.Sprintf("files[%d].sha256", i)
+		b, err := os.ReadFile(filepath.Join(dir, filepath.FromSlash(f.Path)))
+		switch {
+		case errors.Is(err, fs.ErrNotExist):
+			add(DevReportEdited, field, "", "", fmt.Sprintf("%s, which the run wrote, is not in the run folder", f.Path))
+		case err != nil:
+			add(DevReportEdited, field, "", "", fmt.Sprintf("%s, which the run wrote, cannot be read: %v", f.Path, err))
+		default:
+			if got := record.SHA256Hex(b); got != f.SHA256 {
+				add(DevReportEdited, field, f.SHA256, got, fmt.Sprintf("%s is not the file the run wrote: its SHA-256 is not the one the record lists", f.Path))
+			}
+		}
+	}
+	var extra []string
+	filepath.WalkDir(dir, func(p string, d fs.DirEntry, err error) error {
+		if err != nil || d.IsDir() {
+			return nil
+		}
+		rel, err := filepath.Rel(dir, p)
+		if err != nil {
+			return nil
+		}
+		if rel = filepath.ToSlash(rel); rel != record.AuditFileName && !listed[rel] {
+			extra = append(extra, rel)
+		}
+		return nil
+	})
+	for _, rel := range extra {
+		add(DevReportEdited, "files", "", "", fmt.Sprintf("%s is in the run folder but is not one of the files the run wrote", rel))
+	}
 }
 
 // notScratch refuses the folders furrow run keeps beside a run folder

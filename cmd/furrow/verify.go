@@ -15,7 +15,8 @@ import (
 const verifyUsage = `usage: furrow verify [--json] [--key PUB] [--plan PLAN] [--data DATA] DIR
 
 Confirms a run: checks the record's integrity hash (and its signature,
-which must be by PUB when --key is given), the plan against the record and
+which must be by PUB when --key is given), every file of the run folder
+against the SHA-256 the record lists for it, the plan against the record and
 against its registration chain (registered before the run, no amendment
 after it), the data file against its hash, then re-runs the analysis and
 compares every number (relative tolerance 1e-9) and every decision
@@ -34,6 +35,7 @@ Deviation codes:
   amendment-after-data-lock         an amendment was registered, or is dated, after the data were analysed
   data-changed                      the data file differs from the one analysed
   record-edited                     the record's content hash or signature does not match
+  report-edited                     a report or table file differs from its hash in the record, is missing, or is not the run's
   results-differ                    the re-run gives a different number or decision
   step-not-declared                 the record holds a step the plan does not declare
   data-file-not-declared            the run analysed a file other than the plan's data.file (informational)
@@ -137,7 +139,7 @@ const maxShownPerCode = 6
 // codeOrder is the order in which deviation codes are printed: what
 // invalidates the record first, informational last.
 var codeOrder = []checker.DeviationCode{
-	checker.DevRecordEdited, checker.DevPlanChanged, checker.DevAmendmentAfterLock, checker.DevDataChanged,
+	checker.DevRecordEdited, checker.DevReportEdited, checker.DevPlanChanged, checker.DevAmendmentAfterLock, checker.DevDataChanged,
 	checker.DevUnregisteredRun, checker.DevStepNotDeclared, checker.DevResultsDiffer, checker.DevDataNotDeclared, checker.DevToolVersion,
 }
 
