@@ -102,6 +102,7 @@ const (
 	DevResultsDiffer      = verify.DevResultsDiffer
 	DevToolVersion        = verify.DevToolVersion
 	DevDataNotDeclared    = verify.DevDataNotDeclared
+	DevPlanReformatted    = verify.DevPlanReformatted
 )
 
 // Verify re-runs the analysis of a record and compares; see

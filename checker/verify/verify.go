@@ -55,8 +55,15 @@ const (
 	DevDataNotDeclared DeviationCode = "data-file-not-declared"
 )
 
+// DevPlanReformatted: the plan file's bytes differ from the file that was
+// run but the plan does not: its canonical hash is the same (comments or
+// layout only). Informational: the plan hash is what is registered.
+const DevPlanReformatted DeviationCode = "plan-file-reformatted"
+
 // Informational reports whether the code does not by itself fail verification.
-func (c DeviationCode) Informational() bool { return c == DevToolVersion || c == DevDataNotDeclared }
+func (c DeviationCode) Informational() bool {
+	return c == DevToolVersion || c == DevDataNotDeclared || c == DevPlanReformatted
+}
 
 // Deviation is one finding of Verify.
 type Deviation struct {
@@ -211,6 +218,12 @@ func check(opt VerifyOptions) (*VerifyReport, error) {
 	if rec.Tool.Version != opt.Tool.Version {
 		add(DevToolVersion, "tool.version", rec.Tool.Version, opt.Tool.Version, "the record was written by another furrow version")
 	}
+	if opt.Tool.Name != "" && rec.Tool.Name != opt.Tool.Name {
+		add(DevToolVersion, "tool.name", rec.Tool.Name, opt.Tool.Name, "the record names another program than the one checking it")
+	}
+	if opt.Tool.Build != "" && rec.Tool.Build != opt.Tool.Build {
+		add(DevToolVersion, "tool.build", rec.Tool.Build, opt.Tool.Build, "the record was written by another build of furrow")
+	}
 	// 2. Plan and data files.
 	// The plan is where the record says it was seen from the run directory
 	// (plan_location, a hint outside the content hash); the data and the
@@ -250,6 +263,14 @@ func check(opt VerifyOptions) (*VerifyReport, error) {
 	// 3. Registration chain (read fresh, next to the plan).
 	if !rec.Unregistered {
 		verifyRegistration(planPath, &rec, add)
+	} else if ref := rec.Inputs.Registration; ref != nil {
+		// An unregistered run may name a registration it did not match;
+		// the record's copy of it must still be the file's.
+		if reg, raw, err := record.ReadRegistration(record.RegistrationPath(planPath)); err == nil && len(reg.CheckChain()) == 0 {
+			if found := entryIndex(reg, ref.Head); found >= 0 {
+				compareRegistrationCopy(reg, raw, found, &rec, add)
+			}
+		}
 	}
 	// 4. Re-run and compare.
 	now, err := engine.Run(engine.RunOptions{PlanPath: planPath, DataPath: dataPath, OutDir: dir, Tool: rec.Tool,
@@ -317,11 +338,21 @@ func check(opt VerifyOptions) (*VerifyReport, error) {
 	var diffs []Deviation
 	c := comparer{tol: tol, pathsA: rec.PlanPaths, pathsB: now.PlanPaths}
 	c.compare("", am, bm, &diffs)
+	if now.Inputs.PlanFileSHA256 == rec.Inputs.PlanFileSHA256 {
+		// The very plan file that was run: every position the record
+		// holds stands for the plan value it stands for now (matched by
+		// line and column: the file's name may differ under --plan).
+		comparePlanPaths(rec.PlanPaths, now.PlanPaths, &diffs)
+	}
 	for _, d := range diffs {
 		code := DevResultsDiffer
 		switch {
 		case d.Field == "inputs.data_file_sha256" || d.Field == "inputs.table_hash":
 			code = DevDataChanged
+		case d.Field == "inputs.plan_file_sha256" && !planChanged:
+			code = DevPlanReformatted
+			d.Summary = "the plan file's bytes are not the ones that were run, but the plan is the same plan: its canonical hash is unchanged (comments or layout only)"
+			d.Recorded, d.Now = rec.Inputs.PlanFileSHA256, now.Inputs.PlanFileSHA256
 		case d.Field == "inputs.plan_hash" || d.Field == "inputs.plan_file_sha256":
 			continue // reported above from the plan itself
 		case planChanged && strings.HasPrefix(d.Field, "trial."):
@@ -411,7 +442,7 @@ func plainPairs(rep *VerifyReport) {
 // record: chain intact, the plan registered as run, registration before the run.
 func verifyRegistration(planPath string, rec *record.Result, add func(DeviationCode, string, string, string, string)) {
 	rp := record.RegistrationPath(planPath)
-	reg, _, err := record.ReadRegistration(rp)
+	reg, raw, err := record.ReadRegistration(rp)
 	if err != nil {
 		add(DevPlanChanged, "inputs.registration", "", "", "the registration record cannot be read: "+err.Error())
 		return
@@ -425,15 +456,13 @@ func verifyRegistration(planPath string, rec *record.Result, add func(DeviationC
 		return
 	}
 	// The entry the run was checked against must still be in the chain, unchanged.
-	found := -1
-	for i, e := range reg.Entries {
-		if e.EntryHash == ref.Head {
-			found = i
-		}
-	}
+	found := entryIndex(reg, ref.Head)
 	if found < 0 {
 		add(DevPlanChanged, "inputs.registration.head", "", "", fmt.Sprintf("the registration entry the run was checked against (%s) is no longer in the registration record (history rewritten)", ref.Head))
 		return
+	}
+	if len(reg.CheckChain()) == 0 {
+		compareRegistrationCopy(reg, raw, found, rec, add)
 	}
 	e := reg.Entries[found]
 	if e.PlanHash != rec.Inputs.PlanHash {
@@ -490,6 +519,107 @@ func verifyRegistration(planPath string, rec *record.Result, add func(DeviationC
 		add(DevAmendmentAfterLock, field, "", "",
 			fmt.Sprintf("plan version %s was appended to the registration after the entry the run was checked against (entry %d), so after the data were analysed (%s), though it says it was registered %s: %s",
 				later.PlanVersion, e.Seq, rec.RunAt, later.RegisteredAt, later.Reason))
+	}
+}
+
+// entryIndex is the index of the registration entry with entry hash
+// head, -1 when there is none.
+func entryIndex(reg *record.Registration, head string) int {
+	for i, e := range reg.Entries {
+		if e.EntryHash == head {
+			return i
+		}
+	}
+	return -1
+}
+
+// compareRegistrationCopy holds the record's copy of the registration
+// (inputs.registration) to the registration record, whose chain is
+// intact: the path, every field of every entry up to the one the run was
+// checked against (entries[found], the head at run time), whether that
+// entry registers the plan that was run, and the file's SHA-256 as it was
+// at run time (the file now, or, when entries were appended since, the
+// file register wrote with the entries up to the head).
+func compareRegistrationCopy(reg *record.Registration, raw []byte, found int, rec *record.Result, add func(DeviationCode, string, string, string, string)) {
+	ref := rec.Inputs.Registration
+	edited := func(field, recorded, now, what string) {
+		add(DevRecordEdited, "inputs.registration."+field, recorded, now,
+			"the record's copy of the registration differs from the registration record: "+what)
+	}
+	if want := record.RegistrationPath(rec.Inputs.PlanPath); ref.Path != want {
+		edited("path", ref.Path, want, fmt.Sprintf("it names %s, but the registration record of %s is %s", ref.Path, rec.Inputs.PlanPath, want))
+	}
+	if len(ref.Chain) != found+1 {
+		edited("chain", fmt.Sprintf("%d entries", len(ref.Chain)), fmt.Sprintf("%d entries", found+1),
+			fmt.Sprintf("the run was checked against entry %d, so the copy must hold entries 1 to %d", found+1, found+1))
+	}
+	for i := 0; i < len(ref.Chain) && i <= found; i++ {
+		c, e := ref.Chain[i], reg.Entries[i]
+		for _, f := range []struct{ name, rec, file string }{
+			{"seq", strconv.Itoa(c.Seq), strconv.Itoa(e.Seq)},
+			{"plan_version", c.PlanVersion, e.PlanVersion},
+			{"plan_hash", c.PlanHash, e.PlanHash},
+			{"registered_at", c.RegisteredAt, e.RegisteredAt},
+			{"reason", c.Reason, e.Reason},
+			{"previous", c.Previous, e.Previous},
+			{"entry_hash", c.EntryHash, e.EntryHash},
+		} {
+			if f.rec != f.file {
+				edited(fmt.Sprintf("chain[%d].%s", i, f.name), f.rec, f.file, fmt.Sprintf("entry %d's %s", i+1, f.name))
+			}
+		}
+	}
+	if want := reg.Entries[found].PlanHash == rec.Inputs.PlanHash; ref.Matches != want {
+		edited("matches", strconv.FormatBool(ref.Matches), strconv.FormatBool(want),
+			fmt.Sprintf("entry %d does%s register the plan that was run", found+1, map[bool]string{true: "", false: " not"}[want]))
+	}
+	then := raw
+	if found < len(reg.Entries)-1 {
+		prefix := *reg
+		prefix.Entries = reg.Entries[:found+1]
+		if b, err := json.MarshalIndent(prefix, "", "  "); err == nil {
+			then = append(b, '\n')
+		}
+	}
+	if got := record.SHA256Hex(then); got != ref.FileSHA256 {
+		what := "the registration record"
+		if found < len(reg.Entries)-1 {
+			what = fmt.Sprintf("the registration record up to entry %d", found+1)
+		}
+		add(DevPlanChanged, "inputs.registration.file_sha256", ref.FileSHA256, got,
+			fmt.Sprintf("%s is not, byte for byte, the file the run was checked against, though its entries are", what))
+	}
+}
+
+// comparePlanPaths appends a deviation for every plan position whose plan
+// value differs between the record (a) and the re-run (b), positions
+// matched by line and column.
+func comparePlanPaths(a, b map[string]string, out *[]Deviation) {
+	lineCol := func(pos string) string {
+		parts := strings.Split(pos, ":")
+		if len(parts) < 3 {
+			return pos
+		}
+		return strings.Join(parts[len(parts)-2:], ":")
+	}
+	now := map[string]string{}
+	for k, v := range b {
+		now[lineCol(k)] = v
+	}
+	keys := make([]string, 0, len(a))
+	for k := range a {
+		keys = append(keys, k)
+	}
+	sort.Strings(keys)
+	for _, k := range keys {
+		if v, ok := now[lineCol(k)]; !ok || v != a[k] {
+			*out = append(*out, Deviation{Field: fmt.Sprintf("plan_paths[%q]", k), Recorded: a[k], Now: v,
+				Summary: "the plan position stands for another plan value in the re-run"})
+		}
+	}
+	if len(a) != len(b) {
+		*out = append(*out, Deviation{Field: "plan_paths", Recorded: fmt.Sprintf("%d positions", len(a)), Now: fmt.Sprintf("%d positions", len(b)),
+			Summary: "the re-run holds another number of plan positions"})
 	}
 }
 

@@ -39,7 +39,8 @@ Deviation codes:
   results-differ                    the re-run gives a different number or decision
   step-not-declared                 the record holds a step the plan does not declare
   data-file-not-declared            the run analysed a file other than the plan's data.file (informational)
-  tool-version-differs              another furrow version wrote the record (informational)
+  plan-file-reformatted             the plan file's bytes differ, not the plan: comments or layout only (informational)
+  tool-version-differs              another furrow version or build wrote the record (informational)
 
 Flags:
   --json        print the report as JSON
@@ -88,7 +89,7 @@ func runVerify(e *env, c *command, args []string) int {
 		}
 	}
 	rep, err := checker.Verify(checker.VerifyOptions{Dir: pos[0], PlanPath: *planPath, DataPath: *dataPath, PublicKey: pub,
-		Tool: checker.ToolInfo{Name: "furrow", Version: toolVersion()}})
+		Tool: checker.ToolInfo{Name: "furrow", Version: toolVersion(), Build: buildInfo()}})
 	var missing *checker.MissingInputError
 	if errors.As(err, &missing) {
 		fmt.Fprintf(e.stderr, "furrow verify: %s\n", missingText(e, missing, *planPath, *dataPath))
@@ -140,7 +141,7 @@ const maxShownPerCode = 6
 // invalidates the record first, informational last.
 var codeOrder = []checker.DeviationCode{
 	checker.DevRecordEdited, checker.DevReportEdited, checker.DevPlanChanged, checker.DevAmendmentAfterLock, checker.DevDataChanged,
-	checker.DevUnregisteredRun, checker.DevStepNotDeclared, checker.DevResultsDiffer, checker.DevDataNotDeclared, checker.DevToolVersion,
+	checker.DevUnregisteredRun, checker.DevStepNotDeclared, checker.DevResultsDiffer, checker.DevDataNotDeclared, checker.DevPlanReformatted, checker.DevToolVersion,
 }
 
 // fieldWeight orders differing fields so that decisions and verdicts come
