@@ -80,6 +80,23 @@ type VerifyOptions = verify.VerifyOptions
 // VerifyReport is what Verify found; see [verify.VerifyReport].
 type VerifyReport = verify.VerifyReport
 
+// SignatureInfo says whether a record is signed and by which key; see
+// [verify.SignatureInfo].
+type SignatureInfo = verify.SignatureInfo
+
+// ReadPrivateKeyFile reads a private key file, refusing one that others
+// may read; see [record.ReadPrivateKeyFile].
+func ReadPrivateKeyFile(path string) (ed25519.PrivateKey, error) {
+	return record.ReadPrivateKeyFile(path)
+}
+
+// KeyModeError is ReadPrivateKeyFile's error for a key file that others
+// may read; see [record.KeyModeError].
+type KeyModeError = record.KeyModeError
+
+// Fingerprint names a public key briefly; see [record.Fingerprint].
+func Fingerprint(pub ed25519.PublicKey) string { return record.Fingerprint(pub) }
+
 // MissingInputError is Verify's error when the plan or the data are not
 // where the record puts them; see [verify.MissingInputError].
 type MissingInputError = verify.MissingInputError

@@ -217,7 +217,12 @@ func TestRecordDeterministic(t *testing.T) {
 			diff = append(diff, l1[i])
 		}
 	}
-	if len(diff) != 1 || !strings.Contains(diff[0], `"run_at"`) {
-		t.Fatalf("two runs differ in more than run_at: %q", diff)
+	// run_at is inside the content hash, so the hash differs too.
+	if len(diff) != 2 || !strings.Contains(diff[0], `"run_at"`) || !strings.Contains(diff[1], `"content_hash"`) {
+		t.Fatalf("two runs differ in more than run_at and its content hash: %q", diff)
+	}
+	// At the same time, they are the same.
+	if b3 := writeRun(t, pp, out, t0.Add(time.Hour), nil); string(b3) != string(b1) {
+		t.Fatal("two runs at the same time differ")
 	}
 }

@@ -61,11 +61,13 @@ func Seal(r *Result, key ed25519.PrivateKey) error {
 //
 //  1. Parse the file as one JSON object. Numbers are kept as the exact
 //     token text found in the file (no conversion to binary floating point).
-//  2. Remove the top-level members "run_at" (the wall-clock time),
-//     "plan_location" (where the plan was, relative to the run directory:
-//     a hint for finding it, which would otherwise make the hash depend on
-//     where the run directory and the plan are) and "integrity" (the hash
-//     and signature themselves).
+//  2. Remove the top-level members "plan_location" (where the plan was,
+//     relative to the run directory: a hint for finding it, which would
+//     otherwise make the hash depend on where the run directory and the
+//     plan are) and "integrity" (the hash and signature themselves).
+//     Everything else is hashed, "run_at" (the time of the run, which
+//     verify compares with the registration and its amendments) and
+//     "files" (the hashes of the reports and tables) included.
 //  3. Serialise the rest with no whitespace at all: object members sorted
 //     by key in byte order, array order kept, number tokens written
 //     verbatim, literals as true, false, null, and strings escaped as Go's
@@ -76,9 +78,14 @@ func Seal(r *Result, key ed25519.PrivateKey) error {
 //
 // A signature (furrow run --sign) is ed25519 over the bytes
 // "furrow audit record v1\n", the content-hash string ("sha256:..."),
-// "\nrun_at " and the record's run_at value, stored base64-encoded with
-// the signer's public key. The run time is not in the content hash (two
-// runs give identical content) but the signature covers it.
+// "\nrun_at " and the record's run_at value, stored base64-encoded
+// (standard, padded, canonical) with the signer's public key. The run
+// time is in the content hash as well; it has its own line in the signed
+// bytes because the first records kept it out of the hash.
+//
+// Two runs of the same plan on the same data give the same content hash
+// when they are made at the same time (SOURCE_DATE_EPOCH), wherever the
+// plan and the run directory are.
 func ContentHash(record []byte) (string, error) {
 	dec := json.NewDecoder(bytes.NewReader(record))
 	dec.UseNumber()
@@ -92,7 +99,7 @@ func ContentHash(record []byte) (string, error) {
 	}
 	content := make(map[string]any, len(obj))
 	for k, v := range obj {
-		if k == "run_at" || k == "plan_location" || k == "integrity" {
+		if k == "plan_location" || k == "integrity" {
 			continue
 		}
 		content[k] = v

@@ -21,10 +21,13 @@ type Result struct {
 	Format int `json:"format"`
 	// Tool identifies the program that produced the record.
 	Tool ToolInfo `json:"tool"`
-	// RunAt is the wall-clock time of the run (RFC 3339, UTC). It is the only
-	// field that differs between two runs of the same plan on the same data
-	// (with PlanLocation when the run directory is elsewhere); it is left
-	// out of the content hash and verify does not compare it.
+	// RunAt is the time of the run, when the data were analysed (RFC 3339,
+	// UTC, from the clock the caller injects). It is the only field that
+	// differs between two runs of the same plan on the same data (with
+	// PlanLocation when the run directory is elsewhere). It is inside the
+	// content hash (and signed): verify checks the registration and its
+	// amendments against it, so it cannot be moved without showing, except
+	// by recomputing the hash of an unsigned record, which anyone can do.
 	RunAt string `json:"run_at"`
 	// PlanLocation is where the plan file was, as a slash path relative to
 	// the run directory, when the run was made. It is only a hint: verify

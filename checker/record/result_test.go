@@ -146,12 +146,18 @@ func TestContentHash(t *testing.T) {
 	if h1 != r.Integrity.ContentHash {
 		t.Fatalf("hash of the written record %s differs from the sealed hash %s", h1, r.Integrity.ContentHash)
 	}
-	// run_at is outside the hash; layout is outside the hash.
+	// run_at is inside the hash, plan_location and layout are not.
 	r2 := sampleResult()
 	r2.RunAt = "2030-01-01T00:00:00Z"
 	b2, _ := EncodeRecord(r2)
+	if h2, _ := ContentHash(b2); h2 == h1 {
+		t.Error("changing run_at did not change the content hash")
+	}
+	r2 = sampleResult()
+	r2.PlanLocation = "../../elsewhere/plan.yaml"
+	b2, _ = EncodeRecord(r2)
 	if h2, _ := ContentHash(b2); h2 != h1 {
-		t.Error("changing run_at changed the content hash")
+		t.Error("changing plan_location changed the content hash")
 	}
 	var compact bytes.Buffer
 	if err := json.Compact(&compact, b); err != nil {
@@ -169,8 +175,8 @@ func TestContentHash(t *testing.T) {
 	}
 	// The hash is SHA-256 of the documented canonical bytes: rebuild them by
 	// hand for a tiny document, from the specification in doc.go.
-	tiny := []byte("{\n \"b\": [1, 2.50],\n \"run_at\": \"x\", \"a\": {\"z\": null, \"y\": \"<\"},\n \"integrity\": {}\n}")
-	want := SHA256Hex([]byte(`{"a":{"y":"<","z":null},"b":[1,2.50]}`))
+	tiny := []byte("{\n \"b\": [1, 2.50],\n \"run_at\": \"x\", \"a\": {\"z\": null, \"y\": \"<\"},\n \"plan_location\": \"../p\", \"integrity\": {}\n}")
+	want := SHA256Hex([]byte(`{"a":{"y":"<","z":null},"b":[1,2.50],"run_at":"x"}`))
 	if got, _ := ContentHash(tiny); got != want {
 		t.Errorf("canonical bytes: got %s, want %s", got, want)
 	}

@@ -133,8 +133,28 @@ const DefaultRelTol = 1e-9
 
 // VerifyReport is the outcome of Verify.
 type VerifyReport struct {
-	Record     string      `json:"record"`
-	Deviations []Deviation `json:"deviations"`
+	Record string `json:"record"`
+	// Signature says whether the record is signed and by which key; nil
+	// when the record could not be read as a record.
+	Signature  *SignatureInfo `json:"signature"`
+	Deviations []Deviation    `json:"deviations"`
+}
+
+// SignatureInfo says whether a record is signed, by which key, and
+// whether the signature holds.
+type SignatureInfo struct {
+	// Signed is true when the record carries a signature.
+	Signed bool `json:"signed"`
+	// Algorithm is the signature's algorithm ("ed25519").
+	Algorithm string `json:"algorithm"`
+	// Key is the fingerprint of the signer's public key (record.Fingerprint:
+	// "sha256:" and 16 hex digits); empty when the key cannot be read.
+	Key string `json:"key"`
+	// Valid is true when the signature holds for the record's content
+	// hash and run time, and the content matches that hash.
+	Valid bool `json:"valid"`
+	// KeyGiven is true when the signer's key is VerifyOptions.PublicKey.
+	KeyGiven bool `json:"key_given"`
 }
 
 // OK reports whether no deviation other than informational ones was found.
@@ -200,9 +220,17 @@ func check(opt VerifyOptions) (*VerifyReport, error) {
 	if h != rec.Integrity.ContentHash {
 		add(DevRecordEdited, "integrity.content_hash", rec.Integrity.ContentHash, h, "the record's content does not match its hash: it was edited after it was written")
 	}
+	rep.Signature = &SignatureInfo{}
 	if sig := rec.Integrity.Signature; sig != nil {
+		rep.Signature.Signed, rep.Signature.Algorithm = true, sig.Algorithm
+		if pub, err := record.ParsePublicKey(sig.PublicKey); err == nil {
+			rep.Signature.Key = record.Fingerprint(pub)
+			rep.Signature.KeyGiven = opt.PublicKey != nil && pub.Equal(opt.PublicKey)
+		}
 		if err := record.VerifySignature(sig, rec.Integrity.ContentHash, rec.RunAt, opt.PublicKey); err != nil {
 			add(DevRecordEdited, "integrity.signature", "", "", err.Error())
+		} else {
+			rep.Signature.Valid = h == rec.Integrity.ContentHash
 		}
 	} else if opt.PublicKey != nil {
 		add(DevRecordEdited, "integrity.signature", "", "", "the record is not signed, but a public key was given")
@@ -468,8 +496,10 @@ func verifyRegistration(planPath string, rec *record.Result, add func(DeviationC
 	if e.PlanHash != rec.Inputs.PlanHash {
 		add(DevPlanChanged, "inputs.plan_hash", "", "", fmt.Sprintf("the plan that was run (%s) is not the one registered in entry %d, version %s (%s)", rec.Inputs.PlanHash, e.Seq, e.PlanVersion, e.PlanHash))
 	}
-	// Times are compared as instants, not as strings: run_at is outside
-	// the content hash, so an unsigned record's run_at may hold anything.
+	// Times are compared as instants, not as strings. run_at is inside the
+	// content hash (and signed, when the record is), but an unsigned
+	// record's hash can be recomputed by anyone, so its run_at may hold
+	// anything that parses: verify says so for every unsigned record.
 	runAt, err := time.Parse(time.RFC3339, rec.RunAt)
 	if err != nil {
 		add(DevRecordEdited, "run_at", "", "", fmt.Sprintf("the run time %q is not an RFC 3339 time, so it cannot be compared with the registration", rec.RunAt))

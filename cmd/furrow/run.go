@@ -4,7 +4,6 @@ import (
 	"crypto/ed25519"
 	"errors"
 	"fmt"
-	"os"
 
 	"furrow/checker"
 )
@@ -38,7 +37,8 @@ Flags:
   --out DIR        run directory to create (required)
   --unregistered   run without a matching registration; the record says so
   --replace        replace the run folder DIR, whole, if it exists
-  --sign KEY       sign the record with this private key (see "furrow keygen")
+  --sign KEY       sign the record with this private key (see "furrow keygen");
+                   a key file that its group or others may read is refused
 
 Examples:
   furrow run --out run1 examples/soil-nematodes/plan.yaml
@@ -67,12 +67,9 @@ func runRun(e *env, c *command, args []string) int {
 	}
 	var key ed25519.PrivateKey
 	if *sign != "" {
-		b, err := os.ReadFile(*sign)
-		if err != nil {
+		var err error
+		if key, err = checker.ReadPrivateKeyFile(*sign); err != nil {
 			return fail(e, c, err)
-		}
-		if key, err = checker.ParsePrivateKey(string(b)); err != nil {
-			return fail(e, c, fmt.Errorf("%s: %w", e.rel(*sign), err))
 		}
 	}
 	if err := checker.CheckRunDir(*out, *replace); err != nil {

@@ -98,13 +98,16 @@ func runVerify(e *env, c *command, args []string) int {
 	if err != nil {
 		return fail(e, c, err)
 	}
-	if *asJSON {
+	switch {
+	case *asJSON:
 		if err := writeJSON(e.stdout, rep); err != nil {
 			return fail(e, c, err)
 		}
-	} else if len(rep.Deviations) == 0 {
+	case len(rep.Deviations) == 0:
+		writeSignature(e, pos[0], rep.Signature)
 		fmt.Fprintf(e.stdout, "%s: no undeclared deviation\n", e.rel(pos[0]))
-	} else {
+	default:
+		writeSignature(e, pos[0], rep.Signature)
 		writeDeviations(e, pos[0], rep.Deviations)
 	}
 	if !rep.OK() {
@@ -129,6 +132,26 @@ func missingText(e *env, m *checker.MissingInputError, planFlag, dataFlag string
 		return fmt.Sprintf("%s: the record's plan is not where it puts it (no file %s); if it was moved, point verify at it with --plan PLAN", dir, e.rel(m.Plan))
 	}
 	return fmt.Sprintf("%s: the record's data are not where it puts them (no file %s); if they were moved, point verify at them with --data DATA", dir, e.rel(m.Data))
+}
+
+// writeSignature prints whether the record is signed and by which key,
+// or that it is not and what that means.
+func writeSignature(e *env, dir string, s *checker.SignatureInfo) {
+	switch {
+	case s == nil:
+	case !s.Signed:
+		fmt.Fprintf(e.stdout, "%s: not signed: its content hash shows only that the record is consistent with itself (anyone can recompute it), not when the run was made nor by whom\n", e.rel(dir))
+	case s.Valid && s.KeyGiven:
+		fmt.Fprintf(e.stdout, "%s: signed by key %s (%s), the key given with --key\n", e.rel(dir), s.Key, s.Algorithm)
+	case s.Valid:
+		fmt.Fprintf(e.stdout, "%s: signed by key %s (%s); give --key with the signer's public key to require it\n", e.rel(dir), s.Key, s.Algorithm)
+	default:
+		key := s.Key
+		if key == "" {
+			key = "that cannot be read"
+		}
+		fmt.Fprintf(e.stdout, "%s: carries a signature by key %s that does not hold for this record\n", e.rel(dir), key)
+	}
 }
 
 func goVersion() string { return runtime.Version() }
