@@ -1,8 +1,10 @@
 package checker
 
 import (
+	"crypto/ed25519"
 	"io"
 
+	"furrow/checker/record"
 	"furrow/checker/render"
 	"furrow/checker/simulate"
 	"furrow/plan"
@@ -35,9 +37,22 @@ const DefaultSimRuns = simulate.DefaultSimRuns
 // SimNormal is the default error shape of Simulate.
 const SimNormal = simulate.SimNormal
 
-// WriteReports writes the report of r into the run directory dir; see
-// [render.WriteReports].
-func WriteReports(dir string, r *Result) error { return render.WriteReports(dir, r) }
+// WriteRun writes the run folder dir whole or not at all: the reports and
+// tables of r and its record (sealed, signed with key when it is not nil)
+// are written into a folder beside dir, which is renamed to dir when
+// complete; replace swaps an existing run folder out whole. See
+// [record.WriteRun].
+func WriteRun(dir string, r *Result, key ed25519.PrivateKey, replace bool) error {
+	return record.WriteRun(dir, r, key, replace, func(tmp string) error { return render.WriteReports(tmp, r) })
+}
+
+// CheckRunDir says whether WriteRun could write dir (an advisory check
+// before the analysis); see [record.CheckRunDir].
+func CheckRunDir(dir string, replace bool) error { return record.CheckRunDir(dir, replace) }
+
+// ExistsError is WriteRun's error for a run folder that exists; see
+// [record.ExistsError].
+type ExistsError = record.ExistsError
 
 // Explain renders the plan as a document; hash is the plan's canonical
 // hash. See [render.Explain].

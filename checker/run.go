@@ -51,12 +51,6 @@ var ErrPlanDoesNotLint = record.ErrPlanDoesNotLint
 // returns the record; see [engine.Run].
 func Run(opt RunOptions) (*Result, error) { return engine.Run(opt) }
 
-// WriteRecord seals r (signing it when key is not nil) and writes it to
-// dir; see [record.WriteRecord].
-func WriteRecord(dir string, r *Result, key ed25519.PrivateKey) error {
-	return record.WriteRecord(dir, r, key)
-}
-
 // Register appends an entry for the plan to its registration file; see
 // [record.Register].
 func Register(planPath string, opt RegisterOptions) (*RegisterResult, plan.Diagnostics, error) {
@@ -86,6 +80,23 @@ type VerifyOptions = verify.VerifyOptions
 // VerifyReport is what Verify found; see [verify.VerifyReport].
 type VerifyReport = verify.VerifyReport
 
+// SignatureInfo says whether a record is signed and by which key; see
+// [verify.SignatureInfo].
+type SignatureInfo = verify.SignatureInfo
+
+// ReadPrivateKeyFile reads a private key file, refusing one that others
+// may read; see [record.ReadPrivateKeyFile].
+func ReadPrivateKeyFile(path string) (ed25519.PrivateKey, error) {
+	return record.ReadPrivateKeyFile(path)
+}
+
+// KeyModeError is ReadPrivateKeyFile's error for a key file that others
+// may read; see [record.KeyModeError].
+type KeyModeError = record.KeyModeError
+
+// Fingerprint names a public key briefly; see [record.Fingerprint].
+func Fingerprint(pub ed25519.PublicKey) string { return record.Fingerprint(pub) }
+
 // MissingInputError is Verify's error when the plan or the data are not
 // where the record puts them; see [verify.MissingInputError].
 type MissingInputError = verify.MissingInputError
@@ -99,6 +110,7 @@ type DeviationCode = verify.DeviationCode
 // The deviation codes; see [verify.DeviationCode].
 const (
 	DevRecordEdited       = verify.DevRecordEdited
+	DevReportEdited       = verify.DevReportEdited
 	DevPlanChanged        = verify.DevPlanChanged
 	DevAmendmentAfterLock = verify.DevAmendmentAfterLock
 	DevDataChanged        = verify.DevDataChanged
@@ -107,6 +119,8 @@ const (
 	DevResultsDiffer      = verify.DevResultsDiffer
 	DevToolVersion        = verify.DevToolVersion
 	DevDataNotDeclared    = verify.DevDataNotDeclared
+	DevPlanReformatted    = verify.DevPlanReformatted
+	DevAmendmentUnchecked = verify.DevAmendmentUnchecked
 )
 
 // Verify re-runs the analysis of a record and compares; see

@@ -102,7 +102,12 @@ func TestRecordDeterministic(t *testing.T) {
 			diff = append(diff, l1[i])
 		}
 	}
+	// run_at is kept apart from the content hash, which is the same.
 	if len(diff) != 1 || !strings.Contains(diff[0], `"run_at"`) {
 		t.Fatalf("two runs differ in more than run_at: %q", diff)
+	}
+	// At the same time, they are the same.
+	if b3 := writeRun(t, pp, out, fixture.T0.Add(time.Hour), nil); string(b3) != string(b1) {
+		t.Fatal("two runs at the same time differ")
 	}
 }

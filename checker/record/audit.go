@@ -33,6 +33,9 @@ func EncodeRecord(r *Result) ([]byte, error) {
 // key is non-nil, in r.Integrity.
 func Seal(r *Result, key ed25519.PrivateKey) error {
 	r.Integrity = Integrity{}
+	if r.Files == nil {
+		r.Files = []FileHash{}
+	}
 	b, err := EncodeRecord(r)
 	if err != nil {
 		return err
@@ -58,11 +61,14 @@ func Seal(r *Result, key ed25519.PrivateKey) error {
 //
 //  1. Parse the file as one JSON object. Numbers are kept as the exact
 //     token text found in the file (no conversion to binary floating point).
-//  2. Remove the top-level members "run_at" (the wall-clock time),
-//     "plan_location" (where the plan was, relative to the run directory:
-//     a hint for finding it, which would otherwise make the hash depend on
-//     where the run directory and the plan are) and "integrity" (the hash
-//     and signature themselves).
+//  2. Remove the top-level members "run_at" (the time of the run: kept
+//     apart, so that the same plan on the same data gives the same hash
+//     whenever it is run; a signature covers it), "plan_location" (where
+//     the plan was, relative to the run directory: a hint for finding it,
+//     which would otherwise make the hash depend on where the run
+//     directory and the plan are) and "integrity" (the hash and signature
+//     themselves). Everything else is hashed, "files" (the hashes of the
+//     reports and tables) included.
 //  3. Serialise the rest with no whitespace at all: object members sorted
 //     by key in byte order, array order kept, number tokens written
 //     verbatim, literals as true, false, null, and strings escaped as Go's
@@ -73,9 +79,13 @@ func Seal(r *Result, key ed25519.PrivateKey) error {
 //
 // A signature (furrow run --sign) is ed25519 over the bytes
 // "furrow audit record v1\n", the content-hash string ("sha256:..."),
-// "\nrun_at " and the record's run_at value, stored base64-encoded with
-// the signer's public key. The run time is not in the content hash (two
-// runs give identical content) but the signature covers it.
+// "\nrun_at " and the record's run_at value, stored base64-encoded
+// (standard, padded, canonical) with the signer's public key, so a signed
+// record's run time is covered by its signature; an unsigned record's is
+// covered by nothing, and verify says so.
+//
+// Two runs of the same plan on the same data give the same content hash,
+// whenever they are made and wherever the plan and the run directory are.
 func ContentHash(record []byte) (string, error) {
 	dec := json.NewDecoder(bytes.NewReader(record))
 	dec.UseNumber()

@@ -21,10 +21,13 @@ type Result struct {
 	Format int `json:"format"`
 	// Tool identifies the program that produced the record.
 	Tool ToolInfo `json:"tool"`
-	// RunAt is the wall-clock time of the run (RFC 3339, UTC). It is the only
-	// field that differs between two runs of the same plan on the same data
-	// (with PlanLocation when the run directory is elsewhere); it is left
-	// out of the content hash and verify does not compare it.
+	// RunAt is the time of the run, when the data were analysed (RFC 3339,
+	// UTC, from the clock the caller injects). It is the only field that
+	// differs between two runs of the same plan on the same data (with
+	// PlanLocation when the run directory is elsewhere). It is inside the
+	// content hash (and signed): verify checks the registration and its
+	// amendments against it, so it cannot be moved without showing, except
+	// by recomputing the hash of an unsigned record, which anyone can do.
 	RunAt string `json:"run_at"`
 	// PlanLocation is where the plan file was, as a slash path relative to
 	// the run directory, when the run was made. It is only a hint: verify
@@ -69,8 +72,23 @@ type Result struct {
 	// not a difference; the record keeps them because the plan as it was
 	// run is not kept, so its positions could not be re-derived later.
 	PlanPaths map[string]string `json:"plan_paths"`
+	// Files lists every file the run wrote into its folder beside the
+	// record (report.html, report.md, each table), by slash path inside
+	// the folder, with the SHA-256 of its bytes, sorted by path. It is
+	// inside the content hash, so verify can hold the whole folder to the
+	// record (see the package documentation, "Run folder"); empty for a
+	// record written alone.
+	Files []FileHash `json:"files"`
 	// Integrity is the content hash and optional signature.
 	Integrity Integrity `json:"integrity"`
+}
+
+// FileHash is one file of a run folder and the hash of its bytes.
+type FileHash struct {
+	// Path is the file's slash path inside the run folder ("tables/checks.csv").
+	Path string `json:"path"`
+	// SHA256 is "sha256:<hex>" of the file's bytes.
+	SHA256 string `json:"sha256"`
 }
 
 // ToolInfo identifies the program that wrote a record. Both values are

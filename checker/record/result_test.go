@@ -33,6 +33,7 @@ func sampleResult() *Result {
 			Rows: 13, Columns: []string{"unit", "treatment", "y"}, RowsKept: 12,
 		},
 		PlanWarnings: []Finding{},
+		Files:        []FileHash{{Path: "report.md", SHA256: SHA256Hex([]byte("m"))}, {Path: "tables/checks.csv", SHA256: SHA256Hex([]byte("c"))}},
 		PlanPaths: map[string]string{"plan.yaml:30:5": "exclusions[0]", "plan.yaml:60:5": "endpoints[0]",
 			"plan.yaml:64:9": "endpoints[0].steps[0]", "plan.yaml:70:13": "endpoints[0].steps[0].checks[0]"},
 		Design: &DesignSeen{Rows: 13, Units: 13, UnitColumn: "unit", CellColumns: []string{"treatment"}, Replicates: 5,
@@ -151,12 +152,18 @@ func TestContentHash(t *testing.T) {
 	if h1 != r.Integrity.ContentHash {
 		t.Fatalf("hash of the written record %s differs from the sealed hash %s", h1, r.Integrity.ContentHash)
 	}
-	// run_at is outside the hash; layout is outside the hash.
+	// run_at, plan_location and layout are outside the hash.
 	r2 := sampleResult()
 	r2.RunAt = "2030-01-01T00:00:00Z"
 	b2, _ := EncodeRecord(r2)
 	if h2, _ := ContentHash(b2); h2 != h1 {
 		t.Error("changing run_at changed the content hash")
+	}
+	r2 = sampleResult()
+	r2.PlanLocation = "../../elsewhere/plan.yaml"
+	b2, _ = EncodeRecord(r2)
+	if h2, _ := ContentHash(b2); h2 != h1 {
+		t.Error("changing plan_location changed the content hash")
 	}
 	var compact bytes.Buffer
 	if err := json.Compact(&compact, b); err != nil {
@@ -174,7 +181,7 @@ func TestContentHash(t *testing.T) {
 	}
 	// The hash is SHA-256 of the documented canonical bytes: rebuild them by
 	// hand for a tiny document, from the specification in doc.go.
-	tiny := []byte("{\n \"b\": [1, 2.50],\n \"run_at\": \"x\", \"a\": {\"z\": null, \"y\": \"<\"},\n \"integrity\": {}\n}")
+	tiny := []byte("{\n \"b\": [1, 2.50],\n \"run_at\": \"x\", \"a\": {\"z\": null, \"y\": \"<\"},\n \"plan_location\": \"../p\", \"integrity\": {}\n}")
 	want := SHA256Hex([]byte(`{"a":{"y":"<","z":null},"b":[1,2.50]}`))
 	if got, _ := ContentHash(tiny); got != want {
 		t.Errorf("canonical bytes: got %s, want %s", got, want)

@@ -3,10 +3,14 @@ package record
 import (
 	"crypto/ed25519"
 	"crypto/rand"
+	"crypto/sha256"
 	"encoding/base64"
+	"encoding/hex"
 	"errors"
 	"fmt"
 	"io"
+	"os"
+	"runtime"
 	"strings"
 )
 
@@ -20,6 +24,56 @@ const (
 // signatureDomain is prepended to the content hash before signing, so that
 // a furrow signature cannot be replayed as a signature of anything else.
 const signatureDomain = "furrow audit record v1\n"
+
+// keyEncoding decodes keys and signatures: standard padded base64, and
+// only its canonical form (a text with other padding bits, which would
+// decode to the same bytes, is refused), so that a key or signature has
+// exactly one spelling.
+var keyEncoding = base64.StdEncoding.Strict()
+
+// Fingerprint names a public key briefly: "sha256:" and the first 16 hex
+// digits of the SHA-256 of its 32 bytes. verify prints it for a signed
+// record, keygen for a new key.
+func Fingerprint(pub ed25519.PublicKey) string {
+	sum := sha256.Sum256(pub)
+	return "sha256:" + hex.EncodeToString(sum[:8])
+}
+
+// KeyModeError is ReadPrivateKeyFile's error for a private key file that
+// its group or others may read.
+type KeyModeError struct {
+	// Path is the key file as given.
+	Path string
+	// Mode is its permission bits.
+	Mode os.FileMode
+}
+
+// Error says why the key is refused and how to restrict it.
+func (e *KeyModeError) Error() string {
+	return fmt.Sprintf("%s: the private key file may be read by others (mode %04o); a signature shows who signed only while the key is the signer's alone: restrict it with chmod 600 %s", e.Path, e.Mode.Perm(), e.Path)
+}
+
+// ReadPrivateKeyFile reads a private key file made by furrow keygen. It
+// refuses a file that its group or others may read (mode & 0o077 != 0)
+// with a *KeyModeError; Windows has no such mode bits and is not checked.
+func ReadPrivateKeyFile(path string) (ed25519.PrivateKey, error) {
+	st, err := os.Stat(path)
+	if err != nil {
+		return nil, fmt.Errorf("reading private key: %w", err)
+	}
+	if runtime.GOOS != "windows" && st.Mode().Perm()&0o077 != 0 {
+		return nil, &KeyModeError{Path: path, Mode: st.Mode().Perm()}
+	}
+	b, err := os.ReadFile(path)
+	if err != nil {
+		return nil, fmt.Errorf("reading private key: %w", err)
+	}
+	key, err := ParsePrivateKey(string(b))
+	if err != nil {
+		return nil, fmt.Errorf("%s: %w", path, err)
+	}
+	return key, nil
+}
 
 // GenerateKey makes an ed25519 key pair from the random source r (nil =
 // crypto/rand) and returns both keys in furrow's text format, each one line
@@ -47,7 +101,7 @@ func ParsePublicKey(text string) (ed25519.PublicKey, error) {
 	if !ok {
 		return nil, fmt.Errorf("not a furrow public key (expected prefix %q)", PublicKeyPrefix)
 	}
-	b, err := base64.StdEncoding.DecodeString(rest)
+	b, err := keyEncoding.DecodeString(rest)
 	if err != nil || len(b) != ed25519.PublicKeySize {
 		return nil, errors.New("malformed public key")
 	}
@@ -64,7 +118,7 @@ func ParsePrivateKey(text string) (ed25519.PrivateKey, error) {
 	if !ok {
 		return nil, fmt.Errorf("not a furrow private key (expected prefix %q)", PrivateKeyPrefix)
 	}
-	b, err := base64.StdEncoding.DecodeString(rest)
+	b, err := keyEncoding.DecodeString(rest)
 	if err != nil || len(b) != ed25519.SeedSize {
 		return nil, errors.New("malformed private key")
 	}
@@ -77,10 +131,8 @@ func formatPublicKey(pub ed25519.PublicKey) string {
 }
 
 // signedBytes is what a signature covers: the domain line, the content
-// hash and the run time. The run time is kept out of the content hash so
-// that two runs give identical records; the signature binds it, so a signed
-// record's time (which verify compares with the registration) cannot be
-// moved without showing.
+// hash and the run time (which the content hash covers too; its own line
+// keeps the signed bytes those of the first records).
 func signedBytes(contentHash, runAt string) []byte {
 	return []byte(signatureDomain + contentHash + "\nrun_at " + runAt)
 }
@@ -108,7 +160,7 @@ func VerifySignature(sig *Signature, contentHash, runAt string, want ed25519.Pub
 	if want != nil && !pub.Equal(want) {
 		return errors.New("the record was signed with a different key than the one given")
 	}
-	raw, err := base64.StdEncoding.DecodeString(sig.Value)
+	raw, err := keyEncoding.DecodeString(sig.Value)
 	if err != nil {
 		return errors.New("malformed signature value")
 	}

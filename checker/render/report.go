@@ -931,8 +931,10 @@ func (rep *Report) CSVTables() (map[string][]byte, error) {
 const TablesDir = "tables"
 
 // WriteReports renders the report of r and writes DIR/report.html,
-// DIR/report.md and DIR/tables/*.csv, each atomically. It is called after
-// the audit record is sealed, so the report shows the record's content hash.
+// DIR/report.md and DIR/tables/*.csv, each atomically. It is called
+// before the audit record is sealed: the record lists the SHA-256 of each
+// file written here, so nothing written here may show the record's
+// content hash or its list of files (see package record, "Run folder").
 func WriteReports(dir string, r *record.Result) error {
 	rep := BuildReport(r)
 	page, err := rep.HTML()

@@ -1,10 +1,11 @@
 package simulate
 
 import (
-	"furrow/checker/method"
 	"path/filepath"
 	"slices"
 	"testing"
+
+	"furrow/checker/method"
 
 	"furrow/plan"
 )

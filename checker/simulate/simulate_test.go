@@ -2,7 +2,6 @@ package simulate
 
 import (
 	"encoding/json"
-	"furrow/checker/method"
 	"math"
 	"math/rand/v2"
 	"os"
@@ -10,6 +9,8 @@ import (
 	"reflect"
 	"strings"
 	"testing"
+
+	"furrow/checker/method"
 
 	"furrow/checker/contract"
 	"furrow/plan"

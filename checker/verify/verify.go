@@ -38,6 +38,10 @@ const (
 	DevDataChanged DeviationCode = "data-changed"
 	// DevRecordEdited: the content hash or the signature does not match.
 	DevRecordEdited DeviationCode = "record-edited"
+	// DevReportEdited: a file of the run folder (report, table) differs
+	// from the SHA-256 the record lists for it, is missing, or is in the
+	// folder without being one of the files the run wrote.
+	DevReportEdited DeviationCode = "report-edited"
 	// DevResultsDiffer: re-running the analysis gives a different number or decision.
 	DevResultsDiffer DeviationCode = "results-differ"
 	// DevStepNotDeclared: the record contains a step the plan does not declare.
@@ -51,8 +55,21 @@ const (
 	DevDataNotDeclared DeviationCode = "data-file-not-declared"
 )
 
+// DevAmendmentUnchecked: the record is not signed, so its run time is
+// covered by nothing, and that an amendment the run was made under came
+// before the data were analysed rests on that unprotected time.
+// Informational: it cannot be checked, and verify says so.
+const DevAmendmentUnchecked DeviationCode = "amendment-time-unchecked"
+
+// DevPlanReformatted: the plan file's bytes differ from the file that was
+// run but the plan does not: its canonical hash is the same (comments or
+// layout only). Informational: the plan hash is what is registered.
+const DevPlanReformatted DeviationCode = "plan-file-reformatted"
+
 // Informational reports whether the code does not by itself fail verification.
-func (c DeviationCode) Informational() bool { return c == DevToolVersion || c == DevDataNotDeclared }
+func (c DeviationCode) Informational() bool {
+	return c == DevToolVersion || c == DevDataNotDeclared || c == DevPlanReformatted || c == DevAmendmentUnchecked
+}
 
 // Deviation is one finding of Verify.
 type Deviation struct {
@@ -112,14 +129,38 @@ func (e *MissingInputError) Error() string {
 }
 
 // DefaultRelTol is the tolerance verify uses for floating-point numbers:
-// |a-b| <= RelTol*max(|a|,|b|) or |a-b| <= RelTol (absolute, near zero).
-// Integers, strings, decisions and counts are compared exactly.
+// the recorded a and the re-computed b match when they have the same sign
+// and |a-b| <= RelTol*max(|a|,|b|), a relative comparison that works at
+// every scale (a response measured around 1e-11 is held to the same nine
+// digits as one around 1e3). There is no absolute floor, except that a
+// recorded zero must be re-computed as zero (|b| <= 1e-300). Integers,
+// strings, decisions and counts are compared exactly.
 const DefaultRelTol = 1e-9
 
 // VerifyReport is the outcome of Verify.
 type VerifyReport struct {
-	Record     string      `json:"record"`
-	Deviations []Deviation `json:"deviations"`
+	Record string `json:"record"`
+	// Signature says whether the record is signed and by which key; nil
+	// when the record could not be read as a record.
+	Signature  *SignatureInfo `json:"signature"`
+	Deviations []Deviation    `json:"deviations"`
+}
+
+// SignatureInfo says whether a record is signed, by which key, and
+// whether the signature holds.
+type SignatureInfo struct {
+	// Signed is true when the record carries a signature.
+	Signed bool `json:"signed"`
+	// Algorithm is the signature's algorithm ("ed25519").
+	Algorithm string `json:"algorithm"`
+	// Key is the fingerprint of the signer's public key (record.Fingerprint:
+	// "sha256:" and 16 hex digits); empty when the key cannot be read.
+	Key string `json:"key"`
+	// Valid is true when the signature holds for the record's content
+	// hash and run time, and the content matches that hash.
+	Valid bool `json:"valid"`
+	// KeyGiven is true when the signer's key is VerifyOptions.PublicKey.
+	KeyGiven bool `json:"key_given"`
 }
 
 // OK reports whether no deviation other than informational ones was found.
@@ -157,6 +198,9 @@ func check(opt VerifyOptions) (*VerifyReport, error) {
 	} else {
 		dir = filepath.Dir(recPath)
 	}
+	if err := notScratch(dir); err != nil {
+		return nil, err
+	}
 	raw, err := os.ReadFile(recPath)
 	if err != nil {
 		return nil, fmt.Errorf("reading audit record: %w", err)
@@ -182,13 +226,22 @@ func check(opt VerifyOptions) (*VerifyReport, error) {
 	if h != rec.Integrity.ContentHash {
 		add(DevRecordEdited, "integrity.content_hash", rec.Integrity.ContentHash, h, "the record's content does not match its hash: it was edited after it was written")
 	}
+	rep.Signature = &SignatureInfo{}
 	if sig := rec.Integrity.Signature; sig != nil {
+		rep.Signature.Signed, rep.Signature.Algorithm = true, sig.Algorithm
+		if pub, err := record.ParsePublicKey(sig.PublicKey); err == nil {
+			rep.Signature.Key = record.Fingerprint(pub)
+			rep.Signature.KeyGiven = opt.PublicKey != nil && pub.Equal(opt.PublicKey)
+		}
 		if err := record.VerifySignature(sig, rec.Integrity.ContentHash, rec.RunAt, opt.PublicKey); err != nil {
 			add(DevRecordEdited, "integrity.signature", "", "", err.Error())
+		} else {
+			rep.Signature.Valid = h == rec.Integrity.ContentHash
 		}
 	} else if opt.PublicKey != nil {
 		add(DevRecordEdited, "integrity.signature", "", "", "the record is not signed, but a public key was given")
 	}
+	verifyFiles(dir, &rec, add)
 	if rec.Unregistered {
 		add(DevUnregisteredRun, "unregistered", "", "", "the run was made without a matching registration")
 	}
@@ -198,6 +251,12 @@ func check(opt VerifyOptions) (*VerifyReport, error) {
 	}
 	if rec.Tool.Version != opt.Tool.Version {
 		add(DevToolVersion, "tool.version", rec.Tool.Version, opt.Tool.Version, "the record was written by another furrow version")
+	}
+	if opt.Tool.Name != "" && rec.Tool.Name != opt.Tool.Name {
+		add(DevToolVersion, "tool.name", rec.Tool.Name, opt.Tool.Name, "the record names another program than the one checking it")
+	}
+	if opt.Tool.Build != "" && rec.Tool.Build != opt.Tool.Build {
+		add(DevToolVersion, "tool.build", rec.Tool.Build, opt.Tool.Build, "the record was written by another build of furrow")
 	}
 	// 2. Plan and data files.
 	// The plan is where the record says it was seen from the run directory
@@ -238,6 +297,14 @@ func check(opt VerifyOptions) (*VerifyReport, error) {
 	// 3. Registration chain (read fresh, next to the plan).
 	if !rec.Unregistered {
 		verifyRegistration(planPath, &rec, add)
+	} else if ref := rec.Inputs.Registration; ref != nil {
+		// An unregistered run may name a registration it did not match;
+		// the record's copy of it must still be the file's.
+		if reg, raw, err := record.ReadRegistration(record.RegistrationPath(planPath)); err == nil && len(reg.CheckChain()) == 0 {
+			if found := entryIndex(reg, ref.Head); found >= 0 {
+				compareRegistrationCopy(reg, raw, found, &rec, add)
+			}
+		}
 	}
 	// 4. Re-run and compare.
 	now, err := engine.Run(engine.RunOptions{PlanPath: planPath, DataPath: dataPath, OutDir: dir, Tool: rec.Tool,
@@ -297,18 +364,29 @@ func check(opt VerifyOptions) (*VerifyReport, error) {
 	// plan_paths is not compared as such: positions are compared through
 	// it (by the plan data path each stands for), so lines that moved in
 	// the plan are not a difference.
-	for _, k := range []string{"run_at", "plan_location", "integrity", "tool", "unregistered", "plan_paths"} {
+	// files is checked against the folder above.
+	for _, k := range []string{"run_at", "plan_location", "integrity", "tool", "unregistered", "plan_paths", "files"} {
 		delete(am, k)
 		delete(bm, k)
 	}
 	var diffs []Deviation
 	c := comparer{tol: tol, pathsA: rec.PlanPaths, pathsB: now.PlanPaths}
 	c.compare("", am, bm, &diffs)
+	if now.Inputs.PlanFileSHA256 == rec.Inputs.PlanFileSHA256 {
+		// The very plan file that was run: every position the record
+		// holds stands for the plan value it stands for now (matched by
+		// line and column: the file's name may differ under --plan).
+		comparePlanPaths(rec.PlanPaths, now.PlanPaths, &diffs)
+	}
 	for _, d := range diffs {
 		code := DevResultsDiffer
 		switch {
 		case d.Field == "inputs.data_file_sha256" || d.Field == "inputs.table_hash":
 			code = DevDataChanged
+		case d.Field == "inputs.plan_file_sha256" && !planChanged:
+			code = DevPlanReformatted
+			d.Summary = "the plan file's bytes are not the ones that were run, but the plan is the same plan: its canonical hash is unchanged (comments or layout only)"
+			d.Recorded, d.Now = rec.Inputs.PlanFileSHA256, now.Inputs.PlanFileSHA256
 		case d.Field == "inputs.plan_hash" || d.Field == "inputs.plan_file_sha256":
 			continue // reported above from the plan itself
 		case planChanged && strings.HasPrefix(d.Field, "trial."):
@@ -321,6 +399,65 @@ func check(opt VerifyOptions) (*VerifyReport, error) {
 		rep.Deviations = append(rep.Deviations, d)
 	}
 	return rep, nil
+}
+
+// verifyFiles holds the run folder to the record's list of the files the
+// run wrote: every one there with the bytes hashed, and no other file
+// beside the record.
+func verifyFiles(dir string, rec *record.Result, add func(DeviationCode, string, string, string, string)) {
+	listed := map[string]bool{}
+	for i, f := range rec.Files {
+		if !record.LocalPath(f.Path) {
+			add(DevRecordEdited, fmt.Sprintf("files[%d].path", i), "", "", fmt.Sprintf("the record lists %q among the files the run wrote, which is not a file inside the run folder", f.Path))
+			continue
+		}
+		listed[f.Path] = true
+		field := fmt.Sprintf("files[%d].sha256", i)
+		b, err := os.ReadFile(filepath.Join(dir, filepath.FromSlash(f.Path)))
+		switch {
+		case errors.Is(err, fs.ErrNotExist):
+			add(DevReportEdited, field, "", "", fmt.Sprintf("%s, which the run wrote, is not in the run folder", f.Path))
+		case err != nil:
+			add(DevReportEdited, field, "", "", fmt.Sprintf("%s, which the run wrote, cannot be read: %v", f.Path, err))
+		default:
+			if got := record.SHA256Hex(b); got != f.SHA256 {
+				add(DevReportEdited, field, f.SHA256, got, fmt.Sprintf("%s is not the file the run wrote: its SHA-256 is not the one the record lists", f.Path))
+			}
+		}
+	}
+	var extra []string
+	filepath.WalkDir(dir, func(p string, d fs.DirEntry, err error) error {
+		if err != nil || d.IsDir() {
+			return nil
+		}
+		rel, err := filepath.Rel(dir, p)
+		if err != nil {
+			return nil
+		}
+		if rel = filepath.ToSlash(rel); rel != record.AuditFileName && !listed[rel] {
+			extra = append(extra, rel)
+		}
+		return nil
+	})
+	for _, rel := range extra {
+		add(DevReportEdited, "files", "", "", fmt.Sprintf("%s is in the run folder but is not one of the files the run wrote", rel))
+	}
+}
+
+// notScratch refuses the folders furrow run keeps beside a run folder
+// while it works: whatever they hold, they are not run folders.
+func notScratch(dir string) error {
+	abs, err := filepath.Abs(dir)
+	if err != nil {
+		abs = dir
+	}
+	switch record.ScratchKind(filepath.Base(abs)) {
+	case "partial":
+		return fmt.Errorf("%s is the unfinished folder of a furrow run, not a run folder: a run is written there and renamed into place only when complete, so this one was interrupted (or is still being written); delete it", filepath.ToSlash(dir))
+	case "old":
+		return fmt.Errorf("%s is a run folder that furrow run --replace set aside to delete, not a run folder: the run that replaced it was interrupted or could not remove it; delete it", filepath.ToSlash(dir))
+	}
+	return nil
 }
 
 // plainPairs keeps a deviation's recorded / now pair only when it says
@@ -339,7 +476,7 @@ func plainPairs(rep *VerifyReport) {
 // record: chain intact, the plan registered as run, registration before the run.
 func verifyRegistration(planPath string, rec *record.Result, add func(DeviationCode, string, string, string, string)) {
 	rp := record.RegistrationPath(planPath)
-	reg, _, err := record.ReadRegistration(rp)
+	reg, raw, err := record.ReadRegistration(rp)
 	if err != nil {
 		add(DevPlanChanged, "inputs.registration", "", "", "the registration record cannot be read: "+err.Error())
 		return
@@ -353,22 +490,23 @@ func verifyRegistration(planPath string, rec *record.Result, add func(DeviationC
 		return
 	}
 	// The entry the run was checked against must still be in the chain, unchanged.
-	found := -1
-	for i, e := range reg.Entries {
-		if e.EntryHash == ref.Head {
-			found = i
-		}
-	}
+	found := entryIndex(reg, ref.Head)
 	if found < 0 {
 		add(DevPlanChanged, "inputs.registration.head", "", "", fmt.Sprintf("the registration entry the run was checked against (%s) is no longer in the registration record (history rewritten)", ref.Head))
 		return
+	}
+	if len(reg.CheckChain()) == 0 {
+		compareRegistrationCopy(reg, raw, found, rec, add)
 	}
 	e := reg.Entries[found]
 	if e.PlanHash != rec.Inputs.PlanHash {
 		add(DevPlanChanged, "inputs.plan_hash", "", "", fmt.Sprintf("the plan that was run (%s) is not the one registered in entry %d, version %s (%s)", rec.Inputs.PlanHash, e.Seq, e.PlanVersion, e.PlanHash))
 	}
-	// Times are compared as instants, not as strings: run_at is outside
-	// the content hash, so an unsigned record's run_at may hold anything.
+	// Times are compared as instants, not as strings. run_at is outside
+	// the content hash and covered only by a signature, so an unsigned
+	// record's run_at may hold anything that parses: verify says so for
+	// every unsigned record. An amendment appended after the run is caught
+	// without it, by the record's own copy of the registration chain.
 	runAt, err := time.Parse(time.RFC3339, rec.RunAt)
 	if err != nil {
 		add(DevRecordEdited, "run_at", "", "", fmt.Sprintf("the run time %q is not an RFC 3339 time, so it cannot be compared with the registration", rec.RunAt))
@@ -400,6 +538,9 @@ func verifyRegistration(planPath string, rec *record.Result, add func(DeviationC
 		} else if d.Format(time.DateOnly) > runDay {
 			add(DevAmendmentAfterLock, fmt.Sprintf("registration.entries[%d].amendment_date", i), "", "",
 				fmt.Sprintf("the amendment to version %s is dated %s, after the data were analysed (%s)", en.PlanVersion, en.AmendmentDate, rec.RunAt))
+		} else if rec.Integrity.Signature == nil {
+			add(DevAmendmentUnchecked, fmt.Sprintf("registration.entries[%d].amendment_date", i), "", "",
+				fmt.Sprintf("the record is not signed, so its run time (%s) is covered by nothing: that the amendment to version %s, dated %s, came before the data were analysed cannot be checked (sign runs to anchor the time)", rec.RunAt, en.PlanVersion, en.AmendmentDate))
 		}
 	}
 	// Every entry after the one the run was checked against (the head at
@@ -418,6 +559,107 @@ func verifyRegistration(planPath string, rec *record.Result, add func(DeviationC
 		add(DevAmendmentAfterLock, field, "", "",
 			fmt.Sprintf("plan version %s was appended to the registration after the entry the run was checked against (entry %d), so after the data were analysed (%s), though it says it was registered %s: %s",
 				later.PlanVersion, e.Seq, rec.RunAt, later.RegisteredAt, later.Reason))
+	}
+}
+
+// entryIndex is the index of the registration entry with entry hash
+// head, -1 when there is none.
+func entryIndex(reg *record.Registration, head string) int {
+	for i, e := range reg.Entries {
+		if e.EntryHash == head {
+			return i
+		}
+	}
+	return -1
+}
+
+// compareRegistrationCopy holds the record's copy of the registration
+// (inputs.registration) to the registration record, whose chain is
+// intact: the path, every field of every entry up to the one the run was
+// checked against (entries[found], the head at run time), whether that
+// entry registers the plan that was run, and the file's SHA-256 as it was
+// at run time (the file now, or, when entries were appended since, the
+// file register wrote with the entries up to the head).
+func compareRegistrationCopy(reg *record.Registration, raw []byte, found int, rec *record.Result, add func(DeviationCode, string, string, string, string)) {
+	ref := rec.Inputs.Registration
+	edited := func(field, recorded, now, what string) {
+		add(DevRecordEdited, "inputs.registration."+field, recorded, now,
+			"the record's copy of the registration differs from the registration record: "+what)
+	}
+	if want := record.RegistrationPath(rec.Inputs.PlanPath); ref.Path != want {
+		edited("path", ref.Path, want, fmt.Sprintf("it names %s, but the registration record of %s is %s", ref.Path, rec.Inputs.PlanPath, want))
+	}
+	if len(ref.Chain) != found+1 {
+		edited("chain", fmt.Sprintf("%d entries", len(ref.Chain)), fmt.Sprintf("%d entries", found+1),
+			fmt.Sprintf("the run was checked against entry %d, so the copy must hold entries 1 to %d", found+1, found+1))
+	}
+	for i := 0; i < len(ref.Chain) && i <= found; i++ {
+		c, e := ref.Chain[i], reg.Entries[i]
+		for _, f := range []struct{ name, rec, file string }{
+			{"seq", strconv.Itoa(c.Seq), strconv.Itoa(e.Seq)},
+			{"plan_version", c.PlanVersion, e.PlanVersion},
+			{"plan_hash", c.PlanHash, e.PlanHash},
+			{"registered_at", c.RegisteredAt, e.RegisteredAt},
+			{"reason", c.Reason, e.Reason},
+			{"previous", c.Previous, e.Previous},
+			{"entry_hash", c.EntryHash, e.EntryHash},
+		} {
+			if f.rec != f.file {
+				edited(fmt.Sprintf("chain[%d].%s", i, f.name), f.rec, f.file, fmt.Sprintf("entry %d's %s", i+1, f.name))
+			}
+		}
+	}
+	if want := reg.Entries[found].PlanHash == rec.Inputs.PlanHash; ref.Matches != want {
+		edited("matches", strconv.FormatBool(ref.Matches), strconv.FormatBool(want),
+			fmt.Sprintf("entry %d does%s register the plan that was run", found+1, map[bool]string{true: "", false: " not"}[want]))
+	}
+	then := raw
+	if found < len(reg.Entries)-1 {
+		prefix := *reg
+		prefix.Entries = reg.Entries[:found+1]
+		if b, err := json.MarshalIndent(prefix, "", "  "); err == nil {
+			then = append(b, '\n')
+		}
+	}
+	if got := record.SHA256Hex(then); got != ref.FileSHA256 {
+		what := "the registration record"
+		if found < len(reg.Entries)-1 {
+			what = fmt.Sprintf("the registration record up to entry %d", found+1)
+		}
+		add(DevPlanChanged, "inputs.registration.file_sha256", ref.FileSHA256, got,
+			fmt.Sprintf("%s is not, byte for byte, the file the run was checked against, though its entries are", what))
+	}
+}
+
+// comparePlanPaths appends a deviation for every plan position whose plan
+// value differs between the record (a) and the re-run (b), positions
+// matched by line and column.
+func comparePlanPaths(a, b map[string]string, out *[]Deviation) {
+	lineCol := func(pos string) string {
+		parts := strings.Split(pos, ":")
+		if len(parts) < 3 {
+			return pos
+		}
+		return strings.Join(parts[len(parts)-2:], ":")
+	}
+	now := map[string]string{}
+	for k, v := range b {
+		now[lineCol(k)] = v
+	}
+	keys := make([]string, 0, len(a))
+	for k := range a {
+		keys = append(keys, k)
+	}
+	sort.Strings(keys)
+	for _, k := range keys {
+		if v, ok := now[lineCol(k)]; !ok || v != a[k] {
+			*out = append(*out, Deviation{Field: fmt.Sprintf("plan_paths[%q]", k), Recorded: a[k], Now: v,
+				Summary: "the plan position stands for another plan value in the re-run"})
+		}
+	}
+	if len(a) != len(b) {
+		*out = append(*out, Deviation{Field: "plan_paths", Recorded: fmt.Sprintf("%d positions", len(a)), Now: fmt.Sprintf("%d positions", len(b)),
+			Summary: "the re-run holds another number of plan positions"})
 	}
 }
 
@@ -514,10 +756,26 @@ func (c *comparer) compare(path string, a, b any, out *[]Deviation) {
 	}
 }
 
+// closeEnough reports whether the re-computed b matches the recorded a:
+// the same sign and |a-b| <= tol*max(|a|,|b|), which holds at every
+// scale. A zero on either side is matched only by a zero (or a value
+// below zeroFloor, an underflow).
 func closeEnough(a, b, tol float64) bool {
-	d := math.Abs(a - b)
-	return d <= tol || d <= tol*math.Max(math.Abs(a), math.Abs(b))
+	if a == b {
+		return true
+	}
+	if a == 0 || b == 0 {
+		return math.Abs(a-b) <= zeroFloor
+	}
+	if math.Signbit(a) != math.Signbit(b) {
+		return false
+	}
+	return math.Abs(a-b) <= tol*math.Max(math.Abs(a), math.Abs(b))
 }
+
+// zeroFloor is the only absolute tolerance: what a recorded zero may be
+// re-computed as (floating-point underflow, nothing a measurement gives).
+const zeroFloor = 1e-300
 
 // maxPairText is the longest recorded or now text a deviation shows.
 const maxPairText = 80

@@ -2,9 +2,13 @@ package verify
 
 import (
 	"bytes"
+	"crypto/ed25519"
+	"encoding/base64"
 	"encoding/json"
+	"errors"
 	"os"
 	"path/filepath"
+	"runtime"
 	"slices"
 	"strings"
 	"testing"
@@ -228,6 +232,8 @@ func TestSignature(t *testing.T) {
 	k2, _ := record.ParsePublicKey(pub2)
 	if rep, _ := verifyCodes(t, VerifyOptions{Dir: out, PublicKey: k1, Tool: record.ToolInfo{Version: "test"}}); !rep.OK() {
 		t.Fatalf("good signature rejected: %+v", rep.Deviations)
+	} else if s := rep.Signature; s == nil || !s.Signed || !s.Valid || !s.KeyGiven || s.Key != record.Fingerprint(k1) || len(s.Key) != len("sha256:")+16 {
+		t.Fatalf("signature info %+v, want signed and valid by %s", s, record.Fingerprint(k1))
 	}
 	rep, m := verifyCodes(t, VerifyOptions{Dir: out, PublicKey: k2, Tool: record.ToolInfo{Version: "test"}})
 	if rep.OK() || !strings.Contains(strings.Join(m[DevRecordEdited], " "), "integrity.signature") {
@@ -252,6 +258,71 @@ func TestSignature(t *testing.T) {
 	rep, m = verifyCodes(t, VerifyOptions{Dir: out, PublicKey: k1, Tool: record.ToolInfo{Version: "test"}})
 	if rep.OK() || !strings.Contains(strings.Join(m[DevRecordEdited], " "), "integrity.signature") {
 		t.Fatalf("a signed record with a moved run time passed: %+v", rep.Deviations)
+	}
+	if rep.Signature == nil || rep.Signature.Valid {
+		t.Errorf("a broken signature reported as valid: %+v", rep.Signature)
+	}
+
+	// Re-signed: an edited record sealed again with another key is whole,
+	// but verify names the other key, and --key with the first refuses it.
+	rec2, _, err := record.ReadRecord(out)
+	if err != nil {
+		t.Fatal(err)
+	}
+	rec2.RunAt = "2026-03-01T09:30:00Z"
+	_, priv2, _ := record.GenerateKey(nil)
+	key2, _ := record.ParsePrivateKey(priv2)
+	if err := record.Seal(rec2, key2); err != nil {
+		t.Fatal(err)
+	}
+	b2, _ := record.EncodeRecord(rec2)
+	fixture.Write(t, filepath.Join(out, record.AuditFileName), string(b2))
+	rep, _ = verifyCodes(t, VerifyOptions{Dir: out, Tool: record.ToolInfo{Version: "test"}})
+	k2pub := key2.Public().(ed25519.PublicKey)
+	if s := rep.Signature; s == nil || !s.Valid || s.KeyGiven || s.Key != record.Fingerprint(k2pub) || s.Key == record.Fingerprint(k1) {
+		t.Errorf("re-signed record: signature info %+v, want valid by %s", s, record.Fingerprint(k2pub))
+	}
+	rep, m = verifyCodes(t, VerifyOptions{Dir: out, PublicKey: k1, Tool: record.ToolInfo{Version: "test"}})
+	if rep.OK() || !strings.Contains(strings.Join(m[DevRecordEdited], " "), "integrity.signature") {
+		t.Errorf("re-signed record passed --key with the first key: %+v", rep.Deviations)
+	}
+
+	// One key, one spelling: a public key whose base64 differs only in its
+	// padding bits (the same 32 bytes under lenient decoding) is refused.
+	sig := rec2.Integrity.Signature
+	txt := strings.TrimPrefix(sig.PublicKey, record.PublicKeyPrefix)
+	last := txt[len(txt)-2] // the character before "=" carries 2 padding bits
+	const b64 = "ABCDEFGHIJKLMNOPQRSTUVWXYZabcdefghijklmnopqrstuvwxyz0123456789+/"
+	alias := txt[:len(txt)-2] + string(b64[strings.IndexByte(b64, last)^1]) + "="
+	if lenient, err := base64.StdEncoding.DecodeString(alias); err != nil || !bytes.Equal(lenient, k2pub) {
+		t.Fatalf("alias %q does not decode to the same key leniently: %v", alias, err)
+	}
+	sig.PublicKey = record.PublicKeyPrefix + alias
+	b3, _ := record.EncodeRecord(rec2)
+	fixture.Write(t, filepath.Join(out, record.AuditFileName), string(b3))
+	if rep, _ := verifyCodes(t, VerifyOptions{Dir: out, Tool: record.ToolInfo{Version: "test"}}); rep.OK() {
+		t.Errorf("a public key spelt another way passed: %+v", rep.Signature)
+	}
+}
+
+// TestReadPrivateKeyFile refuses a key file its group or others may read.
+func TestReadPrivateKeyFile(t *testing.T) {
+	if runtime.GOOS == "windows" {
+		t.Skip("no mode bits on Windows")
+	}
+	_, priv, _ := record.GenerateKey(nil)
+	p := filepath.Join(t.TempDir(), "k.key")
+	for _, c := range []struct {
+		mode os.FileMode
+		ok   bool
+	}{{0o600, true}, {0o400, true}, {0o640, false}, {0o604, false}, {0o644, false}} {
+		fixture.Write(t, p, priv)
+		os.Chmod(p, c.mode)
+		_, err := record.ReadPrivateKeyFile(p)
+		var me *record.KeyModeError
+		if c.ok != (err == nil) || (!c.ok && !errors.As(err, &me)) {
+			t.Errorf("mode %04o: %v", c.mode, err)
+		}
 	}
 }
 

@@ -51,5 +51,8 @@ func runKeygen(e *env, c *command, args []string) int {
 		return fail(e, c, err)
 	}
 	fmt.Fprintf(e.stdout, "wrote %s (public) and %s (private)\n", e.rel(pubPath), e.rel(keyPath))
+	if k, err := checker.ParsePublicKey(pub); err == nil {
+		fmt.Fprintf(e.stdout, "key %s: verify names the signer of a record by this fingerprint\n", checker.Fingerprint(k))
+	}
 	return exitOK
 }

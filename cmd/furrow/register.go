@@ -43,7 +43,7 @@ var registerCommand = &command{
 }
 
 // runClock is the time of a run record: SOURCE_DATE_EPOCH when set (for
-// reproducible records; run_at is outside the content hash), else the
+// reproducible records: run_at is inside the content hash), else the
 // wall clock.
 func (e *env) runClock() time.Time {
 	if s := os.Getenv("SOURCE_DATE_EPOCH"); s != "" {

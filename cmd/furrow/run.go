@@ -4,7 +4,6 @@ import (
 	"crypto/ed25519"
 	"errors"
 	"fmt"
-	"os"
 	"strings"
 
 	"furrow/checker"
@@ -13,7 +12,7 @@ import (
 const runUsage = `usage: furrow run --out DIR [--unregistered] [--replace] [--sign KEY] PLAN [DATA]
 
 Runs the registered plan on the final data (the plan's data.file, or DATA)
-and writes the audit record DIR/audit.json: inputs with their hashes, every
+and writes the run folder DIR: the audit record DIR/audit.json with inputs with their hashes, every
 excluded row and the rule that removed it, every executed step with its
 model, checks (statistic, p, threshold, verdict) and the decision with the
 plan line that caused it, the reported step's full results, and an
@@ -24,13 +23,23 @@ run; a last step whose checks fail is reported with its assumptions unmet.
 The plan must match its registration record (see "furrow register");
 --unregistered runs anyway and marks the record as unregistered. Data
 errors stop the run; data warnings are carried into the record. Inputs
-are never modified. DIR must not exist unless --replace is given.
+are never modified.
+
+DIR is written whole or not at all: the reports, the tables and the record
+(last) go into a new folder beside it, .DIR.furrow-partial-*, which is
+renamed to DIR when complete. DIR must not exist, and is claimed in one
+step when the run is complete, so two runs into it cannot both succeed.
+--replace replaces a run folder whole: the old one is renamed aside
+(.DIR.furrow-old-*), the new one renamed in, the old one removed. A run
+that is interrupted may leave these folders beside DIR; they are never
+run folders (verify refuses them) and can be deleted.
 
 Flags:
   --out DIR        run directory to create (required)
   --unregistered   run without a matching registration; the record says so
-  --replace        replace the record in an existing DIR
-  --sign KEY       sign the record with this private key (see "furrow keygen")
+  --replace        replace the run folder DIR, whole, if it exists
+  --sign KEY       sign the record with this private key (see "furrow keygen");
+                   a key file that its group or others may read is refused
 
 Examples:
   furrow run --out run1 examples/soil-nematodes/plan.yaml
@@ -59,16 +68,13 @@ func runRun(e *env, c *command, args []string) int {
 	}
 	var key ed25519.PrivateKey
 	if *sign != "" {
-		b, err := os.ReadFile(*sign)
-		if err != nil {
+		var err error
+		if key, err = checker.ReadPrivateKeyFile(*sign); err != nil {
 			return fail(e, c, err)
 		}
-		if key, err = checker.ParsePrivateKey(string(b)); err != nil {
-			return fail(e, c, fmt.Errorf("%s: %w", e.rel(*sign), err))
-		}
 	}
-	if _, err := os.Stat(*out); err == nil && !*replace {
-		return fail(e, c, fmt.Errorf("%s exists; choose a new run directory or pass --replace", e.rel(*out)))
+	if err := checker.CheckRunDir(*out, *replace); err != nil {
+		return failRunDir(e, c, err)
 	}
 	dataPath := ""
 	if len(pos) == 2 {
@@ -93,14 +99,8 @@ func runRun(e *env, c *command, args []string) int {
 	case err != nil:
 		return fail(e, c, err)
 	}
-	if err := os.MkdirAll(*out, 0o755); err != nil {
-		return fail(e, c, err)
-	}
-	if err := checker.WriteRecord(*out, res, key); err != nil {
-		return fail(e, c, err)
-	}
-	if err := checker.WriteReports(*out, res); err != nil {
-		return fail(e, c, err)
+	if err := checker.WriteRun(*out, res, key, *replace); err != nil {
+		return failRunDir(e, c, err)
 	}
 	for _, ep := range res.Endpoints {
 		fmt.Fprintf(e.stdout, "%s: %s (step %s)\n", ep.ID, ep.Status, ep.Reported)
@@ -148,6 +148,18 @@ func (e *env) writeLostUnits(res *checker.Result) {
 		}
 		fmt.Fprintf(e.stdout, "  %s: %s\n", strings.Join(parts, ", "), why)
 	}
+}
+
+// failRunDir prints an error about the run folder, its path relative to
+// the working folder.
+func failRunDir(e *env, c *command, err error) int {
+	var ee *checker.ExistsError
+	if errors.As(err, &ee) {
+		rel := *ee
+		rel.Dir = e.rel(ee.Dir)
+		err = &rel
+	}
+	return fail(e, c, err)
 }
 
 // buildInfo describes the build for the record (Go version).

@@ -1,6 +1,7 @@
 package main
 
 import (
+	"encoding/json"
 	"errors"
 	"flag"
 	"os"
@@ -20,6 +21,13 @@ import (
 var update = flag.Bool("update", false, "rewrite the expected output in testdata/script/*.txtar")
 
 func TestMain(m *testing.M) {
+	if a := os.Getenv(killChildEnv); a != "" {
+		var args []string
+		if err := json.Unmarshal([]byte(a), &args); err != nil {
+			panic(err)
+		}
+		os.Exit(runWithClock(args, os.Stdin, os.Stdout, os.Stderr, testClock))
+	}
 	testscript.Main(m, map[string]func(){
 		"furrow": func() { os.Exit(runWithClock(os.Args[1:], os.Stdin, os.Stdout, os.Stderr, testClock)) },
 	})

@@ -15,7 +15,8 @@ import (
 const verifyUsage = `usage: furrow verify [--json] [--key PUB] [--plan PLAN] [--data DATA] DIR
 
 Confirms a run: checks the record's integrity hash (and its signature,
-which must be by PUB when --key is given), the plan against the record and
+which must be by PUB when --key is given), every file of the run folder
+against the SHA-256 the record lists for it, the plan against the record and
 against its registration chain (registered before the run, no amendment
 after it), the data file against its hash, then re-runs the analysis and
 compares every number (relative tolerance 1e-9) and every decision
@@ -34,10 +35,13 @@ Deviation codes:
   amendment-after-data-lock         an amendment was registered, or is dated, after the data were analysed
   data-changed                      the data file differs from the one analysed
   record-edited                     the record's content hash or signature does not match
+  report-edited                     a report or table file differs from its hash in the record, is missing, or is not the run's
   results-differ                    the re-run gives a different number or decision
   step-not-declared                 the record holds a step the plan does not declare
   data-file-not-declared            the run analysed a file other than the plan's data.file (informational)
-  tool-version-differs              another furrow version wrote the record (informational)
+  plan-file-reformatted             the plan file's bytes differ, not the plan: comments or layout only (informational)
+  amendment-time-unchecked          an unsigned record: an amendment's date cannot be checked against its unprotected run time (informational)
+  tool-version-differs              another furrow version or build wrote the record (informational)
 
 Flags:
   --json        print the report as JSON
@@ -86,7 +90,7 @@ func runVerify(e *env, c *command, args []string) int {
 		}
 	}
 	rep, err := checker.Verify(checker.VerifyOptions{Dir: pos[0], PlanPath: *planPath, DataPath: *dataPath, PublicKey: pub,
-		Tool: checker.ToolInfo{Name: "furrow", Version: toolVersion()}})
+		Tool: checker.ToolInfo{Name: "furrow", Version: toolVersion(), Build: buildInfo()}})
 	var missing *checker.MissingInputError
 	if errors.As(err, &missing) {
 		fmt.Fprintf(e.stderr, "furrow verify: %s\n", missingText(e, missing, *planPath, *dataPath))
@@ -95,13 +99,16 @@ func runVerify(e *env, c *command, args []string) int {
 	if err != nil {
 		return fail(e, c, err)
 	}
-	if *asJSON {
+	switch {
+	case *asJSON:
 		if err := writeJSON(e.stdout, rep); err != nil {
 			return fail(e, c, err)
 		}
-	} else if len(rep.Deviations) == 0 {
+	case len(rep.Deviations) == 0:
+		writeSignature(e, pos[0], rep.Signature)
 		fmt.Fprintf(e.stdout, "%s: no undeclared deviation\n", e.rel(pos[0]))
-	} else {
+	default:
+		writeSignature(e, pos[0], rep.Signature)
 		writeDeviations(e, pos[0], rep.Deviations)
 	}
 	if !rep.OK() {
@@ -128,6 +135,26 @@ func missingText(e *env, m *checker.MissingInputError, planFlag, dataFlag string
 	return fmt.Sprintf("%s: the record's data are not where it puts them (no file %s); if they were moved, point verify at them with --data DATA", dir, e.rel(m.Data))
 }
 
+// writeSignature prints whether the record is signed and by which key,
+// or that it is not and what that means.
+func writeSignature(e *env, dir string, s *checker.SignatureInfo) {
+	switch {
+	case s == nil:
+	case !s.Signed:
+		fmt.Fprintf(e.stdout, "%s: not signed: its content hash shows only that the record is consistent with itself (anyone can recompute it), not when the run was made (its run_at is outside the hash) nor by whom\n", e.rel(dir))
+	case s.Valid && s.KeyGiven:
+		fmt.Fprintf(e.stdout, "%s: signed by key %s (%s), the key given with --key\n", e.rel(dir), s.Key, s.Algorithm)
+	case s.Valid:
+		fmt.Fprintf(e.stdout, "%s: signed by key %s (%s); give --key with the signer's public key to require it\n", e.rel(dir), s.Key, s.Algorithm)
+	default:
+		key := s.Key
+		if key == "" {
+			key = "that cannot be read"
+		}
+		fmt.Fprintf(e.stdout, "%s: carries a signature by key %s that does not hold for this record\n", e.rel(dir), key)
+	}
+}
+
 func goVersion() string { return runtime.Version() }
 
 // maxShownPerCode is how many deviations of one code the text output lists
@@ -137,8 +164,8 @@ const maxShownPerCode = 6
 // codeOrder is the order in which deviation codes are printed: what
 // invalidates the record first, informational last.
 var codeOrder = []checker.DeviationCode{
-	checker.DevRecordEdited, checker.DevPlanChanged, checker.DevAmendmentAfterLock, checker.DevDataChanged,
-	checker.DevUnregisteredRun, checker.DevStepNotDeclared, checker.DevResultsDiffer, checker.DevDataNotDeclared, checker.DevToolVersion,
+	checker.DevRecordEdited, checker.DevReportEdited, checker.DevPlanChanged, checker.DevAmendmentAfterLock, checker.DevDataChanged,
+	checker.DevUnregisteredRun, checker.DevStepNotDeclared, checker.DevResultsDiffer, checker.DevDataNotDeclared, checker.DevPlanReformatted, checker.DevAmendmentUnchecked, checker.DevToolVersion,
 }
 
 // fieldWeight orders differing fields so that decisions and verdicts come
