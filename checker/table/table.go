@@ -5,8 +5,8 @@ import (
 	"encoding/hex"
 	"errors"
 	"fmt"
+	"io/fs"
 	"math"
-	"os"
 	"path/filepath"
 	"strconv"
 	"strings"
@@ -298,39 +298,48 @@ func trimCell(s string) string {
 	return strings.TrimSpace(s)
 }
 
-// ReadTable reads the data file a plan names. dataPath "" means p.Data.File
-// relative to the directory of the plan file (p.Path); any other value is
-// used as given. The format, sheet, delimiter, decimal mark and missing
-// codes come from p.Data; the format is taken from the file extension when
-// the plan gives none, or when dataPath is given and its extension (.csv,
-// .txt, .xlsx, .xlsm) names a format.
-//
-// The error is for unreadable input: a missing, empty or binary file, or a
-// file that is not CSV or XLSX. Problems with the content (ragged rows, an
-// unterminated quote, a missing sheet, empty or repeated header names) are
-// diagnostics positioned in the data file. The table is nil when the
-// diagnostics leave nothing to check (no header, a missing sheet, a quote
-// that swallows the rest of the file, a header that splits only on another
-// delimiter); otherwise it holds every row read.
+// ReadTable reads the data file a plan names with the default Options;
+// see ReadTableWith.
 func ReadTable(p *plan.Plan, dataPath string) (*Table, plan.Diagnostics, error) {
+	return ReadTableWith(p, dataPath, Options{})
+}
+
+// ReadTableWith reads the data file a plan names. dataPath "" means
+// p.Data.File relative to the directory of the plan file (p.Path), which
+// must resolve inside that directory unless o.AllowOutside (else the error
+// is an *OutsideError); any other value is used as given. The format,
+// sheet, delimiter, decimal mark and missing codes come from p.Data; the
+// format is taken from the file extension when the plan gives none, or
+// when dataPath is given and its extension (.csv, .txt, .xlsx, .xlsm)
+// names a format.
+//
+// The error is for unreadable input: a missing, empty or binary file, a
+// file that is not CSV or XLSX, one that is not a regular file (a named
+// pipe, a device), or one over the size limit (a *SizeError). Problems
+// with the content (ragged rows, an unterminated quote, a missing sheet,
+// empty or repeated header names) are diagnostics positioned in the data
+// file. The table is nil when the diagnostics leave nothing to check (no
+// header, a missing sheet, a quote that swallows the rest of the file, a
+// header that splits only on another delimiter); otherwise it holds every
+// row read.
+func ReadTableWith(p *plan.Plan, dataPath string, o Options) (*Table, plan.Diagnostics, error) {
 	if p == nil {
 		return nil, nil, fmt.Errorf("reading data: no plan")
 	}
-	path := dataPath
-	if path == "" {
-		if p.Data.File == "" {
-			return nil, nil, fmt.Errorf("reading data: the plan names no data file and none was given")
-		}
-		path = p.Data.File
-		if !filepath.IsAbs(path) {
-			path = filepath.Join(filepath.Dir(p.Path), filepath.FromSlash(path))
-		}
-	}
-	path = filepath.Clean(path)
-	name := filepath.ToSlash(path)
-	data, err := os.ReadFile(path)
+	path, err := resolveDataPath(p, dataPath, o)
 	if err != nil {
+		return nil, nil, err
+	}
+	name := filepath.ToSlash(path)
+	data, err := plan.ReadFile(path, o.maxSize())
+	var big *plan.TooLargeError
+	switch {
+	case errors.As(err, &big):
+		return nil, nil, &SizeError{Path: name, Size: big.Size, Limit: big.Limit}
+	case errors.Is(err, fs.ErrNotExist) || errors.Is(err, fs.ErrPermission):
 		return nil, nil, fmt.Errorf("reading data: %w", err)
+	case err != nil:
+		return nil, nil, fmt.Errorf("reading data %s: %w", name, err)
 	}
 	if len(data) == 0 {
 		return nil, nil, fmt.Errorf("reading data %s: the file is empty", name)

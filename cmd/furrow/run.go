@@ -9,7 +9,7 @@ import (
 	"furrow/checker"
 )
 
-const runUsage = `usage: furrow run --out DIR [--unregistered] [--replace] [--sign KEY] PLAN [DATA]
+const runUsage = `usage: furrow run --out DIR [--unregistered] [--replace] [--sign KEY] [--max-data-size SIZE] [--allow-outside-data] PLAN [DATA]
 
 Runs the registered plan on the final data (the plan's data.file, or DATA)
 and writes the audit record DIR/audit.json: inputs with their hashes, every
@@ -30,6 +30,8 @@ Flags:
   --unregistered   run without a matching registration; the record says so
   --replace        replace the record in an existing DIR
   --sign KEY       sign the record with this private key (see "furrow keygen")
+` + maxDataSizeHelp + `
+` + allowOutsideDataHelp + `
 
 Examples:
   furrow run --out run1 examples/soil-nematodes/plan.yaml
@@ -49,6 +51,7 @@ func runRun(e *env, c *command, args []string) int {
 	unreg := fs.Bool("unregistered", false, "")
 	replace := fs.Bool("replace", false, "")
 	sign := fs.String("sign", "", "")
+	df := addDataFlags(fs, true)
 	pos, ok, code := parse(e, c, fs, args, 1, 2)
 	if !ok {
 		return code
@@ -74,7 +77,8 @@ func runRun(e *env, c *command, args []string) int {
 		dataPath = pos[1]
 	}
 	res, err := checker.Run(checker.RunOptions{PlanPath: pos[0], DataPath: dataPath, OutDir: *out, Now: e.runClock(),
-		Tool: checker.ToolInfo{Name: "furrow", Version: toolVersion(), Build: buildInfo()}, Unregistered: *unreg})
+		Tool: checker.ToolInfo{Name: "furrow", Version: toolVersion(), Build: buildInfo()}, Unregistered: *unreg,
+		Data: df.options()})
 	var de *checker.DataError
 	var pe *checker.PlanError
 	switch {
