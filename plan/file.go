@@ -107,6 +107,17 @@ func ByteSize(n int64) string {
 		}
 		v, suffix = v/1024, s
 	}
-	num := strings.TrimSuffix(strconv.FormatFloat(v, 'f', 1, 64), ".0")
+	// Three significant digits, trailing zeros dropped: 1.95, 10.8, 512.
+	digits := 0
+	switch {
+	case v < 10:
+		digits = 2
+	case v < 100:
+		digits = 1
+	}
+	num := strconv.FormatFloat(v, 'f', digits, 64)
+	if strings.Contains(num, ".") {
+		num = strings.TrimRight(strings.TrimRight(num, "0"), ".")
+	}
 	return num + " " + suffix + " (" + strconv.FormatInt(n, 10) + " bytes)"
 }

@@ -15,6 +15,7 @@ func TestByteSize(t *testing.T) {
 	for n, want := range map[int64]string{
 		0: "0 bytes", 1023: "1023 bytes", 1024: "1 KiB (1024 bytes)", 1536: "1.5 KiB (1536 bytes)",
 		2 << 30: "2 GiB (2147483648 bytes)", 3<<20 + 1<<19: "3.5 MiB (3670016 bytes)",
+		2000: "1.95 KiB (2000 bytes)", 11309422: "10.8 MiB (11309422 bytes)", 1048570381: "1000 MiB (1048570381 bytes)",
 	} {
 		if got := plan.ByteSize(n); got != want {
 			t.Errorf("ByteSize(%d) = %q, want %q", n, got, want)

@@ -90,6 +90,7 @@ func readCSV(name string, data []byte, o *readOptions) (*Table, plan.Diagnostics
 		if b == nil {
 			var hd plan.Diagnostics
 			b, hd = newTableBuilder(name, FormatCSV, "", line, rec, o, bytes.Count(data, []byte{'\n'}))
+			b.bounded = true
 			diags = append(diags, hd...)
 			continue
 		}
@@ -107,7 +108,9 @@ func readCSV(name string, data []byte, o *readOptions) (*Table, plan.Diagnostics
 				Summary: fmt.Sprintf("row %d has %d fields, the header has %d", line, len(rec), b.width),
 			})
 		}
-		b.add(line, rec, nil)
+		if err := b.add(line, nil, rec, nil); err != nil {
+			return nil, nil, err
+		}
 	}
 	diags = append(diags, lim.Summaries()...)
 	if b == nil {

@@ -46,11 +46,17 @@ type SizeError struct {
 	Size int64
 	// Limit is the limit in bytes.
 	Limit int64
+	// Together is true when Part alone is within the limit but the parts
+	// read so far, Part included, unpack to Size together.
+	Together bool
 }
 
 // Error names the file, its size and the limit.
 func (e *SizeError) Error() string {
 	switch {
+	case e.Part != "" && e.Together:
+		return fmt.Sprintf("reading data %s: with the workbook part %s, the parts read unpack to %s, over the limit of %s on data",
+			e.Path, e.Part, plan.ByteSize(e.Size), plan.ByteSize(e.Limit))
 	case e.Part != "":
 		return fmt.Sprintf("reading data %s: the workbook part %s unpacks to %s, over the limit of %s on data",
 			e.Path, e.Part, plan.ByteSize(e.Size), plan.ByteSize(e.Limit))
@@ -147,4 +153,39 @@ func absolute(path string) string {
 		return a
 	}
 	return filepath.Clean(path)
+}
+
+// Padding bounds (tableBuilder.add): the blank cells that pad short rows
+// to the width of the header may number at most maxPadRatio per cell the
+// rows hold, once past minPadding. A table of real data is mostly cells
+// the file holds; one that is mostly padding comes from a header far
+// wider than its rows (a stray name in the last column of a sheet), and
+// would take memory out of all proportion to the file.
+const (
+	maxPadRatio = 8
+	minPadding  = 1 << 22
+)
+
+// CellsError is returned by ReadTable when the rows of a file, padded to
+// the width of its header, would make a table that is mostly padding.
+type CellsError struct {
+	// Path is the data file, Sheet the sheet read (XLSX only).
+	Path, Sheet string
+	// Row is the file row that passed the bound.
+	Row int
+	// Columns is the number of table columns (named header cells).
+	Columns int
+	// Held and Padded count the cells the rows hold and the blank ones
+	// that pad them, up to Row.
+	Held, Padded int
+}
+
+// Error names the file, the row and the counts.
+func (e *CellsError) Error() string {
+	where := e.Path
+	if e.Sheet != "" {
+		where += ", sheet " + Quote(e.Sheet)
+	}
+	return fmt.Sprintf("reading data %s: by row %d the rows hold %d cells and %d blank ones pad them to the %d named columns of the header; a table that is mostly padding is refused (at most %d blank cells per cell held, once past %d): is the header row the one the data follow?",
+		where, e.Row, e.Held, e.Padded, e.Columns, maxPadRatio, minPadding)
 }
