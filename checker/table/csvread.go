@@ -232,7 +232,7 @@ func delimiterHint(name string, data []byte, o *readOptions) (plan.Diagnostic, b
 		Severity: plan.Error, Code: "data-delimiter",
 		Pos: plan.Pos{File: name, Line: line}, Related: RelatedPos(o.dataPos),
 		Summary: fmt.Sprintf("the header %s does not split on %q; split on %q it gives the declared columns %s: declare delimiter: %q in the data section",
-			shortQuote(text, 60), string(o.delim), string(best), wordList(found, 5), string(best)),
+			Quote(text), string(o.delim), string(best), wordList(found, 5), string(best)),
 	}, true
 }
 
@@ -267,16 +267,6 @@ func headerFields(text string, r rune) ([]string, bool) {
 		rec[i] = trimCell(rec[i])
 	}
 	return rec, true
-}
-
-// shortQuote quotes s, cut to at most max runes (with "..." inside the
-// quotes when cut).
-func shortQuote(s string, max int) string {
-	if utf8.RuneCountInString(s) <= max {
-		return fmt.Sprintf("%q", s)
-	}
-	r := []rune(s)
-	return fmt.Sprintf("%q", string(r[:max-3])+"...")
 }
 
 // wordList writes "a", "a and b", "a, b and c", or the first max names

@@ -2,6 +2,7 @@ package table
 
 import (
 	"strconv"
+	"unicode"
 	"unicode/utf8"
 )
 
@@ -32,4 +33,19 @@ func Quote(s string) string {
 	}
 	q := strconv.Quote(s[:i])
 	return q[:len(q)-1] + "…\" (" + strconv.Itoa(n) + " characters)"
+}
+
+// Shown is s where a message lists it unquoted (a level in a list of
+// levels): s itself when it is at most QuoteMax characters of printable
+// text without spaces around it, else Quote(s).
+func Shown(s string) string {
+	if len(s) > QuoteMax || s == "" || trimCell(s) != s {
+		return Quote(s)
+	}
+	for _, r := range s {
+		if !unicode.IsPrint(r) || unicode.Is(unicode.Cf, r) {
+			return Quote(s)
+		}
+	}
+	return s
 }
