@@ -57,6 +57,7 @@ func Parse(name string, src []byte, m Methods) (*Plan, Diagnostics, error) {
 	if root == nil {
 		return nil, ds.Sort(), nil
 	}
+	ds = append(ds, bidiFindings(name, src, root)...)
 	if d, ok := checkFormat(name, root); !ok {
 		return nil, append(ds, d).Sort(), nil
 	}
@@ -78,6 +79,16 @@ func Parse(name string, src []byte, m Methods) (*Plan, Diagnostics, error) {
 	return p, ds.Sort(), nil
 }
 
+// leadingBOMs counts the byte-order marks src starts with.
+func leadingBOMs(src []byte) int {
+	n := 0
+	for bytes.HasPrefix(src, []byte("\ufeff")) {
+		src = src[3:]
+		n++
+	}
+	return n
+}
+
 // tooLarge is the finding for a plan file over MaxSize.
 func tooLarge(name string) Diagnostic {
 	return Diagnostic{Severity: Error, Code: "too-large", Pos: Pos{File: name},
@@ -95,6 +106,10 @@ func precheck(name string, src []byte) Diagnostics {
 	if len(src) > MaxSize {
 		return Diagnostics{tooLarge(name)}
 	}
+	if enc := TextEncoding(src); enc != "" {
+		return Diagnostics{diagAt(name, 1, 1, "not-utf8",
+			fmt.Sprintf("the file is %s, not utf-8; save the plan as utf-8", enc))}
+	}
 	line, col := 1, 1
 	for i := 0; i < len(src); {
 		r, size := utf8.DecodeRune(src[i:])
@@ -110,6 +125,10 @@ func precheck(name string, src []byte) Diagnostics {
 		i += size
 	}
 	src = bytes.TrimPrefix(src, []byte("\ufeff"))
+	if n := leadingBOMs(src); n > 0 {
+		return Diagnostics{diagAt(name, 1, 1, "bom",
+			fmt.Sprintf("the file starts with %d byte-order marks (U+FEFF), where a text file has at most one; it was likely converted twice: save the plan again as utf-8", n+1))}
+	}
 	var ds Diagnostics
 	inBlock, blockIndent := false, 0
 	for i, l := range strings.Split(string(src), "\n") {

@@ -55,3 +55,42 @@ func TestReadFile(t *testing.T) {
 		t.Errorf("folder as plan: %v", err)
 	}
 }
+
+func TestTextEncoding(t *testing.T) {
+	text := "furrow: 1\ntrial:\n  id: X\n"
+	u16 := func(be bool) []byte {
+		var b []byte
+		for _, r := range text {
+			if be {
+				b = append(b, 0, byte(r))
+			} else {
+				b = append(b, byte(r), 0)
+			}
+		}
+		return b
+	}
+	cases := map[string][]byte{
+		"": []byte(text),
+		"utf-16 text (little-endian, with a byte-order mark)":    append([]byte{0xFF, 0xFE}, u16(false)...),
+		"utf-16 text (big-endian, with a byte-order mark)":       append([]byte{0xFE, 0xFF}, u16(true)...),
+		"utf-16 text (little-endian, without a byte-order mark)": u16(false),
+		"utf-16 text (big-endian, without a byte-order mark)":    u16(true),
+		"utf-32 text (little-endian, with a byte-order mark)":    {0xFF, 0xFE, 0, 0, 'a', 0, 0, 0},
+		"utf-32 text (big-endian, without a byte-order mark)":    {0, 0, 0, 'a', 0, 0, 0, 'b', 0, 0, 0, 'c'},
+	}
+	for want, in := range cases {
+		if got := plan.TextEncoding(in); got != want {
+			t.Errorf("TextEncoding(% x...) = %q, want %q", in[:min(8, len(in))], got, want)
+		}
+	}
+	// A short text with a NUL is binary, not UTF-16.
+	if got := plan.TextEncoding([]byte("a\x00b\n\n\n\n\n")); got != "" {
+		t.Errorf("binary: %q", got)
+	}
+	if r, name := plan.Bidi("ab\u202ec"); r != '\u202e' || name != "right-to-left override" {
+		t.Errorf("Bidi: %U %q", r, name)
+	}
+	if r, _ := plan.Bidi("plain \u200e text"); r != 0 {
+		t.Errorf("a left-to-right mark is not an override: %U", r)
+	}
+}

@@ -193,7 +193,9 @@ func (c *contractCheck) numbers(pc *plan.Column, tc *table.Column) {
 		if math.IsNaN(v) {
 			s := fmt.Sprintf("%scolumn %q: %s is not a number", c.at(i, tc.Index), pc.Name, table.Quote(tc.Text[i]))
 			rel := table.RelatedPos(pc.Pos)
-			if _, ok := table.ParseNumber(tc.Text[i], ','); ok && dec == "." {
+			if table.Overflows(tc.Text[i], dec[0]) || table.Overflows(tc.Text[i], '.') {
+				s = fmt.Sprintf("%scolumn %q: %s is out of the range of a double (its magnitude is beyond 1.8e308)", c.at(i, tc.Index), pc.Name, table.Quote(tc.Text[i]))
+			} else if _, ok := table.ParseNumber(tc.Text[i], ','); ok && dec == "." {
 				s += `; it has a decimal comma: declare decimal: "," in the data section`
 				rel = append(rel, table.RelatedPos(c.p.Data.Pos)...)
 			} else if _, ok := table.ParseNumber(tc.Text[i], '.'); ok && dec == "," {

@@ -36,6 +36,10 @@ type tableBuilder struct {
 	vals   []string
 	native []bool
 	has    []bool
+	// lim and diags hold the findings about cells made while rows are
+	// added (bidirectional controls in levels).
+	lim   *Limiter
+	diags plan.Diagnostics
 	// spaced lists, per table column with a factor role, each distinct
 	// untrimmed level text in order of first occurrence; spacedAt finds
 	// its entry.
@@ -65,11 +69,26 @@ func newTableBuilder(name, format, sheet string, headerRow int, header []string,
 	sizeHint = max(0, min(sizeHint, (1<<20)/max(len(header), 1)))
 	t := &Table{Path: name, Format: format, Sheet: sheet, HeaderRow: headerRow, index: map[string]int{},
 		rows: make([]int, 0, sizeHint)}
-	b := &tableBuilder{t: t, opts: o, width: len(header), pos: make([]int, len(header))}
+	b := &tableBuilder{t: t, opts: o, width: len(header), pos: make([]int, len(header)), lim: NewLimiter()}
 	var diags plan.Diagnostics
 	lim := NewLimiter()
 	for i, h := range header {
-		h = trimCell(strings.TrimPrefix(h, "\uFEFF"))
+		h = trimCell(h)
+		if strings.HasPrefix(h, "\uFEFF") {
+			h = trimCell(strings.TrimLeft(h, "\uFEFF"))
+			diags = append(diags, plan.Diagnostic{
+				Severity: plan.Warning, Code: "data-bom",
+				Pos:     t.HeaderPos(i + 1),
+				Summary: fmt.Sprintf("column name %s starts with a byte-order mark (U+FEFF), which is dropped; the header was likely pasted from a file saved with one", Quote(h)),
+			})
+		}
+		if r, rn := plan.Bidi(h); r != 0 {
+			lim.Add(&diags, "data-bidi", "", plan.Diagnostic{
+				Severity: plan.Error, Code: "data-bidi",
+				Pos:     t.HeaderPos(i + 1),
+				Summary: fmt.Sprintf("column name %s %s", Quote(h), plan.BidiWords(r, rn)),
+			})
+		}
 		if h == "" {
 			b.pos[i] = blankCol
 			continue
@@ -154,8 +173,21 @@ func (b *tableBuilder) add(row int, idx []int, cells []string, native []bool) er
 				v = x
 			}
 		}
-		if !miss && b.has[k] && s != raw && b.isFactor(c.Name) {
-			b.noteSpaced(k, raw)
+		if !miss && b.isFactor(c.Name) {
+			if b.has[k] && s != raw {
+				b.noteSpaced(k, raw)
+			}
+			if r, rn := plan.Bidi(s); r != 0 {
+				at := ""
+				if b.t.Format == FormatXLSX {
+					at = "cell " + CellRef(row, c.Index) + ": "
+				}
+				b.lim.Add(&b.diags, "data-bidi", c.Name, plan.Diagnostic{
+					Severity: plan.Error, Code: "data-bidi",
+					Pos: plan.Pos{File: b.t.PosFile(), Line: row, Column: c.Index}, Related: RelatedPos(b.opts.factor[c.Name]),
+					Summary: fmt.Sprintf("%scolumn %s: level %s %s", at, Quote(c.Name), Quote(s), plan.BidiWords(r, rn)),
+				})
+			}
 		}
 		c.Text = append(c.Text, s)
 		c.Num = append(c.Num, v)
@@ -229,7 +261,8 @@ func blankRow(cells []string) bool {
 // texts that had white space trimmed.
 func (b *tableBuilder) finish() (*Table, plan.Diagnostics) {
 	t := b.t
-	diags := b.spacedWarnings()
+	diags := append(b.spacedWarnings(), b.diags...)
+	diags = append(diags, b.lim.Summaries()...)
 	lim := NewLimiter()
 	for i := range b.pos {
 		v, ok := b.blankFirst[i]

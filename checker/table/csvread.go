@@ -22,7 +22,16 @@ func readCSV(name string, data []byte, o *readOptions) (*Table, plan.Diagnostics
 	if err := checkText(data); err != nil {
 		return nil, nil, fmt.Errorf("reading data %s: %w", name, err)
 	}
+	var diags plan.Diagnostics
 	data = bytes.TrimPrefix(data, []byte("\uFEFF"))
+	if n := 0; bytes.HasPrefix(data, []byte("\uFEFF")) {
+		for bytes.HasPrefix(data, []byte("\uFEFF")) {
+			data, n = data[3:], n+1
+		}
+		diags = append(diags, plan.Diagnostic{Severity: plan.Warning, Code: "data-bom",
+			Pos:     plan.Pos{File: name, Line: 1, Column: 1},
+			Summary: fmt.Sprintf("the file starts with %d byte-order marks (U+FEFF), where a text file has at most one; they are dropped, but the file was likely converted twice: save it again as utf-8", n+1)})
+	}
 	// A file whose lines end in a lone carriage return (old spreadsheet
 	// exports) has no line feed at all: read its carriage returns as line
 	// ends, so its rows are rows and their numbers are the ones a user sees.
@@ -33,7 +42,7 @@ func readCSV(name string, data []byte, o *readOptions) (*Table, plan.Diagnostics
 	if d, ok := delimiterHint(name, data, o); ok {
 		// Read with the wrong delimiter every declared column is missing
 		// and every row ragged: say the one thing that is wrong.
-		return nil, plan.Diagnostics{d}, nil
+		return nil, append(diags, d), nil
 	}
 
 	r := csv.NewReader(bytes.NewReader(data))
@@ -42,7 +51,6 @@ func readCSV(name string, data []byte, o *readOptions) (*Table, plan.Diagnostics
 	r.ReuseRecord = true
 
 	var (
-		diags plan.Diagnostics
 		b     *tableBuilder
 		lim   = NewLimiter()
 		blank []int
@@ -127,6 +135,9 @@ func readCSV(name string, data []byte, o *readOptions) (*Table, plan.Diagnostics
 func checkText(data []byte) error {
 	if bytes.HasPrefix(data, zipMagic) {
 		return errors.New("the file is a zip archive (an xlsx workbook?), not csv text; declare format: xlsx")
+	}
+	if enc := plan.TextEncoding(data); enc != "" {
+		return fmt.Errorf("the file is %s, not utf-8; save it as utf-8 (in a spreadsheet program: CSV UTF-8)", enc)
 	}
 	if i := bytes.IndexByte(data, 0); i >= 0 {
 		return fmt.Errorf("the file holds binary data (a NUL byte on line %d), not csv text", 1+bytes.Count(data[:i], []byte("\n")))

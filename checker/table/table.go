@@ -485,14 +485,31 @@ func spaceWords(s string) string {
 // ParseNumber parses a trimmed cell as a decimal number with the given
 // decimal mark: an optional sign, digits with at most one decimal mark, and
 // an optional exponent. Thousands separators, hexadecimal, "inf" and "nan"
-// are not numbers here.
+// are not numbers here, and neither is a number beyond the range of a
+// double (see Overflows).
 func ParseNumber(s string, dec byte) (float64, bool) {
+	v, grammar, finite := number(s, dec)
+	return v, grammar && finite
+}
+
+// Overflows reports whether a trimmed cell is written as a number (the
+// grammar of ParseNumber) whose magnitude is beyond the largest double,
+// about 1.8e308, as 1e309 is: ParseNumber refuses it, and a message says
+// why.
+func Overflows(s string, dec byte) bool {
+	_, grammar, finite := number(s, dec)
+	return grammar && !finite
+}
+
+// number parses s as ParseNumber does; grammar says whether it is written
+// as a number, finite whether its value is within the range of a double.
+func number(s string, dec byte) (v float64, grammar, finite bool) {
 	n := len(s)
 	if n == 0 || n > 64 {
 		if n > 64 {
 			return parseLongNumber(s, dec)
 		}
-		return 0, false
+		return 0, false, false
 	}
 	var buf [64]byte
 	i := 0
@@ -516,11 +533,11 @@ func ParseNumber(s string, dec byte) (float64, bool) {
 		break
 	}
 	if digits == 0 || marks > 1 {
-		return 0, false
+		return 0, false, false
 	}
 	if i < n {
 		if s[i] != 'e' && s[i] != 'E' {
-			return 0, false
+			return 0, false, false
 		}
 		buf[i] = 'e'
 		i++
@@ -534,10 +551,11 @@ func ParseNumber(s string, dec byte) (float64, bool) {
 			ed++
 		}
 		if ed == 0 || i < n {
-			return 0, false
+			return 0, false, false
 		}
 	}
-	return finiteFloat(string(buf[:n]))
+	v, finite = finiteFloat(string(buf[:n]))
+	return v, true, finite
 }
 
 // finiteFloat parses a validated number; overflow is not a number,
@@ -551,10 +569,10 @@ func finiteFloat(s string) (float64, bool) {
 }
 
 // parseLongNumber handles cells longer than ParseNumber's buffer.
-func parseLongNumber(s string, dec byte) (float64, bool) {
+func parseLongNumber(s string, dec byte) (v float64, grammar, finite bool) {
 	if dec == ',' {
 		if strings.ContainsRune(s, '.') {
-			return 0, false
+			return 0, false, false
 		}
 		s = strings.Replace(s, ",", ".", 1)
 	}
@@ -571,12 +589,13 @@ func parseLongNumber(s string, dec byte) (float64, bool) {
 		short.WriteByte(s[i])
 	}
 	if short.Len() > 64 {
-		return 0, false
+		return 0, false, false
 	}
 	if _, ok := ParseNumber(short.String(), '.'); !ok {
-		return 0, false
+		return 0, false, false
 	}
-	return finiteFloat(s)
+	v, finite = finiteFloat(s)
+	return v, true, finite
 }
 
 // FromCells builds a table as if read from a CSV file called name whose

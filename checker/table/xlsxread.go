@@ -39,6 +39,9 @@ func readXLSX(name string, data []byte, o *readOptions) (*Table, plan.Diagnostic
 		if bytes.HasPrefix(data, oleMagic) {
 			return nil, nil, fmt.Errorf("reading data %s: the file is an old-format .xls workbook or a password-protected one, not an xlsx workbook; save it as an Excel workbook (.xlsx) without a password", name)
 		}
+		if enc := plan.TextEncoding(data); enc != "" {
+			return nil, nil, fmt.Errorf("reading data %s: the file is %s, not an xlsx workbook", name, enc)
+		}
 		if checkText(data) == nil {
 			return nil, nil, fmt.Errorf("reading data %s: the file is text, not an xlsx workbook; declare format: csv", name)
 		}

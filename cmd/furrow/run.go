@@ -1,6 +1,7 @@
 package main
 
 import (
+	"cmp"
 	"crypto/ed25519"
 	"errors"
 	"fmt"
@@ -106,7 +107,19 @@ func runRun(e *env, c *command, args []string) int {
 		return fail(e, c, err)
 	}
 	for _, ep := range res.Endpoints {
-		fmt.Fprintf(e.stdout, "%s: %s (step %s)\n", ep.ID, ep.Status, ep.Reported)
+		line := fmt.Sprintf("%s: %s (step %s)", ep.ID, ep.Status, ep.Reported)
+		if ep.Reported == "" {
+			// Nothing is reported (failed, stopped): say at which step the
+			// cascade ended, and why.
+			line = fmt.Sprintf("%s: %s", ep.ID, ep.Status)
+			for i := len(ep.Steps) - 1; i >= 0; i-- {
+				if s := ep.Steps[i]; s.Executed {
+					line += fmt.Sprintf(" at step %s: %s", s.ID, cmp.Or(s.Error, s.Decision.Detail))
+					break
+				}
+			}
+		}
+		fmt.Fprintln(e.stdout, line)
 	}
 	if res.Unregistered {
 		fmt.Fprintln(e.stdout, "UNREGISTERED run: the record is marked as such")
