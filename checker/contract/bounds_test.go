@@ -18,7 +18,11 @@ func TestUndeclaredColumnsOnce(t *testing.T) {
 	for i := 0; i < 1000000; i++ {
 		fmt.Fprintf(&b, ",x%d", i)
 	}
-	b.WriteString("\nB1,1,ctl,5\nB1,2,new,6\nB2,3,ctl,5\nB2,4,new,7\n")
+	b.WriteString("\n")
+	blanks := strings.Repeat(",", 1000000)
+	for _, row := range []string{"B1,1,ctl,5", "B1,2,new,6", "B2,3,ctl,5", "B2,4,new,7"} {
+		b.WriteString(row + blanks + "\n")
+	}
 	ds := checkTablePlan(t, b.String())
 	var undeclared []string
 	for _, d := range ds {

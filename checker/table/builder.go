@@ -18,9 +18,10 @@ const (
 type tableBuilder struct {
 	t    *Table
 	opts *readOptions
-	// bounded is true when the padding of short rows is bounded (see
-	// maxPadRatio); held and padded count the cells so far.
-	bounded      bool
+	// padRatio, when not 0, bounds the padding of short rows: at most
+	// padRatio blank cells added per cell the file holds, once past
+	// minPadding. held and padded count the cells so far.
+	padRatio     int
 	held, padded int
 	// width is the number of header cells, including blank and repeated
 	// ones.
@@ -72,6 +73,9 @@ func newTableBuilder(name, format, sheet string, headerRow int, header []string,
 	b := &tableBuilder{t: t, opts: o, width: len(header), pos: make([]int, len(header)), lim: NewLimiter()}
 	var diags plan.Diagnostics
 	lim := NewLimiter()
+	// The columns are allocated together: a header of a million names
+	// costs one block, not a million.
+	slab := make([]Column, 0, len(header))
 	for i, h := range header {
 		h = trimCell(h)
 		if strings.HasPrefix(h, "\uFEFF") {
@@ -104,8 +108,12 @@ func newTableBuilder(name, format, sheet string, headerRow int, header []string,
 		}
 		b.pos[i] = len(t.cols)
 		t.index[h] = len(t.cols)
-		t.cols = append(t.cols, &Column{Name: h, Index: i + 1, Numeric: o.numeric[h],
-			Text: make([]string, 0, sizeHint), Num: make([]float64, 0, sizeHint), Missing: make([]bool, 0, sizeHint)})
+		slab = append(slab, Column{Name: h, Index: i + 1, Numeric: o.numeric[h]})
+		c := &slab[len(slab)-1]
+		if sizeHint > 0 {
+			c.Text, c.Num, c.Missing = make([]string, 0, sizeHint), make([]float64, 0, sizeHint), make([]bool, 0, sizeHint)
+		}
+		t.cols = append(t.cols, c)
 	}
 	n := len(t.cols)
 	b.vals, b.native, b.has = make([]string, n), make([]bool, n), make([]bool, n)
@@ -146,7 +154,7 @@ func (b *tableBuilder) add(row int, idx []int, cells []string, native []bool) er
 			}
 		}
 	}
-	if b.bounded {
+	if b.padRatio > 0 {
 		for _, h := range b.has {
 			if h {
 				b.held++
@@ -154,8 +162,8 @@ func (b *tableBuilder) add(row int, idx []int, cells []string, native []bool) er
 				b.padded++
 			}
 		}
-		if b.padded > max(minPadding, maxPadRatio*b.held) {
-			return &CellsError{Path: b.t.Path, Sheet: b.t.Sheet, Row: row, Columns: len(b.t.cols), Held: b.held, Padded: b.padded}
+		if b.padded > max(minPadding, b.padRatio*b.held) {
+			return &CellsError{Path: b.t.Path, Sheet: b.t.Sheet, Row: row, Columns: len(b.t.cols), Held: b.held, Padded: b.padded, Ratio: b.padRatio}
 		}
 	}
 	b.t.rows = append(b.t.rows, row)

@@ -98,7 +98,7 @@ func readCSV(name string, data []byte, o *readOptions) (*Table, plan.Diagnostics
 		if b == nil {
 			var hd plan.Diagnostics
 			b, hd = newTableBuilder(name, FormatCSV, "", line, rec, o, bytes.Count(data, []byte{'\n'}))
-			b.bounded = true
+			b.padRatio = padRatioCSV
 			diags = append(diags, hd...)
 			continue
 		}
@@ -198,6 +198,16 @@ func delimiterHint(name string, data []byte, o *readOptions) (plan.Diagnostic, b
 	if text == "" {
 		return plan.Diagnostic{}, false
 	}
+	// The hint needs the first names only: a header longer than
+	// maxHintHeader is judged by its start (cut after a delimiter), so that
+	// a header of a million names is not split four times over.
+	if len(text) > maxHintHeader {
+		cut := text[:maxHintHeader]
+		if i := strings.LastIndexAny(cut, ",;\t|"+string(o.delim)); i > 0 {
+			cut = cut[:i]
+		}
+		text = cut
+	}
 	if fields, ok := headerFields(text, o.delim); ok {
 		nonBlank := 0
 		for _, f := range fields {
@@ -246,6 +256,9 @@ func delimiterHint(name string, data []byte, o *readOptions) (plan.Diagnostic, b
 			Quote(text), string(o.delim), string(best), wordList(found, 5), string(best)),
 	}, true
 }
+
+// maxHintHeader is how much of the header delimiterHint reads.
+const maxHintHeader = 64 << 10
 
 // firstTextLine returns the first line of data that is not blank, without
 // its line end, and its line number.

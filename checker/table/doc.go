@@ -52,8 +52,9 @@
 // deep and a document type declaration are refused, as is a shared-string
 // table with more strings than the sheet has bytes (and at least 2^20).
 // Rows shorter than the header are padded with blank cells; a table that
-// would be mostly padding (more than 8 blank cells per cell held, once
-// past 2^22) is refused with a *CellsError. A header cell with no name
+// would be mostly padding (more blank cells added than cells held in CSV,
+// more than 8 per cell held in XLSX, whose rows leave trailing blanks out,
+// once past 2^20) is refused with a *CellsError. A header cell with no name
 // makes no column (a value under it is a data-header-blank error), so a
 // stray space in column XFD costs nothing.
 //

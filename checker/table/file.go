@@ -156,14 +156,18 @@ func absolute(path string) string {
 }
 
 // Padding bounds (tableBuilder.add): the blank cells that pad short rows
-// to the width of the header may number at most maxPadRatio per cell the
-// rows hold, once past minPadding. A table of real data is mostly cells
-// the file holds; one that is mostly padding comes from a header far
-// wider than its rows (a stray name in the last column of a sheet), and
-// would take memory out of all proportion to the file.
+// to the width of the header may number at most padRatioCSV or
+// padRatioXLSX per cell the file holds, once past minPadding. A cell the
+// file holds costs bytes of the file; a padded one costs nothing, so a
+// table that is mostly padding (a header far wider than its rows, as from
+// a stray name in the last column of a sheet) would take memory out of
+// all proportion to the file. A CSV row shorter than its header is an
+// error anyway; a sheet leaves the trailing blank cells of a row out, so a
+// sparse sheet pads more.
 const (
-	maxPadRatio = 8
-	minPadding  = 1 << 22
+	padRatioCSV  = 1
+	padRatioXLSX = 8
+	minPadding   = 1 << 20
 )
 
 // CellsError is returned by ReadTable when the rows of a file, padded to
@@ -176,8 +180,8 @@ type CellsError struct {
 	// Columns is the number of table columns (named header cells).
 	Columns int
 	// Held and Padded count the cells the rows hold and the blank ones
-	// that pad them, up to Row.
-	Held, Padded int
+	// that pad them, up to Row; Ratio is the most padded per cell held.
+	Held, Padded, Ratio int
 }
 
 // Error names the file, the row and the counts.
@@ -186,6 +190,6 @@ func (e *CellsError) Error() string {
 	if e.Sheet != "" {
 		where += ", sheet " + Quote(e.Sheet)
 	}
-	return fmt.Sprintf("reading data %s: by row %d the rows hold %d cells and %d blank ones pad them to the %d named columns of the header; a table that is mostly padding is refused (at most %d blank cells per cell held, once past %d): is the header row the one the data follow?",
-		where, e.Row, e.Held, e.Padded, e.Columns, maxPadRatio, minPadding)
+	return fmt.Sprintf("reading data %s: by row %d the rows hold %d cells and %d blank ones pad them to the %d named columns of the header; a table that is mostly padding is refused (at most %d blank %s per cell held, once past %d): is the header row the one the data follow?",
+		where, e.Row, e.Held, e.Padded, e.Columns, e.Ratio, Plural(e.Ratio, "cell", "cells"), minPadding)
 }

@@ -186,7 +186,7 @@ func readXLSX(name string, data []byte, o *readOptions) (*Table, plan.Diagnostic
 			}
 			var hd plan.Diagnostics
 			b, hd = newTableBuilder(name, FormatXLSX, sheet, rowNum, header, o, 0)
-			b.bounded = true
+			b.padRatio = padRatioXLSX
 			diags = append(diags, hd...)
 			continue
 		}
