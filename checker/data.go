@@ -26,6 +26,29 @@ func ReadTable(p *plan.Plan, dataPath string) (*Table, plan.Diagnostics, error) 
 	return table.ReadTable(p, dataPath)
 }
 
+// DataOptions bound the reading of a data file: the size limit, and
+// whether the plan's data.file may lie outside the plan's folder; see
+// [table.Options].
+type DataOptions = table.Options
+
+// DefaultMaxDataSize is the size limit on data files when DataOptions
+// give none; see [table.DefaultMaxSize].
+const DefaultMaxDataSize = table.DefaultMaxSize
+
+// SizeError is the error for a data file over the size limit; see
+// [table.SizeError].
+type SizeError = table.SizeError
+
+// OutsideError is the error for a plan's data.file outside the plan's
+// folder; see [table.OutsideError].
+type OutsideError = table.OutsideError
+
+// ReadTableWith is ReadTable with the reading bounded by o; see
+// [table.ReadTableWith].
+func ReadTableWith(p *plan.Plan, dataPath string, o DataOptions) (*Table, plan.Diagnostics, error) {
+	return table.ReadTableWith(p, dataPath, o)
+}
+
 // CheckData checks a table against the plan's data contract; see
 // [contract.CheckData].
 func CheckData(p *plan.Plan, t *Table) (plan.Diagnostics, *DesignSummary) {

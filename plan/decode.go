@@ -5,7 +5,7 @@ import (
 	"errors"
 	"fmt"
 	"io"
-	"os"
+	"io/fs"
 	"regexp"
 	"strconv"
 	"strings"
@@ -29,13 +29,14 @@ const MaxSize = 1 << 20
 // it is returned with defaults filled, together with the semantic
 // findings of Validate.
 func Load(path string, m Methods) (*Plan, Diagnostics, error) {
-	f, err := os.Open(path)
-	if err != nil {
+	src, err := ReadFile(path, MaxSize)
+	var big *TooLargeError
+	switch {
+	case errors.As(err, &big):
+		return nil, Diagnostics{tooLarge(path)}, nil
+	case errors.Is(err, fs.ErrNotExist) || errors.Is(err, fs.ErrPermission):
 		return nil, nil, fmt.Errorf("reading plan: %w", err)
-	}
-	defer f.Close()
-	src, err := io.ReadAll(io.LimitReader(f, MaxSize+1))
-	if err != nil {
+	case err != nil:
 		return nil, nil, fmt.Errorf("reading plan %s: %w", path, err)
 	}
 	return Parse(path, src, m)
@@ -56,6 +57,7 @@ func Parse(name string, src []byte, m Methods) (*Plan, Diagnostics, error) {
 	if root == nil {
 		return nil, ds.Sort(), nil
 	}
+	ds = append(ds, bidiFindings(name, src, root)...)
 	if d, ok := checkFormat(name, root); !ok {
 		return nil, append(ds, d).Sort(), nil
 	}
@@ -77,6 +79,22 @@ func Parse(name string, src []byte, m Methods) (*Plan, Diagnostics, error) {
 	return p, ds.Sort(), nil
 }
 
+// leadingBOMs counts the byte-order marks src starts with.
+func leadingBOMs(src []byte) int {
+	n := 0
+	for bytes.HasPrefix(src, []byte("\ufeff")) {
+		src = src[3:]
+		n++
+	}
+	return n
+}
+
+// tooLarge is the finding for a plan file over MaxSize.
+func tooLarge(name string) Diagnostic {
+	return Diagnostic{Severity: Error, Code: "too-large", Pos: Pos{File: name},
+		Summary: fmt.Sprintf("the file is larger than %d bytes; a plan is a short text file", MaxSize)}
+}
+
 func diagAt(name string, line, col int, code, msg string) Diagnostic {
 	return Diagnostic{Severity: Error, Code: code, Pos: Pos{File: name, Line: line, Column: col}, Summary: msg}
 }
@@ -86,8 +104,11 @@ func diagAt(name string, line, col int, code, msg string) Diagnostic {
 // be named precisely.
 func precheck(name string, src []byte) Diagnostics {
 	if len(src) > MaxSize {
-		return Diagnostics{{Severity: Error, Code: "too-large", Pos: Pos{File: name},
-			Summary: fmt.Sprintf("the file is larger than %d bytes; a plan is a short text file", MaxSize)}}
+		return Diagnostics{tooLarge(name)}
+	}
+	if enc := TextEncoding(src); enc != "" {
+		return Diagnostics{diagAt(name, 1, 1, "not-utf8",
+			fmt.Sprintf("the file is %s, not utf-8; save the plan as utf-8", enc))}
 	}
 	line, col := 1, 1
 	for i := 0; i < len(src); {
@@ -104,6 +125,10 @@ func precheck(name string, src []byte) Diagnostics {
 		i += size
 	}
 	src = bytes.TrimPrefix(src, []byte("\ufeff"))
+	if n := leadingBOMs(src); n > 0 {
+		return Diagnostics{diagAt(name, 1, 1, "bom",
+			fmt.Sprintf("the file starts with %d byte-order marks (U+FEFF), where a text file has at most one; it was likely converted twice: save the plan again as utf-8", n+1))}
+	}
 	var ds Diagnostics
 	inBlock, blockIndent := false, 0
 	for i, l := range strings.Split(string(src), "\n") {

@@ -9,6 +9,8 @@ import (
 	"strconv"
 	"strings"
 	"time"
+	"unicode"
+	"unicode/utf8"
 )
 
 // Validate checks the meaning of a decoded plan (defaults filled, as Parse
@@ -162,11 +164,37 @@ func (v *validator) data() {
 		if d.Decimal == "," && d.Delimiter == "," {
 			v.errf("data-decimal", "data.decimal", "decimal mark and delimiter are both \",\"; use delimiter \";\" with a decimal comma")
 		}
+		if why := delimiterProblem(d.Delimiter, d.Decimal); why != "" {
+			v.errf("data-delimiter", "data.delimiter", "delimiter %q cannot separate fields: %s; use \",\", \";\", \"\\t\" (a tab) or \"|\"", d.Delimiter, why)
+		}
 	case "xlsx":
 		if d.Delimiter != "" {
 			v.errf("data-delimiter", "data.delimiter", "delimiter applies to csv files only")
 		}
 	}
+}
+
+// delimiterProblem says why a declared delimiter cannot separate CSV
+// fields ("" when it can, or none is declared).
+func delimiterProblem(delim, decimal string) string {
+	r, n := utf8.DecodeRuneInString(delim)
+	switch {
+	case delim == "" || delim == `\t` || delim == "tab":
+		return ""
+	case n != len(delim):
+		return "it is more than one character"
+	case r == '\n' || r == '\r':
+		return "a line break ends a row"
+	case r == '"':
+		return "a quote encloses a field"
+	case r == '.' && (decimal == "" || decimal == "."):
+		return "it is the decimal mark"
+	case r == utf8.RuneError || r == '\uFEFF' || (unicode.IsControl(r) && r != '\t') || unicode.Is(unicode.Cf, r):
+		return "it is an invisible control character"
+	case unicode.IsLetter(r) || unicode.IsDigit(r) || r == '+' || r == '-':
+		return "it can be part of a value"
+	}
+	return ""
 }
 
 func (v *validator) design() {

@@ -4,6 +4,7 @@ import (
 	"cmp"
 	"errors"
 	"fmt"
+	"math"
 	"slices"
 	"strconv"
 	"strings"
@@ -164,6 +165,10 @@ func (s *Schema) word(e *jsonschema.ValidationError, root any, ix Index) []Probl
 	case "type":
 		if val == nil {
 			return one("wrong-type", subj+" is empty; give it a value or remove the key")
+		}
+		if str, ok := val.(string); ok && wantsNumber(sch["type"]) && overflows(str) {
+			// YAML reads 1e309 as text: it is too large for a number.
+			return one("out-of-range", fmt.Sprintf("%s is out of the range of a double (its magnitude is beyond 1.8e308); got %s", subj, str))
 		}
 		return one("wrong-type", fmt.Sprintf("%s must be %s; got %s", subj, typePhrase(sch["type"]), describe(val)))
 	case "enum":
@@ -333,6 +338,9 @@ func describe(v any) string {
 	case bool:
 		return strconv.FormatBool(x)
 	case float64:
+		if x == math.Trunc(x) && math.Abs(x) < 1e15 {
+			return strconv.FormatFloat(x, 'f', -1, 64) // 1000000, not 1e+06
+		}
 		return strconv.FormatFloat(x, 'g', -1, 64)
 	case []any:
 		return "a list"
@@ -379,4 +387,25 @@ func lowerFirst(s string) string {
 		return s
 	}
 	return strings.ToLower(s[:1]) + s[1:]
+}
+
+// wantsNumber reports whether a schema type admits a number.
+func wantsNumber(t any) bool {
+	names := stringsOf(asSlice(t))
+	if s, ok := t.(string); ok {
+		names = []string{s}
+	}
+	return slices.Contains(names, "number") || slices.Contains(names, "integer")
+}
+
+// overflows reports whether s is written as a decimal number (digits, an
+// optional sign, point and exponent) whose magnitude is beyond the
+// largest double.
+func overflows(s string) bool {
+	s = strings.ReplaceAll(s, "_", "")
+	if s == "" || strings.ContainsAny(s, "xXoObBpPiInN") {
+		return false // hexadecimal, octal, inf and nan are other things
+	}
+	v, err := strconv.ParseFloat(s, 64)
+	return errors.Is(err, strconv.ErrRange) && math.IsInf(v, 0)
 }

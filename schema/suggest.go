@@ -29,7 +29,10 @@ func Suggest(s string, candidates []string) string {
 	}
 	best, bestD := "", limit+1
 	for _, c := range candidates {
-		if c == s {
+		// The distance is at least the difference in length: a candidate
+		// far longer or shorter is not near (and a 10 MB cell is not
+		// compared rune by rune).
+		if c == s || !nearLength(n, c, limit) {
 			continue
 		}
 		if d := EditDistance(ls, strings.ToLower(c)); d < bestD {
@@ -67,4 +70,19 @@ func EditDistance(a, b string) int {
 		prev2, prev, cur = prev, cur, prev2
 	}
 	return prev[len(rb)]
+}
+
+// nearLength reports whether c has within limit of n runes, counting no
+// further than it needs to.
+func nearLength(n int, c string, limit int) bool {
+	if len(c) < n-limit {
+		return false // fewer bytes than the runes needed
+	}
+	m := 0
+	for range c {
+		if m++; m > n+limit {
+			return false
+		}
+	}
+	return m >= n-limit
 }

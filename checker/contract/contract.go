@@ -95,6 +95,19 @@ func (c *contractCheck) present(roles ...string) []*plan.Column {
 	return out
 }
 
+// maxUndeclared is the most undeclared file columns reported one by one;
+// more are one finding with their count.
+const maxUndeclared = 5
+
+// numberText writes a number read from a cell for a message: its text, or
+// when that is long its value in shortest form.
+func numberText(text string, v float64) string {
+	if len(text) <= table.QuoteMax {
+		return text
+	}
+	return strconv.FormatFloat(v, 'g', -1, 64)
+}
+
 // columns reports declared columns missing from the file and file columns
 // the plan does not declare.
 func (c *contractCheck) columns() {
@@ -114,16 +127,32 @@ func (c *contractCheck) columns() {
 		pc := c.decl[name]
 		s := fmt.Sprintf("column %q (%s) declared in the plan is not in the data", name, pc.Role)
 		if g := suggestColumn(name, undeclared, missing); g != "" {
-			s += fmt.Sprintf("; did you mean %q?", g)
+			s += fmt.Sprintf("; did you mean %s?", table.Quote(g))
 		}
 		c.diags = append(c.diags, plan.Diagnostic{
 			Severity: plan.Error, Code: "data-column-missing",
 			Pos: c.t.HeaderPos(0), Summary: s, Related: table.RelatedPos(pc.Pos),
 		})
 	}
+	if len(undeclared) > maxUndeclared {
+		// One finding for them all: a header of a million names is one
+		// thing to fix, not a million.
+		var names []string
+		for _, name := range undeclared[:3] {
+			names = append(names, table.Quote(name))
+		}
+		first := c.t.Column(undeclared[0])
+		c.diags = append(c.diags, plan.Diagnostic{
+			Severity: plan.Warning, Code: "data-column-undeclared",
+			Pos: c.t.HeaderPos(first.Index),
+			Summary: fmt.Sprintf("%d columns are not declared in the plan (%s and %d more, from column %d on); they are carried along unchecked",
+				len(undeclared), strings.Join(names, ", "), len(undeclared)-3, first.Index),
+		})
+		return
+	}
 	for _, name := range undeclared {
 		tc := c.t.Column(name)
-		s := fmt.Sprintf("column %q is not declared in the plan; it is carried along unchecked", name)
+		s := fmt.Sprintf("column %s is not declared in the plan; it is carried along unchecked", table.Quote(name))
 		if g := suggestColumn(name, missing, undeclared); g != "" {
 			s += fmt.Sprintf(" (is it the declared %q?)", g)
 		}
@@ -167,9 +196,11 @@ func (c *contractCheck) numbers(pc *plan.Column, tc *table.Column) {
 			continue
 		}
 		if math.IsNaN(v) {
-			s := fmt.Sprintf("%scolumn %q: %q is not a number", c.at(i, tc.Index), pc.Name, tc.Text[i])
+			s := fmt.Sprintf("%scolumn %q: %s is not a number", c.at(i, tc.Index), pc.Name, table.Quote(tc.Text[i]))
 			rel := table.RelatedPos(pc.Pos)
-			if _, ok := table.ParseNumber(tc.Text[i], ','); ok && dec == "." {
+			if table.Overflows(tc.Text[i], dec[0]) || table.Overflows(tc.Text[i], '.') {
+				s = fmt.Sprintf("%scolumn %q: %s is out of the range of a double (its magnitude is beyond 1.8e308)", c.at(i, tc.Index), pc.Name, table.Quote(tc.Text[i]))
+			} else if _, ok := table.ParseNumber(tc.Text[i], ','); ok && dec == "." {
 				s += `; it has a decimal comma: declare decimal: "," in the data section`
 				rel = append(rel, table.RelatedPos(c.p.Data.Pos)...)
 			} else if _, ok := table.ParseNumber(tc.Text[i], '.'); ok && dec == "," {
@@ -183,7 +214,7 @@ func (c *contractCheck) numbers(pc *plan.Column, tc *table.Column) {
 		if (pc.Min != nil && v < *pc.Min) || (pc.Max != nil && v > *pc.Max) {
 			d := plan.Diagnostic{Severity: plan.Error, Code: "data-out-of-range",
 				Pos: c.t.Pos(i, tc.Index), Related: table.RelatedPos(pc.Pos),
-				Summary: fmt.Sprintf("%scolumn %q: %s is outside the plausible range %s", c.at(i, tc.Index), pc.Name, tc.Text[i], rangeWords(pc.Min, pc.Max)),
+				Summary: fmt.Sprintf("%scolumn %q: %s is outside the plausible range %s", c.at(i, tc.Index), pc.Name, numberText(tc.Text[i], v), rangeWords(pc.Min, pc.Max)),
 			}
 			if outRule != nil {
 				d.Severity = plan.Warning
@@ -223,7 +254,7 @@ func (c *contractCheck) levels(pc *plan.Column, tc *table.Column) {
 		if declared[s] {
 			continue
 		}
-		msg := fmt.Sprintf("%scolumn %q: level %q is not declared (declared: %s)", c.at(i, tc.Index), pc.Name, s, strings.Join(pc.Levels, ", "))
+		msg := fmt.Sprintf("%scolumn %q: level %s is not declared (declared: %s)", c.at(i, tc.Index), pc.Name, table.Quote(s), strings.Join(pc.Levels, ", "))
 		if g := schema.Suggest(s, pc.Levels); g != "" {
 			msg += fmt.Sprintf("; did you mean %q?", g)
 		}
@@ -313,7 +344,7 @@ func (c *contractCheck) units() {
 			c.unitOrder = append(c.unitOrder, u)
 		}
 		// duplicate records
-		key, what := u, fmt.Sprintf("unit %q", u)
+		key, what := u, "unit "+table.Quote(u)
 		if rc != nil {
 			tv := rc.Text[i]
 			if rc.Missing[i] {
@@ -325,7 +356,7 @@ func (c *contractCheck) units() {
 				timesSeen[u][tv] = true
 			}
 			key += "\x00" + tv
-			what = fmt.Sprintf("unit %q at %s %q", u, rpc.Name, rc.Text[i])
+			what = fmt.Sprintf("unit %s at %s %s", table.Quote(u), rpc.Name, table.Quote(rc.Text[i]))
 		}
 		ks := records[key]
 		if ks == nil {
@@ -359,8 +390,8 @@ func (c *contractCheck) units() {
 				reported[k][u] = true
 				c.add(fpc.Name, plan.Diagnostic{Severity: plan.Error, Code: "data-unit-inconsistent",
 					Pos: c.t.Pos(i, fc.Index),
-					Summary: fmt.Sprintf("%sunit %q has %s %q here but %q at row %d; a unit keeps its %s in every row",
-						c.at(i, fc.Index), u, fpc.Name, fc.Text[i], fc.Text[j], c.t.RowNumber(j), fpc.Role),
+					Summary: fmt.Sprintf("%sunit %s has %s %s here but %s at row %d; a unit keeps its %s in every row",
+						c.at(i, fc.Index), table.Quote(u), fpc.Name, table.Quote(fc.Text[i]), table.Quote(fc.Text[j]), c.t.RowNumber(j), fpc.Role),
 					Related: table.RelatedPos(fpc.Pos)})
 			}
 		}
@@ -372,7 +403,7 @@ func (c *contractCheck) units() {
 				if !timesSeen[u][l] {
 					c.add(rpc.Name, plan.Diagnostic{Severity: plan.Warning, Code: "data-record-missing",
 						Pos:     c.t.Pos(c.unitFirst[u], 0),
-						Summary: fmt.Sprintf("unit %q has no record at %s %q", u, rpc.Name, l),
+						Summary: fmt.Sprintf("unit %s has no record at %s %q", table.Quote(u), rpc.Name, l),
 						Related: table.RelatedPos(rpc.Pos)})
 				}
 			}

@@ -88,6 +88,15 @@ func TestDataFixtures(t *testing.T) {
 					t.Fatal(err)
 				}
 			}
+			if make, ok := craftedXLSX[name]; ok && *update {
+				b, err := make()
+				if err == nil {
+					err = os.WriteFile(filepath.Join(dir, "plots.xlsx"), b, 0o644)
+				}
+				if err != nil {
+					t.Fatal(err)
+				}
+			}
 			p, pds, err := plan.Load(pf, method.Default)
 			if err != nil || pds.HasErrors() {
 				t.Fatalf("fixture plan does not load: %v %v", err, pds)

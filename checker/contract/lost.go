@@ -136,7 +136,7 @@ func lostIn(parts []string, tl *cellTally, want int, blockLevels []string) []Los
 func cellWords(cols []*plan.Column, parts []string) string {
 	names := make([]string, len(parts))
 	for k, pc := range cols {
-		names[k] = fmt.Sprintf("%s %q", pc.Name, parts[k])
+		names[k] = pc.Name + " " + table.Quote(parts[k])
 	}
 	return strings.Join(names, ", ")
 }

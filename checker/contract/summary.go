@@ -154,9 +154,13 @@ func (s *DesignSummary) WriteText(w io.Writer) error {
 		fmt.Fprintln(ew, "levels seen (rows)")
 		tw := tabwriter.NewWriter(ew, 0, 0, 2, ' ', 0)
 		for _, cl := range s.Levels {
-			parts := make([]string, len(cl.Levels))
+			var parts []string
 			for i, l := range cl.Levels {
-				parts[i] = l + " " + strconv.Itoa(cl.Rows[i])
+				if i == maxShown {
+					parts = append(parts, fmt.Sprintf("and %d more", len(cl.Levels)-maxShown))
+					break
+				}
+				parts = append(parts, table.Shown(l)+" "+strconv.Itoa(cl.Rows[i]))
 			}
 			fmt.Fprintf(tw, "  %s\t%s\n", cl.Column, strings.Join(parts, ", "))
 		}
@@ -179,18 +183,33 @@ func (s *DesignSummary) writeCells(w io.Writer) {
 	siteFirst := len(s.CellColumns) > 1
 	var rowKeys, colKeys []string
 	grid := map[[2]string]int{}
+	rowSeen, colSeen := map[string]bool{}, map[string]bool{}
 	for _, cc := range s.Cells {
-		r, c := "all", strings.Join(cc.Levels, ":")
-		if siteFirst {
-			r, c = cc.Levels[0], strings.Join(cc.Levels[1:], ":")
+		shown := make([]string, len(cc.Levels))
+		for i, l := range cc.Levels {
+			shown[i] = table.Shown(l)
 		}
-		if !slices.Contains(rowKeys, r) {
+		r, c := "all", strings.Join(shown, ":")
+		if siteFirst {
+			r, c = shown[0], strings.Join(shown[1:], ":")
+		}
+		if !rowSeen[r] {
+			rowSeen[r] = true
 			rowKeys = append(rowKeys, r)
 		}
-		if !slices.Contains(colKeys, c) {
+		if !colSeen[c] {
+			colSeen[c] = true
 			colKeys = append(colKeys, c)
 		}
 		grid[[2]string{r, c}] = cc.Units
+	}
+	// A table of more than maxShown rows or columns (levels the plan does
+	// not declare) is cut, and says so.
+	more := ""
+	if len(rowKeys) > maxShown || len(colKeys) > maxShown {
+		more = fmt.Sprintf("  (%d %s and %d %s in all; the first %d of each are shown)\n", len(rowKeys), table.Plural(len(rowKeys), "row", "rows"),
+			len(colKeys), table.Plural(len(colKeys), "column", "columns"), maxShown)
+		rowKeys, colKeys = rowKeys[:min(len(rowKeys), maxShown)], colKeys[:min(len(colKeys), maxShown)]
 	}
 	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
 	head := ""
@@ -210,6 +229,7 @@ func (s *DesignSummary) writeCells(w io.Writer) {
 		fmt.Fprintln(tw)
 	}
 	tw.Flush()
+	fmt.Fprint(w, more)
 }
 
 // writeLost writes the lost units, one a line, with their cell levels
@@ -231,6 +251,10 @@ func (s *DesignSummary) writeLost(w io.Writer) {
 	}
 	tw.Flush()
 }
+
+// maxShown is the most levels, and cell-table rows and columns, the text
+// summary lists.
+const maxShown = 20
 
 // errWriter keeps the first write error.
 type errWriter struct {

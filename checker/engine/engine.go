@@ -34,6 +34,9 @@ type RunOptions struct {
 	Tool record.ToolInfo
 	// Unregistered allows a run without a matching registration; the record is marked.
 	Unregistered bool
+	// Data bounds the reading of the data file (size limit, a data.file
+	// outside the plan's folder); the zero value is the default.
+	Data table.Options
 }
 
 // DataError is returned by Run when the data contract has errors; the run
@@ -112,7 +115,7 @@ func Run(opt RunOptions) (*record.Result, error) {
 	}
 
 	// Data.
-	t, ddiags, err := table.ReadTable(p, opt.DataPath)
+	t, ddiags, err := table.ReadTableWith(p, opt.DataPath, opt.Data)
 	if err != nil {
 		return nil, err // ReadTable errors already say "reading data FILE: ..."
 	}

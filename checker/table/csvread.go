@@ -22,7 +22,16 @@ func readCSV(name string, data []byte, o *readOptions) (*Table, plan.Diagnostics
 	if err := checkText(data); err != nil {
 		return nil, nil, fmt.Errorf("reading data %s: %w", name, err)
 	}
+	var diags plan.Diagnostics
 	data = bytes.TrimPrefix(data, []byte("\uFEFF"))
+	if n := 0; bytes.HasPrefix(data, []byte("\uFEFF")) {
+		for bytes.HasPrefix(data, []byte("\uFEFF")) {
+			data, n = data[3:], n+1
+		}
+		diags = append(diags, plan.Diagnostic{Severity: plan.Warning, Code: "data-bom",
+			Pos:     plan.Pos{File: name, Line: 1, Column: 1},
+			Summary: fmt.Sprintf("the file starts with %d byte-order marks (U+FEFF), where a text file has at most one; they are dropped, but the file was likely converted twice: save it again as utf-8", n+1)})
+	}
 	// A file whose lines end in a lone carriage return (old spreadsheet
 	// exports) has no line feed at all: read its carriage returns as line
 	// ends, so its rows are rows and their numbers are the ones a user sees.
@@ -33,7 +42,7 @@ func readCSV(name string, data []byte, o *readOptions) (*Table, plan.Diagnostics
 	if d, ok := delimiterHint(name, data, o); ok {
 		// Read with the wrong delimiter every declared column is missing
 		// and every row ragged: say the one thing that is wrong.
-		return nil, plan.Diagnostics{d}, nil
+		return nil, append(diags, d), nil
 	}
 
 	r := csv.NewReader(bytes.NewReader(data))
@@ -42,7 +51,6 @@ func readCSV(name string, data []byte, o *readOptions) (*Table, plan.Diagnostics
 	r.ReuseRecord = true
 
 	var (
-		diags plan.Diagnostics
 		b     *tableBuilder
 		lim   = NewLimiter()
 		blank []int
@@ -90,6 +98,7 @@ func readCSV(name string, data []byte, o *readOptions) (*Table, plan.Diagnostics
 		if b == nil {
 			var hd plan.Diagnostics
 			b, hd = newTableBuilder(name, FormatCSV, "", line, rec, o, bytes.Count(data, []byte{'\n'}))
+			b.padRatio = padRatioCSV
 			diags = append(diags, hd...)
 			continue
 		}
@@ -107,7 +116,9 @@ func readCSV(name string, data []byte, o *readOptions) (*Table, plan.Diagnostics
 				Summary: fmt.Sprintf("row %d has %d fields, the header has %d", line, len(rec), b.width),
 			})
 		}
-		b.add(line, rec, nil)
+		if err := b.add(line, nil, rec, nil); err != nil {
+			return nil, nil, err
+		}
 	}
 	diags = append(diags, lim.Summaries()...)
 	if b == nil {
@@ -124,6 +135,9 @@ func readCSV(name string, data []byte, o *readOptions) (*Table, plan.Diagnostics
 func checkText(data []byte) error {
 	if bytes.HasPrefix(data, zipMagic) {
 		return errors.New("the file is a zip archive (an xlsx workbook?), not csv text; declare format: xlsx")
+	}
+	if enc := plan.TextEncoding(data); enc != "" {
+		return fmt.Errorf("the file is %s, not utf-8; save it as utf-8 (in a spreadsheet program: CSV UTF-8)", enc)
 	}
 	if i := bytes.IndexByte(data, 0); i >= 0 {
 		return fmt.Errorf("the file holds binary data (a NUL byte on line %d), not csv text", 1+bytes.Count(data[:i], []byte("\n")))
@@ -184,6 +198,16 @@ func delimiterHint(name string, data []byte, o *readOptions) (plan.Diagnostic, b
 	if text == "" {
 		return plan.Diagnostic{}, false
 	}
+	// The hint needs the first names only: a header longer than
+	// maxHintHeader is judged by its start (cut after a delimiter), so that
+	// a header of a million names is not split four times over.
+	if len(text) > maxHintHeader {
+		cut := text[:maxHintHeader]
+		if i := strings.LastIndexAny(cut, ",;\t|"+string(o.delim)); i > 0 {
+			cut = cut[:i]
+		}
+		text = cut
+	}
 	if fields, ok := headerFields(text, o.delim); ok {
 		nonBlank := 0
 		for _, f := range fields {
@@ -229,9 +253,12 @@ func delimiterHint(name string, data []byte, o *readOptions) (plan.Diagnostic, b
 		Severity: plan.Error, Code: "data-delimiter",
 		Pos: plan.Pos{File: name, Line: line}, Related: RelatedPos(o.dataPos),
 		Summary: fmt.Sprintf("the header %s does not split on %q; split on %q it gives the declared columns %s: declare delimiter: %q in the data section",
-			shortQuote(text, 60), string(o.delim), string(best), wordList(found, 5), string(best)),
+			Quote(text), string(o.delim), string(best), wordList(found, 5), string(best)),
 	}, true
 }
+
+// maxHintHeader is how much of the header delimiterHint reads.
+const maxHintHeader = 64 << 10
 
 // firstTextLine returns the first line of data that is not blank, without
 // its line end, and its line number.
@@ -264,16 +291,6 @@ func headerFields(text string, r rune) ([]string, bool) {
 		rec[i] = trimCell(rec[i])
 	}
 	return rec, true
-}
-
-// shortQuote quotes s, cut to at most max runes (with "..." inside the
-// quotes when cut).
-func shortQuote(s string, max int) string {
-	if utf8.RuneCountInString(s) <= max {
-		return fmt.Sprintf("%q", s)
-	}
-	r := []rune(s)
-	return fmt.Sprintf("%q", string(r[:max-3])+"...")
 }
 
 // wordList writes "a", "a and b", "a, b and c", or the first max names

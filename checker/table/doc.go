@@ -27,7 +27,36 @@
 // cells and the cached values of formulas keep their value, written in
 // shortest round-trip form; cells whose number format shows a date become
 // YYYY-MM-DD (with THH:MM:SS when a time of day is shown); text cells are
-// taken as they are, so numbers stored as text are still numbers.
+// taken as they are, so numbers stored as text are still numbers. A cell
+// that refers to a shared string the workbook does not hold, and a formula
+// saved without its value, are data-xlsx-cell errors at the cell (the
+// cell reads as blank). The workbook is read by this package itself
+// (archive/zip and encoding/xml, no spreadsheet library), streaming the
+// sheet row by row; a structure it cannot follow (rows or cells out of
+// order, a reference past XFD1048576, XML that is not well formed) is an
+// error naming the file, the part or sheet and the row.
+//
+// # Bounds
+//
+// No input makes ReadTable hold much more than the table it reads, or
+// wait: see [ReadTableWith] and [Options]. Only regular files are read (a
+// named pipe or a device is refused before it is opened for reading), of
+// at most Options.MaxSize bytes (DefaultMaxSize, 2 GiB); the plan's
+// data.file must resolve, after symbolic links, inside the plan's folder
+// unless Options.AllowOutside. For XLSX, the parts read (relationships,
+// workbook, styles, shared strings, the one sheet) are bounded before they
+// are unpacked, by the sizes the archive declares: each, and all together,
+// at most Options.MaxSize; a part of more than 10 MiB that unpacks to more
+// than 100 times its packed size is refused as a zip bomb. Within a part,
+// a text of more than 1 MiB without markup, elements nested more than 32
+// deep and a document type declaration are refused, as is a shared-string
+// table with more strings than the sheet has bytes (and at least 2^20).
+// Rows shorter than the header are padded with blank cells; a table that
+// would be mostly padding (more blank cells added than cells held in CSV,
+// more than 8 per cell held in XLSX, whose rows leave trailing blanks out,
+// once past 2^20) is refused with a *CellsError. A header cell with no name
+// makes no column (a value under it is a data-header-blank error), so a
+// stray space in column XFD costs nothing.
 //
 // A number is an optional sign, digits with at most one decimal mark
 // (data.decimal, "." or ","), and an optional exponent; thousands

@@ -9,6 +9,7 @@ import (
 	"math/rand/v2"
 	"os"
 	"path/filepath"
+	"strings"
 	"testing"
 
 	"furrow/checker/internal/fixture"
@@ -77,6 +78,60 @@ func FuzzReadCSV(f *testing.F) {
 		sub, err := tab.Subset(all)
 		if err != nil || sub.ContentHash() != tab.ContentHash() {
 			t.Fatalf("subset of all rows: %v", err)
+		}
+		contract.CheckData(p, tab) // must not panic
+	})
+}
+
+// FuzzReadXLSX reads arbitrary bytes as an XLSX workbook. It must never
+// panic, nor allocate without bound; a returned table must be rectangular
+// with row numbers increasing, every finding must have a code and a
+// summary, and the data contract must run on the table. The seeds
+// (testdata/fuzz/FuzzReadXLSX) are a sound workbook and damaged ones.
+func FuzzReadXLSX(f *testing.F) {
+	for _, seed := range table.XLSXSeeds(f) {
+		f.Add(seed)
+	}
+	dir := f.TempDir()
+	f.Fuzz(func(t *testing.T, data []byte) {
+		path := filepath.Join(dir, fmt.Sprintf("fuzz-%d.xlsx", rand.Uint64()))
+		if err := os.WriteFile(path, data, 0o644); err != nil {
+			t.Fatal(err)
+		}
+		defer os.Remove(path)
+		p := fixture.TablePlan(dir, "unused.xlsx")
+		p.Data.Format = table.FormatXLSX
+		tab, diags, err := table.ReadTableWith(p, path, table.Options{MaxSize: 64 << 20})
+		if err != nil {
+			if tab != nil || diags != nil {
+				t.Fatal("error together with a table or diagnostics")
+			}
+			if !strings.Contains(err.Error(), filepath.ToSlash(path)) {
+				t.Fatalf("error does not name the file: %v", err)
+			}
+			return
+		}
+		for _, d := range diags {
+			if d.Summary == "" || d.Code == "" {
+				t.Fatalf("empty finding %+v", d)
+			}
+		}
+		if tab == nil {
+			if !diags.HasErrors() {
+				t.Fatal("no table and no error finding")
+			}
+			return
+		}
+		rows := tab.RowNumbers()
+		for i := range rows {
+			if rows[i] <= tab.HeaderRow || (i > 0 && rows[i] <= rows[i-1]) {
+				t.Fatalf("row numbers %v after header %d", rows, tab.HeaderRow)
+			}
+		}
+		for _, c := range tab.Columns() {
+			if len(c.Text) != len(rows) || len(c.Num) != len(rows) || len(c.Missing) != len(rows) {
+				t.Fatalf("column %q not rectangular", c.Name)
+			}
 		}
 		contract.CheckData(p, tab) // must not panic
 	})

@@ -5,8 +5,8 @@ import (
 	"encoding/hex"
 	"errors"
 	"fmt"
+	"io/fs"
 	"math"
-	"os"
 	"path/filepath"
 	"strconv"
 	"strings"
@@ -298,39 +298,48 @@ func trimCell(s string) string {
 	return strings.TrimSpace(s)
 }
 
-// ReadTable reads the data file a plan names. dataPath "" means p.Data.File
-// relative to the directory of the plan file (p.Path); any other value is
-// used as given. The format, sheet, delimiter, decimal mark and missing
-// codes come from p.Data; the format is taken from the file extension when
-// the plan gives none, or when dataPath is given and its extension (.csv,
-// .txt, .xlsx, .xlsm) names a format.
-//
-// The error is for unreadable input: a missing, empty or binary file, or a
-// file that is not CSV or XLSX. Problems with the content (ragged rows, an
-// unterminated quote, a missing sheet, empty or repeated header names) are
-// diagnostics positioned in the data file. The table is nil when the
-// diagnostics leave nothing to check (no header, a missing sheet, a quote
-// that swallows the rest of the file, a header that splits only on another
-// delimiter); otherwise it holds every row read.
+// ReadTable reads the data file a plan names with the default Options;
+// see ReadTableWith.
 func ReadTable(p *plan.Plan, dataPath string) (*Table, plan.Diagnostics, error) {
+	return ReadTableWith(p, dataPath, Options{})
+}
+
+// ReadTableWith reads the data file a plan names. dataPath "" means
+// p.Data.File relative to the directory of the plan file (p.Path), which
+// must resolve inside that directory unless o.AllowOutside (else the error
+// is an *OutsideError); any other value is used as given. The format,
+// sheet, delimiter, decimal mark and missing codes come from p.Data; the
+// format is taken from the file extension when the plan gives none, or
+// when dataPath is given and its extension (.csv, .txt, .xlsx, .xlsm)
+// names a format.
+//
+// The error is for unreadable input: a missing, empty or binary file, a
+// file that is not CSV or XLSX, one that is not a regular file (a named
+// pipe, a device), or one over the size limit (a *SizeError). Problems
+// with the content (ragged rows, an unterminated quote, a missing sheet,
+// empty or repeated header names) are diagnostics positioned in the data
+// file. The table is nil when the diagnostics leave nothing to check (no
+// header, a missing sheet, a quote that swallows the rest of the file, a
+// header that splits only on another delimiter); otherwise it holds every
+// row read.
+func ReadTableWith(p *plan.Plan, dataPath string, o Options) (*Table, plan.Diagnostics, error) {
 	if p == nil {
 		return nil, nil, fmt.Errorf("reading data: no plan")
 	}
-	path := dataPath
-	if path == "" {
-		if p.Data.File == "" {
-			return nil, nil, fmt.Errorf("reading data: the plan names no data file and none was given")
-		}
-		path = p.Data.File
-		if !filepath.IsAbs(path) {
-			path = filepath.Join(filepath.Dir(p.Path), filepath.FromSlash(path))
-		}
-	}
-	path = filepath.Clean(path)
-	name := filepath.ToSlash(path)
-	data, err := os.ReadFile(path)
+	path, err := resolveDataPath(p, dataPath, o)
 	if err != nil {
+		return nil, nil, err
+	}
+	name := filepath.ToSlash(path)
+	data, err := plan.ReadFile(path, o.maxSize())
+	var big *plan.TooLargeError
+	switch {
+	case errors.As(err, &big):
+		return nil, nil, &SizeError{Path: name, Size: big.Size, Limit: big.Limit}
+	case errors.Is(err, fs.ErrNotExist) || errors.Is(err, fs.ErrPermission):
 		return nil, nil, fmt.Errorf("reading data: %w", err)
+	case err != nil:
+		return nil, nil, fmt.Errorf("reading data %s: %w", name, err)
 	}
 	if len(data) == 0 {
 		return nil, nil, fmt.Errorf("reading data %s: the file is empty", name)
@@ -356,6 +365,7 @@ func ReadTable(p *plan.Plan, dataPath string) (*Table, plan.Diagnostics, error) 
 	if err != nil {
 		return nil, nil, fmt.Errorf("reading data %s: %w", name, err)
 	}
+	opts.maxSize = o.maxSize()
 	sum := sha256.Sum256(data)
 	fileHash := "sha256:" + hex.EncodeToString(sum[:])
 	var (
@@ -393,6 +403,7 @@ type readOptions struct {
 	names   map[string]bool     // every declared column
 	sheet   string
 	dataPos plan.Pos
+	maxSize int64 // Options.MaxSize (what an XLSX workbook may unpack to)
 }
 
 func newReadOptions(p *plan.Plan) (*readOptions, error) {
@@ -446,145 +457,6 @@ func (o *readOptions) isMissing(s string) bool {
 	return false
 }
 
-// tableBuilder collects rows for either reader.
-type tableBuilder struct {
-	t    *Table
-	opts *readOptions
-	// width is the number of header cells, including any dropped blank ones.
-	width int
-	// keep maps header cell index to table column (-1 when dropped).
-	keep []int
-	// spaced lists, per table column with a factor role, each distinct
-	// untrimmed level text in order of first occurrence; spacedAt finds
-	// its entry.
-	spaced   map[int][]*spacedText
-	spacedAt map[int]map[string]*spacedText
-}
-
-// spacedText is one distinct level text that had white space trimmed.
-type spacedText struct {
-	raw   string
-	row   int // table row of the first occurrence
-	count int
-}
-
-// newTableBuilder makes the columns from the header cells. Blank header
-// cells are kept until the end (they are dropped when their column is blank
-// throughout, else reported).
-// sizeHint is the expected number of rows (it only sets capacities).
-func newTableBuilder(name, format, sheet string, headerRow int, header []string, o *readOptions, sizeHint int) (*tableBuilder, plan.Diagnostics) {
-	t := &Table{Path: name, Format: format, Sheet: sheet, HeaderRow: headerRow, index: map[string]int{},
-		rows: make([]int, 0, sizeHint)}
-	b := &tableBuilder{t: t, opts: o, width: len(header)}
-	var diags plan.Diagnostics
-	for i, h := range header {
-		h = trimCell(strings.TrimPrefix(h, "\uFEFF"))
-		col := &Column{Name: h, Index: i + 1, Numeric: o.numeric[h],
-			Text: make([]string, 0, sizeHint), Num: make([]float64, 0, sizeHint), Missing: make([]bool, 0, sizeHint)}
-		if h != "" {
-			if j, dup := t.index[h]; dup {
-				diags = append(diags, plan.Diagnostic{
-					Severity: plan.Error, Code: "data-header-repeated",
-					Pos:     t.HeaderPos(i + 1),
-					Summary: fmt.Sprintf("column name %q appears again (first as column %d); only the first is used", h, t.cols[j].Index),
-				})
-				b.keep = append(b.keep, -1)
-				continue
-			}
-			t.index[h] = len(t.cols)
-		}
-		b.keep = append(b.keep, len(t.cols))
-		t.cols = append(t.cols, col)
-	}
-	return b, diags
-}
-
-// add appends one data row. native marks cells that are numbers in the
-// file itself (XLSX number cells), parsed with "." whatever the plan's
-// decimal mark; it may be nil. Extra cells beyond the header are ignored
-// here (the readers report them).
-func (b *tableBuilder) add(row int, cells []string, native []bool) {
-	b.t.rows = append(b.t.rows, row)
-	for i, k := range b.keep {
-		if k < 0 {
-			continue
-		}
-		c := b.t.cols[k]
-		var s string
-		if i < len(cells) {
-			s = trimCell(cells[i])
-		}
-		miss := b.opts.isMissing(s)
-		v := math.NaN()
-		if !miss {
-			dec := b.opts.decimal
-			if native != nil && i < len(native) && native[i] {
-				dec = '.'
-			}
-			if x, ok := ParseNumber(s, dec); ok {
-				v = x
-			}
-		}
-		if !miss && i < len(cells) && s != cells[i] && b.isFactor(c.Name) {
-			b.noteSpaced(k, cells[i])
-		}
-		c.Text = append(c.Text, s)
-		c.Num = append(c.Num, v)
-		c.Missing = append(c.Missing, miss)
-	}
-}
-
-// isFactor reports whether the plan gives the named column a factor role.
-func (b *tableBuilder) isFactor(name string) bool {
-	_, ok := b.opts.factor[name]
-	return ok
-}
-
-// noteSpaced counts a level text of table column k that had white space
-// trimmed; the current row is the last one added.
-func (b *tableBuilder) noteSpaced(k int, raw string) {
-	if b.spacedAt == nil {
-		b.spaced, b.spacedAt = map[int][]*spacedText{}, map[int]map[string]*spacedText{}
-	}
-	if b.spacedAt[k] == nil {
-		b.spacedAt[k] = map[string]*spacedText{}
-	}
-	st := b.spacedAt[k][raw]
-	if st == nil {
-		st = &spacedText{raw: raw, row: len(b.t.rows) - 1}
-		b.spacedAt[k][raw] = st
-		b.spaced[k] = append(b.spaced[k], st)
-	}
-	st.count++
-}
-
-// spacedWarnings reports each distinct level text that had white space
-// trimmed, once, at its first cell, with its count.
-func (b *tableBuilder) spacedWarnings() plan.Diagnostics {
-	var diags plan.Diagnostics
-	lim := NewLimiter()
-	t := b.t
-	for k, c := range t.cols {
-		for _, st := range b.spaced[k] {
-			trimmed := trimCell(st.raw)
-			at, where := "", fmt.Sprintf("%d cells, first at row %d", st.count, t.rows[st.row])
-			if st.count == 1 {
-				where = fmt.Sprintf("1 cell, row %d", t.rows[st.row])
-			}
-			if t.Format == FormatXLSX {
-				at = "cell " + CellRef(t.rows[st.row], c.Index) + ": "
-			}
-			lim.Add(&diags, "data-level-space", c.Name, plan.Diagnostic{
-				Severity: plan.Warning, Code: "data-level-space",
-				Pos: t.Pos(st.row, c.Index), Related: RelatedPos(b.opts.factor[c.Name]),
-				Summary: fmt.Sprintf("%scolumn %q: level %q has %s (%s); it is read as %q",
-					at, c.Name, st.raw, spaceWords(st.raw), where, trimmed),
-			})
-		}
-	}
-	return append(diags, lim.Summaries()...)
-}
-
 // spaceWords says what white space surrounds s: "a trailing space",
 // "2 leading spaces", "leading white space" (when it is not all spaces:
 // tabs, no-break spaces), or both ends joined by "and".
@@ -610,59 +482,34 @@ func spaceWords(s string) string {
 	return end(trail, "trailing")
 }
 
-// blank reports whether every cell of a row is blank.
-func blankRow(cells []string) bool {
-	for _, s := range cells {
-		if trimCell(s) != "" {
-			return false
-		}
-	}
-	return true
-}
-
-// finish drops blank-named columns that hold no value and reports those
-// that do, and reports level texts that had white space trimmed.
-func (b *tableBuilder) finish() (*Table, plan.Diagnostics) {
-	t := b.t
-	diags := b.spacedWarnings() // indexed by t.cols before blank ones drop
-	kept := t.cols[:0:0]
-	for _, c := range t.cols {
-		if c.Name != "" {
-			kept = append(kept, c)
-			continue
-		}
-		for i, s := range c.Text {
-			if s != "" {
-				diags = append(diags, plan.Diagnostic{
-					Severity: plan.Error, Code: "data-header-blank",
-					Pos:     t.HeaderPos(c.Index),
-					Summary: fmt.Sprintf("column %d has no name in the header but holds values (first %q at row %d)", c.Index, s, t.rows[i]),
-				})
-				break
-			}
-		}
-	}
-	t.cols = kept
-	t.index = make(map[string]int, len(kept))
-	for i, c := range kept {
-		if _, dup := t.index[c.Name]; !dup {
-			t.index[c.Name] = i
-		}
-	}
-	return t, diags
-}
-
 // ParseNumber parses a trimmed cell as a decimal number with the given
 // decimal mark: an optional sign, digits with at most one decimal mark, and
 // an optional exponent. Thousands separators, hexadecimal, "inf" and "nan"
-// are not numbers here.
+// are not numbers here, and neither is a number beyond the range of a
+// double (see Overflows).
 func ParseNumber(s string, dec byte) (float64, bool) {
+	v, grammar, finite := number(s, dec)
+	return v, grammar && finite
+}
+
+// Overflows reports whether a trimmed cell is written as a number (the
+// grammar of ParseNumber) whose magnitude is beyond the largest double,
+// about 1.8e308, as 1e309 is: ParseNumber refuses it, and a message says
+// why.
+func Overflows(s string, dec byte) bool {
+	_, grammar, finite := number(s, dec)
+	return grammar && !finite
+}
+
+// number parses s as ParseNumber does; grammar says whether it is written
+// as a number, finite whether its value is within the range of a double.
+func number(s string, dec byte) (v float64, grammar, finite bool) {
 	n := len(s)
 	if n == 0 || n > 64 {
 		if n > 64 {
 			return parseLongNumber(s, dec)
 		}
-		return 0, false
+		return 0, false, false
 	}
 	var buf [64]byte
 	i := 0
@@ -686,11 +533,11 @@ func ParseNumber(s string, dec byte) (float64, bool) {
 		break
 	}
 	if digits == 0 || marks > 1 {
-		return 0, false
+		return 0, false, false
 	}
 	if i < n {
 		if s[i] != 'e' && s[i] != 'E' {
-			return 0, false
+			return 0, false, false
 		}
 		buf[i] = 'e'
 		i++
@@ -704,10 +551,11 @@ func ParseNumber(s string, dec byte) (float64, bool) {
 			ed++
 		}
 		if ed == 0 || i < n {
-			return 0, false
+			return 0, false, false
 		}
 	}
-	return finiteFloat(string(buf[:n]))
+	v, finite = finiteFloat(string(buf[:n]))
+	return v, true, finite
 }
 
 // finiteFloat parses a validated number; overflow is not a number,
@@ -721,10 +569,10 @@ func finiteFloat(s string) (float64, bool) {
 }
 
 // parseLongNumber handles cells longer than ParseNumber's buffer.
-func parseLongNumber(s string, dec byte) (float64, bool) {
+func parseLongNumber(s string, dec byte) (v float64, grammar, finite bool) {
 	if dec == ',' {
 		if strings.ContainsRune(s, '.') {
-			return 0, false
+			return 0, false, false
 		}
 		s = strings.Replace(s, ",", ".", 1)
 	}
@@ -741,12 +589,13 @@ func parseLongNumber(s string, dec byte) (float64, bool) {
 		short.WriteByte(s[i])
 	}
 	if short.Len() > 64 {
-		return 0, false
+		return 0, false, false
 	}
 	if _, ok := ParseNumber(short.String(), '.'); !ok {
-		return 0, false
+		return 0, false, false
 	}
-	return finiteFloat(s)
+	v, finite = finiteFloat(s)
+	return v, true, finite
 }
 
 // FromCells builds a table as if read from a CSV file called name whose
@@ -763,7 +612,7 @@ func FromCells(p *plan.Plan, name string, header []string, cells [][]string, nat
 	}
 	b, _ := newTableBuilder(name, FormatCSV, "", 1, header, o, len(cells))
 	for i, row := range cells {
-		b.add(i+2, row, native)
+		_ = b.add(i+2, nil, row, native) // no budget: the cells are in memory already
 	}
 	t, _ := b.finish()
 	return t

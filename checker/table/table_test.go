@@ -206,6 +206,16 @@ func TestParseNumber(t *testing.T) {
 			t.Errorf("ParseNumber(%q, %q) = %v, %v, want %v", c.in, c.dec, got, ok, c.want)
 		}
 	}
+	// Overflows tells a number beyond a double from text that is none.
+	for in, want := range map[string]bool{"1e400": true, "-1e309": true, "1" + strings.Repeat("0", 400): true, "2e308": true,
+		"1e308": false, "1e-400": false, "inf": false, "1e4oo": false, "12abc": false, "": false} {
+		if got := Overflows(in, '.'); got != want {
+			t.Errorf("Overflows(%.20q) = %v, want %v", in, got, want)
+		}
+	}
+	if !Overflows("1,5e999", ',') || Overflows("1,5e999", '.') {
+		t.Error("Overflows does not follow the decimal mark")
+	}
 }
 
 func TestReadLevelSpaces(t *testing.T) {

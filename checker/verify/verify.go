@@ -18,6 +18,7 @@ import (
 
 	"furrow/checker/engine"
 	"furrow/checker/record"
+	"furrow/checker/table"
 )
 
 // DeviationCode is a stable code of a kind of deviation found by Verify.
@@ -95,6 +96,9 @@ type VerifyOptions struct {
 	Tool record.ToolInfo
 	// RelTol is the relative tolerance for re-computed numbers (0 = DefaultRelTol).
 	RelTol float64
+	// MaxDataSize is the largest data file read, in bytes (0 =
+	// table.DefaultMaxSize).
+	MaxDataSize int64
 }
 
 // MissingInputError is returned by Verify when the plan or the data file
@@ -284,12 +288,12 @@ func check(opt VerifyOptions) (*VerifyReport, error) {
 	} else if err != nil {
 		return nil, fmt.Errorf("reading plan: %w", err)
 	}
-	dataRaw, err := os.ReadFile(dataPath)
+	dataRaw, err := readData(dataPath, opt.MaxDataSize)
 	if errors.Is(err, fs.ErrNotExist) {
 		missing.Data = filepath.ToSlash(filepath.Clean(dataPath))
 		return nil, missing
 	} else if err != nil {
-		return nil, fmt.Errorf("reading data: %w", err)
+		return nil, err
 	}
 	if got := record.SHA256Hex(dataRaw); got != rec.Inputs.DataFileSHA256 {
 		add(DevDataChanged, "inputs.data_file_sha256", rec.Inputs.DataFileSHA256, got, "the data file differs from the one analysed")
@@ -308,7 +312,7 @@ func check(opt VerifyOptions) (*VerifyReport, error) {
 	}
 	// 4. Re-run and compare.
 	now, err := engine.Run(engine.RunOptions{PlanPath: planPath, DataPath: dataPath, OutDir: dir, Tool: rec.Tool,
-		Unregistered: true, Now: time.Time{}})
+		Unregistered: true, Now: time.Time{}, Data: table.Options{MaxSize: opt.MaxDataSize}})
 	if err != nil {
 		add(DevResultsDiffer, "", "", "", "the analysis could not be re-run: "+err.Error())
 		return rep, nil

@@ -7,7 +7,7 @@ import (
 	"furrow/checker"
 )
 
-const checkUsage = `usage: furrow check [--json] [--summary] PLAN [DATA]
+const checkUsage = `usage: furrow check [--json] [--summary] [--max-data-size SIZE] [--allow-outside-data] PLAN [DATA]
 
 Checks the data against the plan: first the plan itself (as "furrow lint"
 does), then the data file the plan names (data.file, relative to the plan's
@@ -27,9 +27,15 @@ When there are errors, the findings are followed by a summary of the
 design as seen in the data (units per cell, missing values per column).
 When there is no error, check prints a single line (after any warnings).
 
+The plan's data.file must lie in the plan's folder (after symbolic
+links); only regular files are read (not pipes or devices), up to the
+size limit.
+
 Flags:
-  --json      print the result as one JSON object instead of text
-  --summary   print the design summary even when there is no error
+  --json           print the result as one JSON object instead of text
+  --summary        print the design summary even when there is no error
+` + maxDataSizeHelp + `
+` + allowOutsideDataHelp + `
 
 Examples:
   furrow check examples/soil-nematodes/plan.yaml
@@ -48,6 +54,7 @@ func runCheck(e *env, c *command, args []string) int {
 	fs := newFlags(c)
 	asJSON := fs.Bool(flagJSON, false, "")
 	withSummary := fs.Bool(flagSummary, false, "")
+	df := addDataFlags(fs, true)
 	pos, ok, code := parse(e, c, fs, args, 1, 2)
 	if !ok {
 		return code
@@ -67,7 +74,7 @@ func runCheck(e *env, c *command, args []string) int {
 	var sum *checker.DesignSummary
 	planErrs := ds.HasErrors()
 	if !planErrs {
-		t, dds, err := checker.ReadTable(p, dataPath)
+		t, dds, err := checker.ReadTableWith(p, dataPath, df.options())
 		if err != nil {
 			return fail(e, c, err)
 		}

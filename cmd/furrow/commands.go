@@ -220,7 +220,7 @@ func usageError(e *env, c *command, msg string) int {
 // fail prints an error that stops the command (an unreadable input) and
 // returns the usage/input exit code.
 func fail(e *env, c *command, err error) int {
-	fmt.Fprintf(e.stderr, "furrow %s: %v\n", c.name, err)
+	fmt.Fprintf(e.stderr, "furrow %s: %v\n", c.name, hint(err))
 	return exitUsage
 }
 

@@ -1,6 +1,7 @@
 package main
 
 import (
+	"cmp"
 	"crypto/ed25519"
 	"errors"
 	"fmt"
@@ -9,7 +10,7 @@ import (
 	"furrow/checker"
 )
 
-const runUsage = `usage: furrow run --out DIR [--unregistered] [--replace] [--sign KEY] PLAN [DATA]
+const runUsage = `usage: furrow run --out DIR [--unregistered] [--replace] [--sign KEY] [--max-data-size SIZE] [--allow-outside-data] PLAN [DATA]
 
 Runs the registered plan on the final data (the plan's data.file, or DATA)
 and writes the run folder DIR: the audit record DIR/audit.json with inputs with their hashes, every
@@ -40,6 +41,8 @@ Flags:
   --replace        replace the run folder DIR, whole, if it exists
   --sign KEY       sign the record with this private key (see "furrow keygen");
                    a key file that its group or others may read is refused
+` + maxDataSizeHelp + `
+` + allowOutsideDataHelp + `
 
 Examples:
   furrow run --out run1 examples/soil-nematodes/plan.yaml
@@ -59,6 +62,7 @@ func runRun(e *env, c *command, args []string) int {
 	unreg := fs.Bool("unregistered", false, "")
 	replace := fs.Bool("replace", false, "")
 	sign := fs.String("sign", "", "")
+	df := addDataFlags(fs, true)
 	pos, ok, code := parse(e, c, fs, args, 1, 2)
 	if !ok {
 		return code
@@ -81,7 +85,8 @@ func runRun(e *env, c *command, args []string) int {
 		dataPath = pos[1]
 	}
 	res, err := checker.Run(checker.RunOptions{PlanPath: pos[0], DataPath: dataPath, OutDir: *out, Now: e.runClock(),
-		Tool: checker.ToolInfo{Name: "furrow", Version: toolVersion(), Build: buildInfo()}, Unregistered: *unreg})
+		Tool: checker.ToolInfo{Name: "furrow", Version: toolVersion(), Build: buildInfo()}, Unregistered: *unreg,
+		Data: df.options()})
 	var de *checker.DataError
 	var pe *checker.PlanError
 	switch {
@@ -103,7 +108,19 @@ func runRun(e *env, c *command, args []string) int {
 		return failRunDir(e, c, err)
 	}
 	for _, ep := range res.Endpoints {
-		fmt.Fprintf(e.stdout, "%s: %s (step %s)\n", ep.ID, ep.Status, ep.Reported)
+		line := fmt.Sprintf("%s: %s (step %s)", ep.ID, ep.Status, ep.Reported)
+		if ep.Reported == "" {
+			// Nothing is reported (failed, stopped): say at which step the
+			// cascade ended, and why.
+			line = fmt.Sprintf("%s: %s", ep.ID, ep.Status)
+			for i := len(ep.Steps) - 1; i >= 0; i-- {
+				if s := ep.Steps[i]; s.Executed {
+					line += fmt.Sprintf(" at step %s: %s", s.ID, cmp.Or(s.Error, s.Decision.Detail))
+					break
+				}
+			}
+		}
+		fmt.Fprintln(e.stdout, line)
 	}
 	e.writeLostUnits(res)
 	if res.Unregistered {

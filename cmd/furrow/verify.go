@@ -12,7 +12,7 @@ import (
 	"furrow/checker"
 )
 
-const verifyUsage = `usage: furrow verify [--json] [--key PUB] [--plan PLAN] [--data DATA] DIR
+const verifyUsage = `usage: furrow verify [--json] [--key PUB] [--plan PLAN] [--data DATA] [--max-data-size SIZE] DIR
 
 Confirms a run: checks the record's integrity hash (and its signature,
 which must be by PUB when --key is given), every file of the run folder
@@ -48,6 +48,11 @@ Flags:
   --key PUB     require a signature by this public key
   --plan PLAN   the plan file, when it is not where the record puts it
   --data DATA   the data file, when it is not where the record puts it
+  --max-data-size SIZE
+                largest data file read, and for a workbook the most
+                unpacked from it: bytes, or a number with kB, MB, GB
+                (powers of 1000) or KiB, MiB, GiB (powers of 1024);
+                default 2GiB
 
 ` + verifyExitCodes
 
@@ -75,6 +80,7 @@ func runVerify(e *env, c *command, args []string) int {
 	keyPath := fs.String("key", "", "")
 	planPath := fs.String("plan", "", "")
 	dataPath := fs.String("data", "", "")
+	df := addDataFlags(fs, false)
 	pos, ok, code := parse(e, c, fs, args, 1, 1)
 	if !ok {
 		return code
@@ -90,7 +96,7 @@ func runVerify(e *env, c *command, args []string) int {
 		}
 	}
 	rep, err := checker.Verify(checker.VerifyOptions{Dir: pos[0], PlanPath: *planPath, DataPath: *dataPath, PublicKey: pub,
-		Tool: checker.ToolInfo{Name: "furrow", Version: toolVersion(), Build: buildInfo()}})
+		Tool: checker.ToolInfo{Name: "furrow", Version: toolVersion(), Build: buildInfo()}, MaxDataSize: df.options().MaxSize})
 	var missing *checker.MissingInputError
 	if errors.As(err, &missing) {
 		fmt.Fprintf(e.stderr, "furrow verify: %s\n", missingText(e, missing, *planPath, *dataPath))
