@@ -5,6 +5,19 @@
 // It takes a response, a full-rank model matrix and grouping factors; it
 // knows nothing of plans.
 //
+// # Centring and scaling
+//
+// As in stats/lm, the fit works on the fixed-effect columns centred by
+// their weighted means (the columns after a constant column, and the
+// response, when there is one) and scaled to unit weighted norm, so a
+// covariate with a large offset or in very small or large units costs no
+// digits and the rank decision is relative to each column's own norm.
+// Coefficients, their covariance, SEs, df, tests and contrasts are
+// reported for the columns as given: b = M g for the coefficients g of the
+// scaled columns X M, and l'b, L b are tested as (M'l)'g, (L M) g. Only
+// the REML criterion depends on the parametrisation of X (through
+// log|X'V^{-1}X|), and is reported for X as given.
+//
 // # Model and criterion
 //
 // y = X b + sum_k Z_k u_k + e, u_k ~ N(0, sigma^2 theta_k^2 I),

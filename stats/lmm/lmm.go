@@ -139,8 +139,13 @@ type Result struct {
 	// MarginalResid are y - X b.
 	MarginalResid []float64
 
+	// beta and cov are the coefficients of the caller's X and their
+	// covariance; gamma and covS those of the centred, scaled columns the
+	// fit works in (sys.cm), which every test and df is computed from.
 	beta  []float64
 	cov   *mat.SymDense
+	gamma []float64
+	covS  *mat.SymDense
 	level float64
 	names []string
 
@@ -154,8 +159,12 @@ type Result struct {
 }
 
 // Fit fits y = X b + sum_k Z_k u_k + e with independent random intercepts
-// for each grouping, by REML (default) or ML. X must have full column rank.
-// Inputs are not modified.
+// for each grouping, by REML (default) or ML. X must have full column rank:
+// a column is rank deficient when the part of it not explained by the
+// columns before it has at most 1e-10 of its own centred norm, whatever
+// its units. The fit works on centred, scaled columns (see colMap) and
+// reports everything for the columns of X as given. Inputs are not
+// modified.
 func Fit(y []float64, X mat.Matrix, groups []Grouping, opt *Options) (*Result, error) {
 	if opt == nil {
 		opt = &Options{}
@@ -212,7 +221,7 @@ func Fit(y []float64, X mat.Matrix, groups []Grouping, opt *Options) (*Result, e
 	}
 	r.Status, r.Iterations, r.Evaluations = status, iters, evals
 	r.fillFitted(y, X, groups)
-	sat, err := sys.satterthwaiteAnalytic(theta, r.Sigma, crit, r.cov)
+	sat, err := sys.satterthwaiteAnalytic(theta, r.Sigma, crit, r.covS)
 	if err != nil {
 		sat, err = sys.satterthwaite(theta, r.Sigma, crit)
 	}
@@ -223,8 +232,11 @@ func Fit(y []float64, X mat.Matrix, groups []Grouping, opt *Options) (*Result, e
 	for j := range r.Coef {
 		l := make([]float64, sys.p)
 		l[j] = 1
-		c := r.Coef[j]
-		c.DF = sat.df(l, r.cov)
+		c, err := r.Contrast(l, Satterthwaite)
+		if err != nil {
+			return nil, fmt.Errorf("fitting mixed model: coefficient %d: %w", j, err)
+		}
+		c.Estimate = r.beta[j]
 		r.Coef[j] = fillT(c, level)
 	}
 	return r, nil
@@ -595,21 +607,19 @@ func (s *system) finish(theta []float64, crit Criterion, groups []Grouping, leve
 	}
 	sigma2 := e.r2 / df
 	sigma := math.Sqrt(sigma2)
-	beta := betaFrom(e, p)
-	cov := covBeta(e, p, sigma2)
-	if cov == nil {
+	gamma := betaFrom(e, p)
+	covS := covBeta(e, p, sigma2)
+	if covS == nil {
 		return nil, fmt.Errorf("%w: singular fixed-effect covariance", ErrAliased)
 	}
-	r := &Result{Criterion: crit, N: n, P: p, Sigma: sigma, Objective: obj, beta: beta, cov: cov,
-		level: level, sys: s, theta: theta}
+	beta := s.cm.coef(gamma)
+	r := &Result{Criterion: crit, N: n, P: p, Sigma: sigma, Objective: obj, beta: beta, cov: s.cm.cov(covS),
+		gamma: gamma, covS: covS, level: level, sys: s, theta: theta}
 	r.LogLik = -obj / 2
 	npar := float64(p + s.nf + 1)
 	r.AIC = obj + 2*npar
 	r.BIC = obj + math.Log(float64(n))*npar
 	r.Coef = make([]Coef, p)
-	for j := range r.Coef {
-		r.Coef[j] = Coef{Estimate: beta[j], SE: math.Sqrt(cov.At(j, j))}
-	}
 	// Components, caller order.
 	r.Components = make([]Component, len(groups)+1)
 	total := sigma2
@@ -626,7 +636,7 @@ func (s *system) finish(theta []float64, crit Criterion, groups []Grouping, leve
 	}
 	r.Components[len(groups)] = Component{Name: "residual", Variance: sigma2, SD: sigma, Share: sigma2 / total}
 	// BLUPs by back-substitution.
-	u, err := s.backsolve(theta, beta, wk)
+	u, err := s.backsolve(theta, gamma, wk)
 	if err != nil {
 		return nil, err
 	}
@@ -717,15 +727,18 @@ func (s *system) backsolve(theta, beta []float64, wk *work) ([][]float64, error)
 	return u, nil
 }
 
-// fillFitted computes fitted values and both kinds of residuals.
+// fillFitted computes fitted values and both kinds of residuals, from the
+// centred, scaled columns (a large offset of a covariate would otherwise
+// cancel between its term and the intercept).
 func (r *Result) fillFitted(y []float64, X mat.Matrix, groups []Grouping) {
 	row := make([]float64, r.P)
-	getRow := rowGetter(X)
+	cm := r.sys.cm
+	getRow := cm.rowGetter(X)
 	for i := range y {
 		getRow(i, row)
-		var xb float64
+		xb := cm.ybar
 		for j, v := range row {
-			xb += v * r.beta[j]
+			xb += v * r.gamma[j]
 		}
 		zu := 0.0
 		for k, g := range groups {
