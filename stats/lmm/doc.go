@@ -52,7 +52,11 @@
 // of a difference Hessian of the gradient, Levenberg shift, Armijo
 // backtracking, a step limit away from zero and a probe at zero for
 // boundary fits); the derivative-free Newton search on differences of the
-// criterion remains as fallback. Fits typically need 7-50 evaluations.
+// criterion remains as fallback. Both start from moment estimates of the
+// variance components (Henderson's 1953 Method 1 on the least-squares
+// residuals, from the per-level sums and cross counts), which for balanced
+// data are the REML estimates themselves. Fits typically need 7-50
+// evaluations.
 //
 // # Inference
 //

@@ -186,6 +186,10 @@ func Fit(y []float64, X mat.Matrix, groups []Grouping, opt *Options) (*Result, e
 		return nil, fmt.Errorf("fitting mixed model: %w", ErrNoResidual)
 	}
 	crit := opt.Criterion
+	maxIter := opt.MaxIter
+	if maxIter <= 0 {
+		maxIter = 500
+	}
 	obj := func(th []float64) float64 {
 		e, err := sys.eval(th, nil)
 		if err != nil {
@@ -193,19 +197,17 @@ func Fit(y []float64, X mat.Matrix, groups []Grouping, opt *Options) (*Result, e
 		}
 		return sys.profiled(e, crit)
 	}
-	maxIter := opt.MaxIter
-	if maxIter <= 0 {
-		maxIter = 500
-	}
-	// Quasi-Newton on the analytic gradient; the derivative-free Newton
-	// search on differences of the criterion is the fallback.
-	theta, status, iters, evals, err := sys.minimizeAnalytic(crit, maxIter)
+	// Quasi-Newton on the analytic gradient from moment estimates of the
+	// variance components; the derivative-free Newton search on
+	// differences of the criterion, from the same start, is the fallback.
+	x0 := sys.startTheta()
+	theta, status, iters, evals, err := sys.minimizeAnalytic(crit, x0, maxIter)
 	if err != nil || status != optimize.Success {
 		var ev0 int
 		if err == nil {
 			ev0 = evals
 		}
-		theta, status, iters, evals, err = minimize(obj, sys.nf, maxIter)
+		theta, status, iters, evals, err = minimize(obj, x0, maxIter)
 		evals += ev0
 	}
 	if err != nil {
@@ -326,8 +328,10 @@ func (s *system) deviance(e evalOut, sigma float64, crit Criterion) float64 {
 // A damped Newton search on central-difference derivatives (gonum's BFGS
 // as fallback) is followed by Newton steps on a Richardson-extrapolated
 // gradient. The status is Success when the final gradient is at the noise
-// floor of the criterion, IterationLimit or Failure otherwise.
-func minimize(f func([]float64) float64, k, maxIter int) ([]float64, optimize.Status, int, int, error) {
+// floor of the criterion, IterationLimit or Failure otherwise. The search
+// starts at x0.
+func minimize(f func([]float64) float64, x0 []float64, maxIter int) ([]float64, optimize.Status, int, int, error) {
+	k := len(x0)
 	evals := 0
 	fc := func(x []float64) float64 { evals++; return f(x) }
 	grad := func(g, x []float64) {
@@ -341,10 +345,6 @@ func minimize(f func([]float64) float64, k, maxIter int) ([]float64, optimize.St
 			fm := fc(xx)
 			g[i] = (fp - fm) / (2 * h)
 		}
-	}
-	x0 := make([]float64, k)
-	for i := range x0 {
-		x0[i] = 1
 	}
 	if math.IsInf(fc(x0), 1) {
 		return nil, 0, 0, evals, errors.New("criterion is not finite at the starting values")
