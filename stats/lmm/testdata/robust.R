@@ -139,8 +139,12 @@ mapped <- function(form, dat, offset, scale, xcol, REML, lrow = NULL) {
     out$anova3 <- lapply(seq_len(nrow(a3)), function(i) list(term = rownames(a3)[i],
       F = a3[i, "F value"], NumDF = a3[i, "NumDF"], DenDF = a3[i, "DenDF"], p = a3[i, "Pr(>F)"]))
     if (!is.null(lrow)) {
-      ## a marginal mean: l'b in the parametrisation of x is (A'l)'g.
-      r <- contest(f, L = as.vector(t(A) %*% lrow), joint = FALSE, ddf = "Satterthwaite")
+      ## a marginal mean: l'b in the parametrisation of x is (A'l)'g, whose
+      ## x entry (l_x - offset l_1)/scale is formed as written (the product
+      ## t(A) %*% l would cancel two terms of size offset/scale).
+      lb <- lrow
+      lb[xcol] <- (lrow[xcol] - offset * lrow[1]) / scale
+      r <- contest(f, L = lb, joint = FALSE, ddf = "Satterthwaite")
       out$emm <- list(l = vec(lrow), estimate = r$Estimate, se = r[["Std. Error"]], df = r$df)
     }
   }
