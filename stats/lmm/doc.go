@@ -55,8 +55,22 @@
 // criterion remains as fallback. Both start from moment estimates of the
 // variance components (Henderson's 1953 Method 1 on the least-squares
 // residuals, from the per-level sums and cross counts), which for balanced
-// data are the REML estimates themselves. Fits typically need 7-50
-// evaluations.
+// data are the REML estimates themselves.
+//
+// The result of a search is verified before it is reported as converged
+// (optimum.go): off the boundary the Newton decrement g'H^{-1}g/2, with a
+// fresh difference Hessian of the analytic gradient, must be below 1e-9
+// (criterion units) with H positive definite, and Newton steps polish the
+// point until it is; at a variance at zero the criterion is even in theta,
+// so its first derivative is zero whatever the data, and the check is on
+// tau = theta^2: the derivative into the feasible region and the curvature
+// there must not let the criterion fall by more than 1e-9. A saddle, at
+// the boundary or off it (negative curvature), restarts the search from a
+// perturbed point, at most three times, and the derivative-free search is
+// the last resort. Status is Success only for a verified minimum, else
+// Failure or IterationLimit (never a gonum status such as
+// FunctionConvergence that a caller could take for convergence). Fits
+// typically need 7-50 evaluations, the check included.
 //
 // # Inference
 //

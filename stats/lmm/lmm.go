@@ -126,8 +126,12 @@ type Result struct {
 	LogLik, AIC, BIC float64
 	// Boundary is true when any variance component is at zero.
 	Boundary bool
-	// Status is the optimiser's termination status; Iterations and
-	// Evaluations count its major iterations and criterion evaluations.
+	// Status is Success when the optimum was verified (Newton decrement
+	// below 1e-9 with a positive definite Hessian off the boundary, and
+	// every variance at zero a minimum in the direction into the feasible
+	// region), else IterationLimit or Failure, and the fit must then not be
+	// used as converged. Iterations and Evaluations count the major
+	// iterations and criterion evaluations of all searches and checks.
 	Status                  optimize.Status
 	Iterations, Evaluations int
 	// BLUPs are the predicted random effects per grouping (caller's order), per level.
@@ -190,26 +194,11 @@ func Fit(y []float64, X mat.Matrix, groups []Grouping, opt *Options) (*Result, e
 	if maxIter <= 0 {
 		maxIter = 500
 	}
-	obj := func(th []float64) float64 {
-		e, err := sys.eval(th, nil)
-		if err != nil {
-			return math.Inf(1)
-		}
-		return sys.profiled(e, crit)
-	}
-	// Quasi-Newton on the analytic gradient from moment estimates of the
-	// variance components; the derivative-free Newton search on
-	// differences of the criterion, from the same start, is the fallback.
-	x0 := sys.startTheta()
-	theta, status, iters, evals, err := sys.minimizeAnalytic(crit, x0, maxIter)
-	if err != nil || status != optimize.Success {
-		var ev0 int
-		if err == nil {
-			ev0 = evals
-		}
-		theta, status, iters, evals, err = minimize(obj, x0, maxIter)
-		evals += ev0
-	}
+	// Quasi-Newton on the analytic gradient from moment estimates, the
+	// optimum verified (second-order conditions, boundary included); the
+	// derivative-free Newton search on differences of the criterion is the
+	// fallback.
+	theta, status, iters, evals, err := sys.fitTheta(crit, maxIter)
 	if err != nil {
 		return nil, fmt.Errorf("fitting mixed model: %w", err)
 	}
