@@ -24,7 +24,9 @@ import (
 // for the coefficients g of Xs; l'b = (M'l)'g + l_ic ybar/kappa and
 // Cov(b) = M Cov(g) M'. M is upper triangular (only columns after the
 // intercept are centred), so the columns 0..j of Xs span what those of X
-// span and sequential (Type I) hypotheses are the same in both.
+// span and sequential (Type I) hypotheses are the same in both. A column
+// before the intercept is therefore scaled but not centred; the design
+// matrices of stats/design put the intercept first.
 //
 // Any centre gives the same fit, the intercept taking up the difference;
 // centring keeps a large common offset of a covariate out of the
