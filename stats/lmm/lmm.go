@@ -722,12 +722,16 @@ func (s *system) backsolve(theta, beta []float64, wk *work) ([][]float64, error)
 func (r *Result) fillFitted(y []float64, X mat.Matrix, groups []Grouping) {
 	row := make([]float64, r.P)
 	cm := r.sys.cm
-	getRow := cm.rowGetter(X)
+	getRow := cm.centredRows(X)
+	gs := make([]float64, r.P) // coefficients of the centred columns
+	for j := range gs {
+		gs[j] = r.gamma[j] / cm.scale[j]
+	}
 	for i := range y {
 		getRow(i, row)
 		xb := cm.ybar
 		for j, v := range row {
-			xb += v * r.gamma[j]
+			xb += v * gs[j]
 		}
 		zu := 0.0
 		for k, g := range groups {

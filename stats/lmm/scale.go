@@ -47,23 +47,28 @@ type colMap struct {
 	ldScale float64
 }
 
-// newColMap computes the centres and scales of X (rows weighted by wts,
-// nil for unit weights) and y's weighted mean. Means are compensated sums;
-// norms are accumulated scaled by the largest entry, so neither over- nor
-// underflows. A column whose centred values are all zero keeps scale 1 and
-// is found rank deficient later. A non-finite entry of X is an error.
+// newColMap finds the intercept and computes the centres of X (rows
+// weighted by wts, nil for unit weights) and y's weighted mean, in one
+// pass; the scales are set later from the triangular factor of the
+// centred columns (setScales). The means are summed by blocks of rows
+// (any centre gives the same fit; the centre only has to be close to the
+// mean for the centred columns to keep their digits). A non-finite entry
+// of X is an error.
 func newColMap(y []float64, X mat.Matrix, wts []float64) (*colMap, error) {
 	n, p := X.Dims()
 	cm := &colMap{p: p, ic: -1, center: make([]float64, p), scale: make([]float64, p)}
+	for j := range cm.scale {
+		cm.scale[j] = 1
+	}
 	get := rowGetter(X)
 	row := make([]float64, p)
 	first := make([]float64, p)
-	constant := make([]bool, p)
-	for j := range constant {
-		constant[j] = true
-	}
+	differ := make([]uint64, p) // nonzero once a value differs from the first
+	const block = 1024
 	sums := make([]fsum.Sum, p)
+	part := make([]float64, p)
 	var sw, sy fsum.Sum
+	var pw, py float64
 	for i := 0; i < n; i++ {
 		get(i, row)
 		if i == 0 {
@@ -73,20 +78,37 @@ func newColMap(y []float64, X mat.Matrix, wts []float64) (*colMap, error) {
 		if wts != nil {
 			w = wts[i]
 		}
-		sw.Add(w)
-		sy.Add(w * y[i])
+		pw += w
+		py += w * y[i]
 		for j, v := range row {
-			if math.IsNaN(v) || math.IsInf(v, 0) {
-				return nil, fmt.Errorf("model matrix row %d, column %d is not a finite number", i, j)
-			}
-			sums[j].Add(w * v)
-			if v != first[j] {
-				constant[j] = false
+			part[j] += w * v
+			differ[j] |= math.Float64bits(v) ^ math.Float64bits(first[j])
+		}
+		if (i+1)%block == 0 || i == n-1 {
+			sw.Add(pw)
+			sy.Add(py)
+			pw, py = 0, 0
+			for j := range part {
+				sums[j].Add(part[j])
+				part[j] = 0
 			}
 		}
 	}
+	// A non-finite entry makes its column's sum non-finite; only then are
+	// the rows searched for it.
+	for j := range sums {
+		if v := sums[j].Value(); math.IsNaN(v) || math.IsInf(v, 0) {
+			for i := 0; i < n; i++ {
+				get(i, row)
+				if v := row[j]; math.IsNaN(v) || math.IsInf(v, 0) {
+					return nil, fmt.Errorf("model matrix row %d, column %d is not a finite number", i, j)
+				}
+			}
+			return nil, fmt.Errorf("model matrix column %d: the sum of its values overflows (rescale it)", j)
+		}
+	}
 	for j := 0; j < p; j++ {
-		if constant[j] && first[j] != 0 {
+		if differ[j] == 0 && first[j] != 0 {
 			cm.ic, cm.kappa = j, first[j]
 			break
 		}
@@ -98,50 +120,66 @@ func newColMap(y []float64, X mat.Matrix, wts []float64) (*colMap, error) {
 			cm.center[j] = sums[j].Value() / tw
 		}
 	}
-	// Weighted norms of the centred columns, scaled by the running largest
-	// magnitude (the update of LAPACK's dlassq).
-	big := make([]float64, p)
-	ssq := make([]float64, p)
-	for i := 0; i < n; i++ {
-		get(i, row)
-		sw := 1.0
-		if wts != nil {
-			sw = math.Sqrt(wts[i])
+	return cm, nil
+}
+
+// setScales sets s_j to the norm of column j of R, the triangular factor
+// of the weighted centred columns (so the weighted norm of the centred
+// column j), 1 where that is zero or not finite, and divides those
+// columns of R by it. Householder QR is invariant under column scaling up
+// to rounding of the order of its backward error (Higham 2002, Accuracy
+// and Stability of Numerical Algorithms, 2nd ed., sec. 19.3, as stats/lm
+// notes), so scaling R rather than X costs no accuracy.
+func (cm *colMap) setScales(R *mat.Dense) {
+	cm.ldScale = 0
+	for j := 0; j < cm.p; j++ {
+		var ss float64
+		big := 0.0
+		for i := 0; i <= j; i++ {
+			big = math.Max(big, math.Abs(R.At(i, j)))
 		}
-		for j, v := range row {
-			a := math.Abs(sw * (v - cm.center[j]))
-			if a == 0 {
-				continue
-			}
-			if a > big[j] {
-				r := big[j] / a
-				ssq[j] = 1 + ssq[j]*r*r
-				big[j] = a
-			} else {
-				r := a / big[j]
-				ssq[j] += r * r
+		if big > 0 {
+			for i := 0; i <= j; i++ {
+				r := R.At(i, j) / big
+				ss += r * r
 			}
 		}
-	}
-	for j := 0; j < p; j++ {
-		s := big[j] * math.Sqrt(ssq[j])
+		s := big * math.Sqrt(ss)
 		if !(s > 0) || math.IsInf(s, 0) {
 			s = 1
 		}
 		cm.scale[j] = s
 		cm.ldScale += 2 * math.Log(s)
 	}
-	return cm, nil
+	cm.scaleCols(R)
 }
 
-// rowGetter returns a function copying row i of Xs = (X - 1 c') S^{-1}
-// into dst.
-func (cm *colMap) rowGetter(X mat.Matrix) func(i int, dst []float64) {
-	get := rowGetter(X)
+// scaleCols divides the first p columns of R by the scales.
+func (cm *colMap) scaleCols(R *mat.Dense) {
+	r, _ := R.Dims()
+	for j := 0; j < cm.p; j++ {
+		for i := 0; i < r; i++ {
+			R.Set(i, j, R.At(i, j)/cm.scale[j])
+		}
+	}
+}
+
+// centredRows returns a function copying row i of X - 1 c' into dst (the
+// centred columns, not yet scaled); it is safe for concurrent use.
+func (cm *colMap) centredRows(X mat.Matrix) func(i int, dst []float64) {
+	c := cm.center
+	if rv, ok := X.(mat.RawMatrixer); ok {
+		raw := rv.RawMatrix()
+		return func(i int, dst []float64) {
+			src := raw.Data[i*raw.Stride : i*raw.Stride+raw.Cols]
+			for j, v := range src {
+				dst[j] = v - c[j]
+			}
+		}
+	}
 	return func(i int, dst []float64) {
-		get(i, dst)
 		for j := range dst {
-			dst[j] = (dst[j] - cm.center[j]) / cm.scale[j]
+			dst[j] = X.At(i, j) - c[j]
 		}
 	}
 }

@@ -45,34 +45,41 @@ func TestColMapIdentities(t *testing.T) {
 		if cm.ic != ic {
 			t.Fatalf("intercept found in column %d, want %d", cm.ic, ic)
 		}
+		// Any positive scales satisfy the identities; these are unlike 1.
+		for j := range cm.scale {
+			cm.scale[j] = math.Pow(10, float64(3*j-4))
+		}
 		g := make([]float64, p)
 		for j := range g {
 			g[j] = rng.NormFloat64()
 		}
 		b := cm.coef(g)
-		get := cm.rowGetter(X)
+		get := cm.centredRows(X)
 		row := make([]float64, p)
 		for i := 0; i < n; i++ {
 			get(i, row)
 			xs := cm.ybar
 			for j, v := range row {
-				xs += v * g[j]
+				xs += v / cm.scale[j] * g[j]
 			}
-			xb := 0.0
+			xb, mag := 0.0, math.Abs(cm.ybar)
 			for j := 0; j < p; j++ {
 				xb += X.At(i, j) * b[j]
+				mag += math.Abs(X.At(i, j) * b[j])
 			}
-			// X b sums terms of size 1e6 |b_x|: rounding of that size.
-			testkit.CheckWithin(t, fmt.Sprintf("ic %d row %d: X b vs Xs g + ybar", ic, i), xb, xs, 0, 1e-15*1e6*math.Abs(b[p-1])*10)
+			// Rounding of the size of the largest terms summed (X b sums
+			// terms of size 1e6 |b_x| that cancel).
+			testkit.CheckWithin(t, fmt.Sprintf("ic %d row %d: X b vs Xs g + ybar", ic, i), xb, xs, 0, 1e-14*mag)
 		}
 		l := []float64{0.3, -1, 2, 1e6 + 0.25}
 		ls, off := cm.contrast(l)
-		var lb, lg float64
+		var lb, lg, mag float64
 		for j := range l {
 			lb += l[j] * b[j]
 			lg += ls[j] * g[j]
+			mag += math.Abs(l[j] * b[j])
 		}
-		testkit.CheckWithin(t, fmt.Sprintf("ic %d: l'b", ic), lg+off, lb, 0, 1e-15*1e6*math.Abs(b[p-1])*10)
+		testkit.CheckWithin(t, fmt.Sprintf("ic %d: l'b", ic), lg+off, lb, 0, 1e-14*mag)
 		// Covariance: a random SPD C on g.
 		A := mat.NewDense(p, p, nil)
 		for i := 0; i < p; i++ {
@@ -155,6 +162,30 @@ func TestRankRelativePerColumn(t *testing.T) {
 			if _, err := Fit(y, X, g, nil); !errors.Is(err, ErrRankDeficient) {
 				t.Errorf("column = %g (x + %g): error %v, want ErrRankDeficient", f, c, err)
 			}
+		}
+	}
+}
+
+// TestNonFiniteX: a NaN or infinite entry of X is an error naming its row
+// and column, never a fit.
+func TestNonFiniteX(t *testing.T) {
+	n := 12
+	y := make([]float64, n)
+	idx := make([]int, n)
+	for i := range y {
+		y[i] = float64(i%5) + 0.1*float64(i)
+		idx[i] = i % 4
+	}
+	for _, v := range []float64{math.NaN(), math.Inf(1), math.Inf(-1)} {
+		X := mat.NewDense(n, 2, nil)
+		for i := 0; i < n; i++ {
+			X.Set(i, 0, 1)
+			X.Set(i, 1, float64(i))
+		}
+		X.Set(7, 1, v)
+		_, err := Fit(y, X, []Grouping{{Name: "g", Index: idx, Levels: 4}}, nil)
+		if err == nil || err.Error() != "fitting mixed model: model matrix row 7, column 1 is not a finite number" {
+			t.Errorf("X[7][1] = %v: error %v", v, err)
 		}
 	}
 }

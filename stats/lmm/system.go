@@ -140,7 +140,7 @@ func newSystem(y []float64, X mat.Matrix, groups []Grouping, wts []float64) (*sy
 	}
 	s.cm = cm
 	y = s.cm.centredY(y)
-	getRow := s.cm.rowGetter(X)
+	getRow := s.cm.centredRows(X)
 	if err := s.crossXY(y, getRow, wts); err != nil {
 		return nil, err
 	}
@@ -173,6 +173,12 @@ func newSystem(y []float64, X mat.Matrix, groups []Grouping, wts []float64) (*sy
 				zr[c] += w * v
 			}
 			zr[p] += w * y[i]
+		}
+		// The sums of the scaled columns.
+		for a := 0; a < g.Levels; a++ {
+			for c := 0; c < p; c++ {
+				z[a*p1+c] /= s.cm.scale[c]
+			}
 		}
 		s.d[k] = d
 		s.zxy[k] = z
@@ -327,7 +333,8 @@ func rowGetter(X mat.Matrix) func(i int, dst []float64) {
 // crossXY computes [X y]'W[X y] as R'R from a Householder QR of
 // sqrt(w)[X y], taken in row blocks (tall-skinny QR, two goroutines), so
 // that the cross-product never comes from summing squares directly. X is
-// read through getRow (the centred, scaled columns).
+// read through getRow (the centred columns); the column scales are read
+// off the factor (colMap.setScales) and the factors scaled.
 func (s *system) crossXY(y []float64, getRow func(int, []float64), wts []float64) error {
 	n, p := s.n, s.p
 	p1 := p + 1
@@ -337,8 +344,10 @@ func (s *system) crossXY(y []float64, getRow func(int, []float64), wts []float64
 		}
 	}
 	R := tsqr(y, getRow, wts, n, p)
+	s.cm.setScales(R)
 	if wts != nil {
 		s.rx = tsqr(y, getRow, nil, n, p)
+		s.cm.scaleCols(s.rx)
 	} else {
 		s.rx = R
 	}
