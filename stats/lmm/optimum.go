@@ -30,8 +30,9 @@ const (
 // fitTheta minimises the profiled criterion and verifies the result: the
 // quasi-Newton search on the analytic gradient from the moment estimates
 // of startTheta, then verify; a point verify rejects with a way out (a
-// component at zero that is not a minimum) restarts the search from there,
-// at most maxRestarts times; failing all that, the derivative-free search
+// saddle: a component at zero that is not a minimum, or negative
+// curvature off the boundary) restarts the search from there, at most
+// maxRestarts times; failing all that, the derivative-free search
 // from the same start, verified in turn. The status is Success only for a
 // verified minimum; otherwise IterationLimit when a search used up maxIter
 // iterations, Failure when not, and theta is the best point found.
