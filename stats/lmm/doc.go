@@ -5,6 +5,19 @@
 // It takes a response, a full-rank model matrix and grouping factors; it
 // knows nothing of plans.
 //
+// # Centring and scaling
+//
+// As in stats/lm, the fit works on the fixed-effect columns centred by
+// their weighted means (the columns after a constant column, and the
+// response, when there is one) and scaled to unit weighted norm, so a
+// covariate with a large offset or in very small or large units costs no
+// digits and the rank decision is relative to each column's own norm.
+// Coefficients, their covariance, SEs, df, tests and contrasts are
+// reported for the columns as given: b = M g for the coefficients g of the
+// scaled columns X M, and l'b, L b are tested as (M'l)'g, (L M) g. Only
+// the REML criterion depends on the parametrisation of X (through
+// log|X'V^{-1}X|), and is reported for X as given.
+//
 // # Model and criterion
 //
 // y = X b + sum_k Z_k u_k + e, u_k ~ N(0, sigma^2 theta_k^2 I),
@@ -39,7 +52,25 @@
 // of a difference Hessian of the gradient, Levenberg shift, Armijo
 // backtracking, a step limit away from zero and a probe at zero for
 // boundary fits); the derivative-free Newton search on differences of the
-// criterion remains as fallback. Fits typically need 7-50 evaluations.
+// criterion remains as fallback. Both start from moment estimates of the
+// variance components (Henderson's 1953 Method 1 on the least-squares
+// residuals, from the per-level sums and cross counts), which for balanced
+// data are the REML estimates themselves.
+//
+// The result of a search is verified before it is reported as converged
+// (optimum.go): off the boundary the Newton decrement g'H^{-1}g/2, with a
+// fresh difference Hessian of the analytic gradient, must be below 1e-9
+// (criterion units) with H positive definite, and Newton steps polish the
+// point until it is; at a variance at zero the criterion is even in theta,
+// so its first derivative is zero whatever the data, and the check is on
+// tau = theta^2: the derivative into the feasible region and the curvature
+// there must not let the criterion fall by more than 1e-9. A saddle, at
+// the boundary or off it (negative curvature), restarts the search from a
+// perturbed point, at most three times, and the derivative-free search is
+// the last resort. Status is Success only for a verified minimum, else
+// Failure or IterationLimit (never a gonum status such as
+// FunctionConvergence that a caller could take for convergence). Fits
+// typically need 7-50 evaluations, the check included.
 //
 // # Inference
 //

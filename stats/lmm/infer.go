@@ -232,7 +232,8 @@ func (r *Result) DF(l []float64) float64 {
 	if len(l) != r.P {
 		panic(fmt.Sprintf("lmm: contrast has %d entries, model has %d coefficients", len(l), r.P))
 	}
-	return r.sat.df(l, r.cov)
+	ls, _ := r.sys.cm.contrast(l)
+	return r.sat.df(ls, r.covS)
 }
 
 // Theta returns the relative standard deviations SD_k/sigma in the caller's order.
@@ -265,9 +266,7 @@ func (v *KRView) Coefficients() []float64 { return v.r.Coefficients() }
 
 // CoefCov returns the Kenward-Roger adjusted covariance of the fixed effects.
 func (v *KRView) CoefCov() *mat.SymDense {
-	c := mat.NewSymDense(v.r.P, nil)
-	c.CopySym(v.kr.phiA)
-	return c
+	return v.r.sys.cm.cov(v.kr.phiA)
 }
 
 // DF returns the Kenward-Roger df of the contrast l'b.
@@ -275,7 +274,8 @@ func (v *KRView) DF(l []float64) float64 {
 	if len(l) != v.r.P {
 		panic(fmt.Sprintf("lmm: contrast has %d entries, model has %d coefficients", len(l), v.r.P))
 	}
-	t, err := v.kr.test(mat.NewDense(1, len(l), append([]float64(nil), l...)), v.r.beta)
+	ls, _ := v.r.sys.cm.contrast(l)
+	t, err := v.kr.test(mat.NewDense(1, len(ls), ls), v.r.gamma)
 	if err != nil {
 		return math.NaN()
 	}
@@ -283,13 +283,16 @@ func (v *KRView) DF(l []float64) float64 {
 }
 
 // Contrast returns the estimate, SE, df, t, p and interval of l'b with the
-// chosen df method (Kenward-Roger uses the adjusted covariance).
+// chosen df method (Kenward-Roger uses the adjusted covariance). All are
+// computed on the centred, scaled columns the fit works in, so a contrast
+// at a covariate value far from zero keeps its digits.
 func (r *Result) Contrast(l []float64, m Method) (Coef, error) {
 	if len(l) != r.P {
 		return Coef{}, fmt.Errorf("contrast has %d entries, model has %d coefficients", len(l), r.P)
 	}
-	lv := mat.NewVecDense(r.P, append([]float64(nil), l...))
-	c := Coef{Estimate: mat.Dot(lv, mat.NewVecDense(r.P, r.beta))}
+	ls, off := r.sys.cm.contrast(l)
+	lv := mat.NewVecDense(r.P, ls)
+	c := Coef{Estimate: mat.Dot(lv, mat.NewVecDense(r.P, r.gamma)) + off}
 	switch m {
 	case KenwardRoger:
 		v, err := r.KR()
@@ -297,10 +300,14 @@ func (r *Result) Contrast(l []float64, m Method) (Coef, error) {
 			return Coef{}, err
 		}
 		c.SE = math.Sqrt(mat.Inner(lv, v.kr.phiA, lv))
-		c.DF = v.DF(l)
+		t, err := v.kr.test(mat.NewDense(1, r.P, ls), r.gamma)
+		if err != nil {
+			return Coef{}, err
+		}
+		c.DF = t.DenDF
 	default:
-		c.SE = math.Sqrt(mat.Inner(lv, r.cov, lv))
-		c.DF = r.sat.df(l, r.cov)
+		c.SE = math.Sqrt(mat.Inner(lv, r.covS, lv))
+		c.DF = r.sat.df(ls, r.covS)
 	}
 	return fillT(c, r.level), nil
 }
@@ -321,7 +328,8 @@ type TermTest struct {
 // columns of term i. typ 3 tests the term's coefficients being zero, which
 // is the Type III hypothesis under sum-to-zero coding; typ 1 tests the terms
 // sequentially in column order (rows of the triangular factor of the
-// unweighted X'X, as in the sequential sums of squares of OLS).
+// unweighted X'X, as in the sequential sums of squares of OLS; taken of the
+// centred, scaled columns, which span the same sequence of spaces).
 func (r *Result) TermTests(terms [][]int, typ int, m Method) ([]TermTest, error) {
 	if typ != 1 && typ != 3 {
 		return nil, fmt.Errorf("term tests: type %d not supported (use 1 or 3)", typ)
@@ -345,7 +353,11 @@ func (r *Result) TermTests(terms [][]int, typ int, m Method) ([]TermTest, error)
 				}
 			}
 		}
-		t, err := r.FTest(L, m)
+		var Ls mat.Matrix = L
+		if typ == 3 {
+			Ls = r.sys.cm.hypothesis(L)
+		}
+		t, err := r.ftestScaled(Ls, m)
 		if err != nil {
 			return nil, fmt.Errorf("term tests: term %d: %w", ti, err)
 		}
@@ -360,23 +372,29 @@ func (r *Result) FTest(L mat.Matrix, m Method) (TermTest, error) {
 	if c != r.P {
 		return TermTest{}, fmt.Errorf("hypothesis has %d columns, model has %d coefficients", c, r.P)
 	}
+	return r.ftestScaled(r.sys.cm.hypothesis(L), m)
+}
+
+// ftestScaled tests Ls g = 0 on the coefficients g of the centred, scaled
+// columns.
+func (r *Result) ftestScaled(Ls mat.Matrix, m Method) (TermTest, error) {
 	if m == KenwardRoger {
 		kr, err := r.krInfo()
 		if err != nil {
 			return TermTest{}, err
 		}
-		return kr.test(L, r.beta)
+		return kr.test(Ls, r.gamma)
 	}
-	return r.satF(L)
+	return r.satF(Ls)
 }
 
 // satF is the multi-df Satterthwaite F test of Fai & Cornelius (1996): the
 // hypothesis is rotated to the eigenvectors of L C L', each 1-df piece gets
 // its own Satterthwaite df nu_m, and E = sum nu_m/(nu_m-2) gives the df
-// 2E/(E-q).
+// 2E/(E-q). L is on the centred, scaled columns.
 func (r *Result) satF(L mat.Matrix) (TermTest, error) {
 	var M mat.Dense
-	M.Product(L, r.cov, L.T())
+	M.Product(L, r.covS, L.T())
 	Ms := symPart(&M)
 	var es mat.EigenSym
 	if !es.Factorize(Ms, true) {
@@ -390,7 +408,7 @@ func (r *Result) satF(L mat.Matrix) (TermTest, error) {
 		maxv = math.Max(maxv, v)
 	}
 	var lb mat.VecDense
-	lb.MulVec(L, mat.NewVecDense(r.P, r.beta))
+	lb.MulVec(L, mat.NewVecDense(r.P, r.gamma))
 	var fsum float64
 	var nus []float64
 	for e, v := range vals {
@@ -402,7 +420,7 @@ func (r *Result) satF(L mat.Matrix) (TermTest, error) {
 		lr.MulVec(L.T(), pv)
 		z := mat.Dot(pv, &lb)
 		fsum += z * z / v
-		nus = append(nus, r.sat.df(lr.RawVector().Data, r.cov))
+		nus = append(nus, r.sat.df(lr.RawVector().Data, r.covS))
 	}
 	k := len(nus)
 	if k == 0 {

@@ -27,7 +27,7 @@ const maxDenseKR = 2500
 
 func (r *Result) krInfo() (*krInfo, error) {
 	r.krOnce.Do(func() {
-		r.kr, r.krErr = r.sys.kenwardRoger(r.theta, r.Sigma*r.Sigma, r.cov)
+		r.kr, r.krErr = r.sys.kenwardRoger(r.theta, r.Sigma*r.Sigma, r.covS)
 		if r.krErr != nil {
 			r.krErr = fmt.Errorf("kenward-roger: %w", r.krErr)
 		}

@@ -25,7 +25,7 @@ func TestKRBlockEqualsDense(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		kr, err := fit.sys.kenwardRogerWith(fit.theta, fit.Sigma*fit.Sigma, fit.cov, (*system).krDense)
+		kr, err := fit.sys.kenwardRogerWith(fit.theta, fit.Sigma*fit.Sigma, fit.covS, (*system).krDense)
 		if err != nil {
 			t.Fatal(err)
 		}

@@ -126,8 +126,12 @@ type Result struct {
 	LogLik, AIC, BIC float64
 	// Boundary is true when any variance component is at zero.
 	Boundary bool
-	// Status is the optimiser's termination status; Iterations and
-	// Evaluations count its major iterations and criterion evaluations.
+	// Status is Success when the optimum was verified (Newton decrement
+	// below 1e-9 with a positive definite Hessian off the boundary, and
+	// every variance at zero a minimum in the direction into the feasible
+	// region), else IterationLimit or Failure, and the fit must then not be
+	// used as converged. Iterations and Evaluations count the major
+	// iterations and criterion evaluations of all searches and checks.
 	Status                  optimize.Status
 	Iterations, Evaluations int
 	// BLUPs are the predicted random effects per grouping (caller's order), per level.
@@ -139,8 +143,13 @@ type Result struct {
 	// MarginalResid are y - X b.
 	MarginalResid []float64
 
+	// beta and cov are the coefficients of the caller's X and their
+	// covariance; gamma and covS those of the centred, scaled columns the
+	// fit works in (sys.cm), which every test and df is computed from.
 	beta  []float64
 	cov   *mat.SymDense
+	gamma []float64
+	covS  *mat.SymDense
 	level float64
 	names []string
 
@@ -154,8 +163,12 @@ type Result struct {
 }
 
 // Fit fits y = X b + sum_k Z_k u_k + e with independent random intercepts
-// for each grouping, by REML (default) or ML. X must have full column rank.
-// Inputs are not modified.
+// for each grouping, by REML (default) or ML. X must have full column rank:
+// a column is rank deficient when the part of it not explained by the
+// columns before it has at most 1e-10 of its own centred norm, whatever
+// its units. The fit works on centred, scaled columns (see colMap) and
+// reports everything for the columns of X as given. Inputs are not
+// modified.
 func Fit(y []float64, X mat.Matrix, groups []Grouping, opt *Options) (*Result, error) {
 	if opt == nil {
 		opt = &Options{}
@@ -177,28 +190,15 @@ func Fit(y []float64, X mat.Matrix, groups []Grouping, opt *Options) (*Result, e
 		return nil, fmt.Errorf("fitting mixed model: %w", ErrNoResidual)
 	}
 	crit := opt.Criterion
-	obj := func(th []float64) float64 {
-		e, err := sys.eval(th, nil)
-		if err != nil {
-			return math.Inf(1)
-		}
-		return sys.profiled(e, crit)
-	}
 	maxIter := opt.MaxIter
 	if maxIter <= 0 {
 		maxIter = 500
 	}
-	// Quasi-Newton on the analytic gradient; the derivative-free Newton
-	// search on differences of the criterion is the fallback.
-	theta, status, iters, evals, err := sys.minimizeAnalytic(crit, maxIter)
-	if err != nil || status != optimize.Success {
-		var ev0 int
-		if err == nil {
-			ev0 = evals
-		}
-		theta, status, iters, evals, err = minimize(obj, sys.nf, maxIter)
-		evals += ev0
-	}
+	// Quasi-Newton on the analytic gradient from moment estimates, the
+	// optimum verified (second-order conditions, boundary included); the
+	// derivative-free Newton search on differences of the criterion is the
+	// fallback.
+	theta, status, iters, evals, err := sys.fitTheta(crit, maxIter)
 	if err != nil {
 		return nil, fmt.Errorf("fitting mixed model: %w", err)
 	}
@@ -212,7 +212,7 @@ func Fit(y []float64, X mat.Matrix, groups []Grouping, opt *Options) (*Result, e
 	}
 	r.Status, r.Iterations, r.Evaluations = status, iters, evals
 	r.fillFitted(y, X, groups)
-	sat, err := sys.satterthwaiteAnalytic(theta, r.Sigma, crit, r.cov)
+	sat, err := sys.satterthwaiteAnalytic(theta, r.Sigma, crit, r.covS)
 	if err != nil {
 		sat, err = sys.satterthwaite(theta, r.Sigma, crit)
 	}
@@ -223,8 +223,11 @@ func Fit(y []float64, X mat.Matrix, groups []Grouping, opt *Options) (*Result, e
 	for j := range r.Coef {
 		l := make([]float64, sys.p)
 		l[j] = 1
-		c := r.Coef[j]
-		c.DF = sat.df(l, r.cov)
+		c, err := r.Contrast(l, Satterthwaite)
+		if err != nil {
+			return nil, fmt.Errorf("fitting mixed model: coefficient %d: %w", j, err)
+		}
+		c.Estimate = r.beta[j]
 		r.Coef[j] = fillT(c, level)
 	}
 	return r, nil
@@ -314,8 +317,10 @@ func (s *system) deviance(e evalOut, sigma float64, crit Criterion) float64 {
 // A damped Newton search on central-difference derivatives (gonum's BFGS
 // as fallback) is followed by Newton steps on a Richardson-extrapolated
 // gradient. The status is Success when the final gradient is at the noise
-// floor of the criterion, IterationLimit or Failure otherwise.
-func minimize(f func([]float64) float64, k, maxIter int) ([]float64, optimize.Status, int, int, error) {
+// floor of the criterion, IterationLimit or Failure otherwise. The search
+// starts at x0.
+func minimize(f func([]float64) float64, x0 []float64, maxIter int) ([]float64, optimize.Status, int, int, error) {
+	k := len(x0)
 	evals := 0
 	fc := func(x []float64) float64 { evals++; return f(x) }
 	grad := func(g, x []float64) {
@@ -329,10 +334,6 @@ func minimize(f func([]float64) float64, k, maxIter int) ([]float64, optimize.St
 			fm := fc(xx)
 			g[i] = (fp - fm) / (2 * h)
 		}
-	}
-	x0 := make([]float64, k)
-	for i := range x0 {
-		x0[i] = 1
 	}
 	if math.IsInf(fc(x0), 1) {
 		return nil, 0, 0, evals, errors.New("criterion is not finite at the starting values")
@@ -595,21 +596,19 @@ func (s *system) finish(theta []float64, crit Criterion, groups []Grouping, leve
 	}
 	sigma2 := e.r2 / df
 	sigma := math.Sqrt(sigma2)
-	beta := betaFrom(e, p)
-	cov := covBeta(e, p, sigma2)
-	if cov == nil {
+	gamma := betaFrom(e, p)
+	covS := covBeta(e, p, sigma2)
+	if covS == nil {
 		return nil, fmt.Errorf("%w: singular fixed-effect covariance", ErrAliased)
 	}
-	r := &Result{Criterion: crit, N: n, P: p, Sigma: sigma, Objective: obj, beta: beta, cov: cov,
-		level: level, sys: s, theta: theta}
+	beta := s.cm.coef(gamma)
+	r := &Result{Criterion: crit, N: n, P: p, Sigma: sigma, Objective: obj, beta: beta, cov: s.cm.cov(covS),
+		gamma: gamma, covS: covS, level: level, sys: s, theta: theta}
 	r.LogLik = -obj / 2
 	npar := float64(p + s.nf + 1)
 	r.AIC = obj + 2*npar
 	r.BIC = obj + math.Log(float64(n))*npar
 	r.Coef = make([]Coef, p)
-	for j := range r.Coef {
-		r.Coef[j] = Coef{Estimate: beta[j], SE: math.Sqrt(cov.At(j, j))}
-	}
 	// Components, caller order.
 	r.Components = make([]Component, len(groups)+1)
 	total := sigma2
@@ -626,7 +625,7 @@ func (s *system) finish(theta []float64, crit Criterion, groups []Grouping, leve
 	}
 	r.Components[len(groups)] = Component{Name: "residual", Variance: sigma2, SD: sigma, Share: sigma2 / total}
 	// BLUPs by back-substitution.
-	u, err := s.backsolve(theta, beta, wk)
+	u, err := s.backsolve(theta, gamma, wk)
 	if err != nil {
 		return nil, err
 	}
@@ -717,15 +716,22 @@ func (s *system) backsolve(theta, beta []float64, wk *work) ([][]float64, error)
 	return u, nil
 }
 
-// fillFitted computes fitted values and both kinds of residuals.
+// fillFitted computes fitted values and both kinds of residuals, from the
+// centred, scaled columns (a large offset of a covariate would otherwise
+// cancel between its term and the intercept).
 func (r *Result) fillFitted(y []float64, X mat.Matrix, groups []Grouping) {
 	row := make([]float64, r.P)
-	getRow := rowGetter(X)
+	cm := r.sys.cm
+	getRow := cm.centredRows(X)
+	gs := make([]float64, r.P) // coefficients of the centred columns
+	for j := range gs {
+		gs[j] = r.gamma[j] / cm.scale[j]
+	}
 	for i := range y {
 		getRow(i, row)
-		var xb float64
+		xb := cm.ybar
 		for j, v := range row {
-			xb += v * r.beta[j]
+			xb += v * gs[j]
 		}
 		zu := 0.0
 		for k, g := range groups {

@@ -102,13 +102,16 @@ func (ge *gradEvaluator) fwdHessian(x, g []float64) (*mat.SymDense, error) {
 // reduces the gradient. The criterion is even in each theta, so the search
 // is unconstrained and the absolute values are returned; a theta that goes
 // to zero is a boundary fit.
-func (s *system) minimizeAnalytic(crit Criterion, maxIter int) ([]float64, optimize.Status, int, int, error) {
+//
+// x0 is the starting point (sorted-factor order); nil means the moment
+// estimates of startTheta.
+func (s *system) minimizeAnalytic(crit Criterion, x0 []float64, maxIter int) ([]float64, optimize.Status, int, int, error) {
 	k := s.nf
 	ge := s.newGradEvaluator(crit)
-	x := make([]float64, k)
-	for i := range x {
-		x[i] = 1
+	if x0 == nil {
+		x0 = s.startTheta()
 	}
+	x := append([]float64(nil), x0...)
 	g := make([]float64, k)
 	f, _, err := ge.at(x, g, 0, false)
 	if err != nil {

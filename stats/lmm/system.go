@@ -28,13 +28,16 @@ import (
 // complement and is factored by Cholesky.
 type system struct {
 	n, p int
-	nf   int         // number of grouping factors
-	ord  []int       // ord[k] = index into the caller's groupings of sorted factor k
-	q    []int       // levels per sorted factor
-	d    [][]float64 // weighted count per level, per sorted factor
-	zxy  [][]float64 // per sorted factor: q_k x (p+1) row-major sums of w*[x y]
-	s    int         // chain length
-	par  [][]int     // par[j][a]: level of chain factor j+1 containing level a of chain factor j
+	// cm is the centring and scaling of X (and the centring of y) that
+	// every cross-product below is taken in (scale.go).
+	cm  *colMap
+	nf  int         // number of grouping factors
+	ord []int       // ord[k] = index into the caller's groupings of sorted factor k
+	q   []int       // levels per sorted factor
+	d   [][]float64 // weighted count per level, per sorted factor
+	zxy [][]float64 // per sorted factor: q_k x (p+1) row-major sums of w*[x y]
+	s   int         // chain length
+	par [][]int     // par[j][a]: level of chain factor j+1 containing level a of chain factor j
 
 	// Sparse coupling of chain levels to rest-factor levels (CSR per chain factor).
 	ptr [][]int     // row pointers
@@ -131,7 +134,14 @@ func newSystem(y []float64, X mat.Matrix, groups []Grouping, wts []float64) (*sy
 		}
 	}
 	s := &system{n: n, p: p, nf: len(groups)}
-	if err := s.crossXY(y, X, wts); err != nil {
+	cm, err := newColMap(y, X, wts)
+	if err != nil {
+		return nil, err
+	}
+	s.cm = cm
+	y = s.cm.centredY(y)
+	getRow := s.cm.centredRows(X)
+	if err := s.crossXY(y, getRow, wts); err != nil {
 		return nil, err
 	}
 	// Sort factors by number of levels, largest first (stable: ties keep caller order).
@@ -145,7 +155,6 @@ func newSystem(y []float64, X mat.Matrix, groups []Grouping, wts []float64) (*sy
 	s.zxy = make([][]float64, s.nf)
 	p1 := p + 1
 	row := make([]float64, p)
-	getRow := rowGetter(X)
 	for k, gi := range s.ord {
 		g := groups[gi]
 		s.q[k] = g.Levels
@@ -164,6 +173,12 @@ func newSystem(y []float64, X mat.Matrix, groups []Grouping, wts []float64) (*sy
 				zr[c] += w * v
 			}
 			zr[p] += w * y[i]
+		}
+		// The sums of the scaled columns.
+		for a := 0; a < g.Levels; a++ {
+			for c := 0; c < p; c++ {
+				z[a*p1+c] /= s.cm.scale[c]
+			}
 		}
 		s.d[k] = d
 		s.zxy[k] = z
@@ -299,10 +314,6 @@ func nestedIn(f, g Grouping) ([]int, bool) {
 	return par, true
 }
 
-func getRow(X mat.Matrix, i int, dst []float64) {
-	rowGetter(X)(i, dst)
-}
-
 // rowGetter returns a function copying row i of X into dst, reading the
 // backing array directly when X exposes one.
 func rowGetter(X mat.Matrix) func(i int, dst []float64) {
@@ -321,8 +332,10 @@ func rowGetter(X mat.Matrix) func(i int, dst []float64) {
 
 // crossXY computes [X y]'W[X y] as R'R from a Householder QR of
 // sqrt(w)[X y], taken in row blocks (tall-skinny QR, two goroutines), so
-// that the cross-product never comes from summing squares directly.
-func (s *system) crossXY(y []float64, X mat.Matrix, wts []float64) error {
+// that the cross-product never comes from summing squares directly. X is
+// read through getRow (the centred columns); the column scales are read
+// off the factor (colMap.setScales) and the factors scaled.
+func (s *system) crossXY(y []float64, getRow func(int, []float64), wts []float64) error {
 	n, p := s.n, s.p
 	p1 := p + 1
 	for i := 0; i < n; i++ {
@@ -330,9 +343,11 @@ func (s *system) crossXY(y []float64, X mat.Matrix, wts []float64) error {
 			s.sumLogW += math.Log(wts[i])
 		}
 	}
-	R := tsqr(y, X, wts, n, p)
+	R := tsqr(y, getRow, wts, n, p)
+	s.cm.setScales(R)
 	if wts != nil {
-		s.rx = tsqr(y, X, nil, n, p)
+		s.rx = tsqr(y, getRow, nil, n, p)
+		s.cm.scaleCols(s.rx)
 	} else {
 		s.rx = R
 	}
@@ -353,22 +368,28 @@ func (s *system) crossXY(y []float64, X mat.Matrix, wts []float64) error {
 			s.xtx[j*p1+i] = sum
 		}
 	}
-	// Rank of X from the diagonal of R (column norms as the scale).
-	maxd := 0.0
+	// Rank of X from the diagonal of R: the columns have unit weighted
+	// norm (colMap), so |R_jj| is the norm of the part of column j not
+	// explained by the columns before it relative to the column's own
+	// norm, whatever its units.
 	for j := 0; j < p; j++ {
-		maxd = math.Max(maxd, math.Abs(s.rxy[j*p1+j]))
-	}
-	for j := 0; j < p; j++ {
-		if math.Abs(s.rxy[j*p1+j]) <= 1e-10*maxd*math.Sqrt(float64(p)) || maxd == 0 {
+		if !(math.Abs(s.rxy[j*p1+j]) > rankTol) {
 			return fmt.Errorf("%w: column %d of X is a linear combination of the columns before it", ErrRankDeficient, j)
 		}
 	}
 	return nil
 }
 
+// rankTol is the relative rank tolerance of the fixed-effect columns, that
+// of stats/lm (lm.DefaultTol): a column is aliased when the part of it not
+// explained by the columns before it has at most rankTol times its own
+// (centred, weighted) norm.
+const rankTol = 1e-10
+
 // tsqr returns the (p+1)x(p+1) upper-triangular factor of a Householder QR
-// of sqrt(w)[X y], taken in row blocks over two goroutines (tall-skinny QR).
-func tsqr(y []float64, X mat.Matrix, wts []float64, n, p int) *mat.Dense {
+// of sqrt(w)[X y], taken in row blocks over two goroutines (tall-skinny QR);
+// getRow copies a row of X and must be safe for concurrent use.
+func tsqr(y []float64, getRow func(int, []float64), wts []float64, n, p int) *mat.Dense {
 	p1 := p + 1
 	const chunk = 4096
 	half := n / 2
@@ -387,7 +408,6 @@ func tsqr(y []float64, X mat.Matrix, wts []float64, n, p int) *mat.Dense {
 			defer wg.Done()
 			var R *mat.Dense
 			row := make([]float64, p)
-			getRow := rowGetter(X)
 			for start := lo; start < hi; start += chunk {
 				end := min(start+chunk, hi)
 				extra := 0
@@ -608,6 +628,8 @@ func (s *system) eval(theta []float64, keep *work) (evalOut, error) {
 			out.r2 = ljj * ljj
 		}
 	}
+	// log|X'V^{-1}X| of the caller's X, not of the scaled columns.
+	out.ldRX2 += s.cm.ldScale
 	out.lxx = make([]float64, p*p)
 	out.lxy = make([]float64, p)
 	for i := 0; i < p; i++ {
