@@ -166,12 +166,9 @@ func fitMixed(p *plan.Plan, ep *plan.Endpoint, s *plan.Step, ds *dataset) (*fitt
 
 // converged reports whether an optimiser status is a normal termination.
 func converged(st optimize.Status) bool {
-	switch st {
-	case optimize.Success, optimize.GradientThreshold, optimize.FunctionConvergence,
-		optimize.StepConvergence, optimize.FunctionThreshold:
-		return true
-	}
-	return false
+	// stats/lmm reports Success only at a verified minimum (it checks the
+	// gradient and, at a boundary, the second-order conditions).
+	return st == optimize.Success
 }
 
 // randomGroupings codes each random term as a grouping factor: the levels
