@@ -52,6 +52,15 @@ func TestDemoHashDoesNotDependOnFolders(t *testing.T) {
 	if first != second {
 		t.Errorf("the content hash depends on where the run directory or the checkout is: %s from the checkout, %s from a copy", first, second)
 	}
+	// And it is the hash the README prints for the demo (the hash names
+	// the build: a test binary and go run of the same tree agree).
+	readme, err := os.ReadFile(filepath.Join(root, "README.md"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if m := wroteAudit.FindSubmatch(readme); m == nil || string(m[1]) != first {
+		t.Errorf("README.md prints the demo's content hash as %q; the demo prints %s (update the README)", m, first)
+	}
 }
 
 var wroteAudit = regexp.MustCompile(`(?m)^wrote \S+/audit\.json (sha256:[0-9a-f]{64})$`)
