@@ -17,6 +17,8 @@ import (
 	"testing"
 	"time"
 
+	"furrow/checker/internal/fixture"
+
 	"furrow/checker/record"
 )
 
@@ -265,7 +267,7 @@ func sortedKeys[V any](m map[string]V) []string {
 func editEveryLeaf(t *testing.T, dir, name string, raw []byte, rehash bool, base int) (map[string]editOutcome, int) {
 	t.Helper()
 	var paths []string
-	walkLeaves("", decodeUseNumber(t, raw), func(p string, _ any, _ func(any)) {
+	fixture.WalkLeaves("", decodeUseNumber(t, raw), func(p string, _ any, _ func(any)) {
 		if !(rehash && p == "integrity.content_hash") {
 			paths = append(paths, p)
 		}
@@ -324,7 +326,7 @@ func editLeaf(t *testing.T, raw []byte, path string, rehash bool) ([]byte, bool)
 	for i := 0; ; i++ {
 		doc := decodeUseNumber(t, raw)
 		done := false
-		walkLeaves("", doc, func(p string, v any, set func(any)) {
+		fixture.WalkLeaves("", doc, func(p string, v any, set func(any)) {
 			if p != path || done {
 				return
 			}
@@ -433,37 +435,6 @@ func encodeRecord(t *testing.T, doc map[string]any) []byte {
 		t.Fatal(err)
 	}
 	return b.Bytes()
-}
-
-// walkLeaves calls fn for every leaf of a decoded JSON document with its
-// field path (as verify names fields) and a function that replaces it.
-func walkLeaves(path string, v any, fn func(path string, v any, set func(any))) {
-	switch x := v.(type) {
-	case map[string]any:
-		for _, k := range sortedKeys(x) {
-			p := k
-			if path != "" {
-				p = path + "." + k
-			}
-			if _, ok := x[k].(map[string]any); ok {
-				walkLeaves(p, x[k], fn)
-			} else if _, ok := x[k].([]any); ok {
-				walkLeaves(p, x[k], fn)
-			} else {
-				fn(p, x[k], func(n any) { x[k] = n })
-			}
-		}
-	case []any:
-		for i := range x {
-			p := fmt.Sprintf("%s[%d]", path, i)
-			switch x[i].(type) {
-			case map[string]any, []any:
-				walkLeaves(p, x[i], fn)
-			default:
-				fn(p, x[i], func(n any) { x[i] = n })
-			}
-		}
-	}
 }
 
 // copyTree copies the folder src to dst.

@@ -49,7 +49,7 @@ func TestRecordCopiesAreChecked(t *testing.T) {
 		t.Run(c.field, func(t *testing.T) {
 			doc := decodeRecord(t, raw)
 			n := 0
-			walkLeaves("", doc, func(p string, v any, set func(any)) {
+			fixture.WalkLeaves("", doc, func(p string, v any, set func(any)) {
 				if p == c.field {
 					set(c.set)
 					n++

@@ -7,7 +7,6 @@ import (
 	"math"
 	"math/rand/v2"
 	"path/filepath"
-	"sort"
 	"strings"
 	"testing"
 	"time"
@@ -75,7 +74,7 @@ func TestTinyResponseNegatedIsCaught(t *testing.T) {
 
 	doc := decodeRecord(t, raw)
 	var negated []string
-	walkLeaves("", doc, func(path string, v any, set func(any)) {
+	fixture.WalkLeaves("", doc, func(path string, v any, set func(any)) {
 		n, ok := v.(json.Number)
 		if !ok || !strings.HasSuffix(path, ".estimate") {
 			return
@@ -142,40 +141,4 @@ func reseal(t *testing.T, doc map[string]any) []byte {
 	}
 	doc["integrity"].(map[string]any)["content_hash"] = h
 	return enc()
-}
-
-// walkLeaves calls fn for every leaf of a decoded JSON document (numbers,
-// strings, booleans, nulls) with its field path and a function that
-// replaces it.
-func walkLeaves(path string, v any, fn func(path string, v any, set func(any))) {
-	switch x := v.(type) {
-	case map[string]any:
-		keys := make([]string, 0, len(x))
-		for k := range x {
-			keys = append(keys, k)
-		}
-		sort.Strings(keys)
-		for _, k := range keys {
-			p := k
-			if path != "" {
-				p = path + "." + k
-			}
-			switch x[k].(type) {
-			case map[string]any, []any:
-				walkLeaves(p, x[k], fn)
-			default:
-				fn(p, x[k], func(n any) { x[k] = n })
-			}
-		}
-	case []any:
-		for i := range x {
-			p := fmt.Sprintf("%s[%d]", path, i)
-			switch x[i].(type) {
-			case map[string]any, []any:
-				walkLeaves(p, x[i], fn)
-			default:
-				fn(p, x[i], func(n any) { x[i] = n })
-			}
-		}
-	}
 }
