@@ -39,6 +39,9 @@ type RegisterResult = record.RegisterResult
 // AuditFileName is the name of the record inside a run directory.
 const AuditFileName = record.AuditFileName
 
+// MaxKeySize is the largest key file furrow reads; see [record.MaxKeySize].
+const MaxKeySize = record.MaxKeySize
+
 // ErrNotRegistered is Run's error for a plan that does not match its
 // registration; see [engine.ErrNotRegistered].
 var ErrNotRegistered = engine.ErrNotRegistered

@@ -12,6 +12,7 @@ import (
 	"path/filepath"
 	"sort"
 
+	"furrow/plan"
 	"furrow/schema"
 )
 
@@ -217,9 +218,9 @@ func ReadRecord(path string) (*Result, []byte, error) {
 	if st, err := os.Stat(path); err == nil && st.IsDir() {
 		path = filepath.Join(path, AuditFileName)
 	}
-	raw, err := os.ReadFile(path)
+	raw, err := plan.ReadFile(path, MaxRecordSize)
 	if err != nil {
-		return nil, nil, fmt.Errorf("reading audit record: %w", err)
+		return nil, nil, fmt.Errorf("reading audit record %s: %w", path, err)
 	}
 	if err := ValidateRecord(raw); err != nil {
 		return nil, raw, err
@@ -243,6 +244,16 @@ func WriteRecord(dir string, r *Result, key ed25519.PrivateKey) error {
 	}
 	return WriteFileAtomic(filepath.Join(dir, AuditFileName), b, 0o644, false)
 }
+
+// Sizes above which the files furrow reads besides plans and data are
+// refused, and the reads are bounded, so that a named pipe or an endless
+// device given as one never blocks or fills memory (plan.ReadFile refuses
+// anything that is not a regular file).
+const (
+	MaxRecordSize       = 4 << 30  // an audit record (it holds the per-observation vectors)
+	MaxRegistrationSize = 16 << 20 // a registration record
+	MaxKeySize          = 64 << 10 // a key file
+)
 
 // SHA256Hex returns "sha256:<hex>" of b.
 func SHA256Hex(b []byte) string {

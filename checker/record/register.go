@@ -123,7 +123,7 @@ func (r *Registration) CheckChain() []ChainError {
 // does not check the chain (see CheckChain), so a broken record can still
 // be reported in detail.
 func ReadRegistration(path string) (*Registration, []byte, error) {
-	raw, err := os.ReadFile(path)
+	raw, err := plan.ReadFile(path, MaxRegistrationSize)
 	if err != nil {
 		return nil, nil, fmt.Errorf("reading registration: %w", err)
 	}

@@ -12,6 +12,8 @@ import (
 	"os"
 	"runtime"
 	"strings"
+
+	"furrow/plan"
 )
 
 // Key-file prefixes. A private key carries a different literal prefix so
@@ -64,9 +66,9 @@ func ReadPrivateKeyFile(path string) (ed25519.PrivateKey, error) {
 	if runtime.GOOS != "windows" && st.Mode().Perm()&0o077 != 0 {
 		return nil, &KeyModeError{Path: path, Mode: st.Mode().Perm()}
 	}
-	b, err := os.ReadFile(path)
+	b, err := plan.ReadFile(path, MaxKeySize)
 	if err != nil {
-		return nil, fmt.Errorf("reading private key: %w", err)
+		return nil, fmt.Errorf("reading private key %s: %w", path, err)
 	}
 	key, err := ParsePrivateKey(string(b))
 	if err != nil {

@@ -19,6 +19,7 @@ import (
 	"furrow/checker/engine"
 	"furrow/checker/record"
 	"furrow/checker/table"
+	"furrow/plan"
 )
 
 // DeviationCode is a stable code of a kind of deviation found by Verify.
@@ -205,9 +206,9 @@ func check(opt VerifyOptions) (*VerifyReport, error) {
 	if err := notScratch(dir); err != nil {
 		return nil, err
 	}
-	raw, err := os.ReadFile(recPath)
+	raw, err := plan.ReadFile(recPath, record.MaxRecordSize)
 	if err != nil {
-		return nil, fmt.Errorf("reading audit record: %w", err)
+		return nil, fmt.Errorf("reading audit record %s: %w", recPath, err)
 	}
 	rep := &VerifyReport{Record: filepath.ToSlash(recPath), Deviations: []Deviation{}}
 	add := func(code DeviationCode, field, rec, now, summary string) {

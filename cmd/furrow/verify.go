@@ -4,10 +4,11 @@ import (
 	"crypto/ed25519"
 	"errors"
 	"fmt"
-	"os"
 	"runtime"
 	"sort"
 	"strings"
+
+	"furrow/plan"
 
 	"furrow/checker"
 )
@@ -87,9 +88,9 @@ func runVerify(e *env, c *command, args []string) int {
 	}
 	var pub ed25519.PublicKey
 	if *keyPath != "" {
-		b, err := os.ReadFile(*keyPath)
+		b, err := plan.ReadFile(*keyPath, checker.MaxKeySize)
 		if err != nil {
-			return fail(e, c, err)
+			return fail(e, c, fmt.Errorf("reading public key %s: %w", e.rel(*keyPath), err))
 		}
 		if pub, err = checker.ParsePublicKey(string(b)); err != nil {
 			return fail(e, c, fmt.Errorf("%s: %w", e.rel(*keyPath), err))
