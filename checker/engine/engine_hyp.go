@@ -77,6 +77,7 @@ func hypothesis(p *plan.Plan, ep *plan.Endpoint, s *plan.Step, f *fitted, h *pla
 	if a := plan.AnswerOn(s, h); a.Omit != "" {
 		hr, _, _, _, _ := newHypothesisResult(p, s, h, epAlpha)
 		hr.Assessable, hr.AdjustUsed, hr.Estimator = false, "", ""
+		hr.Level, hr.Intervals = record.NaN, ""
 		hr.Note = fmt.Sprintf("not answered on step %s, as the plan declares: %s", s.ID, a.Omit)
 		return hr
 	}
