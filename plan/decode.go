@@ -58,6 +58,7 @@ func Parse(name string, src []byte, m Methods) (*Plan, Diagnostics, error) {
 		return nil, ds.Sort(), nil
 	}
 	ds = append(ds, bidiFindings(name, src, root)...)
+	ds = append(ds, underflowFindings(name, root)...)
 	if d, ok := checkFormat(name, root); !ok {
 		return nil, append(ds, d).Sort(), nil
 	}
@@ -285,4 +286,28 @@ func checkFormat(name string, doc *yaml.Node) (Diagnostic, bool) {
 			fmt.Sprintf("plan format %q is not supported; this furrow reads format %d", v.Value, FormatVersion)), false
 	}
 	return Diagnostic{}, true
+}
+
+// underflowFindings reports every number written in the plan that is not
+// zero but is too small for a double, so that it would be read as 0 (1e-400):
+// the plan would mean something other than what is written.
+func underflowFindings(name string, root *yaml.Node) Diagnostics {
+	var ds Diagnostics
+	var walk func(n *yaml.Node, depth int)
+	walk = func(n *yaml.Node, depth int) {
+		if n == nil || depth > 64 {
+			return
+		}
+		if n.Kind == yaml.ScalarNode && n.ShortTag() == "!!float" {
+			if f, err := strconv.ParseFloat(n.Value, 64); err == nil && f == 0 && strings.ContainsAny(strings.SplitN(strings.ToLower(n.Value), "e", 2)[0], "123456789") {
+				ds = append(ds, diagAt(name, n.Line, n.Column, "out-of-range",
+					fmt.Sprintf("the number %s is below the smallest double (about 4.9e-324) and would be read as 0; write 0, or a number a double can hold", n.Value)))
+			}
+		}
+		for _, c := range n.Content {
+			walk(c, depth+1)
+		}
+	}
+	walk(root, 0)
+	return ds
 }
