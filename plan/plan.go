@@ -329,6 +329,8 @@ const (
 	AdjustHolm       = "holm"
 	AdjustHochberg   = "hochberg"
 	AdjustBH         = "benjamini-hochberg"
+	AdjustSidak      = "sidak"      // single-step Šidák (1967)
+	AdjustHolmSidak  = "holm-sidak" // step-down Šidák
 	AdjustTukey      = "tukey"
 	AdjustDunnett    = "dunnett"
 )

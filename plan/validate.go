@@ -1031,7 +1031,7 @@ func countWord(n int) string {
 }
 
 // adjustments lists every multiplicity adjustment, in plan-language order.
-var adjustments = []string{AdjustNone, AdjustBonferroni, AdjustHolm, AdjustHochberg, AdjustBH, AdjustTukey, AdjustDunnett}
+var adjustments = []string{AdjustNone, AdjustBonferroni, AdjustSidak, AdjustHolm, AdjustHolmSidak, AdjustHochberg, AdjustBH, AdjustTukey, AdjustDunnett}
 
 // answers checks that every step of the endpoint answers every hypothesis
 // as declared, or declares how it does (or that it does not): the run

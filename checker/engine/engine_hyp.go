@@ -339,6 +339,10 @@ func adjustMethod(name string) multcomp.Method {
 		return multcomp.Hochberg
 	case plan.AdjustBH:
 		return multcomp.BH
+	case plan.AdjustSidak:
+		return multcomp.Sidak
+	case plan.AdjustHolmSidak:
+		return multcomp.HolmSidak
 	}
 	return multcomp.Method(name)
 }

@@ -121,3 +121,41 @@ func TestPlanWarningsInRecord(t *testing.T) {
 		t.Errorf("plan warnings %v", r.PlanWarnings)
 	}
 }
+
+// A declared Šidák adjustment is applied as declared: 1 - (1 - p)^m over
+// the family of m comparisons (Šidák 1967), written -expm1(m log1p(-p)) so
+// that small p keep their digits (stats/multcomp checks its Šidák against
+// R emmeans 1.8.4-1), and Holm-Šidák step-down.
+func TestSidakAdjustmentsAsDeclared(t *testing.T) {
+	for _, c := range []struct {
+		adjust string
+		want   func(ps []float64, i int) float64
+	}{
+		{"sidak", func(ps []float64, i int) float64 { return -math.Expm1(float64(len(ps)) * math.Log1p(-ps[i])) }},
+		{"holm-sidak", func(ps []float64, i int) float64 {
+			// Two comparisons: the smaller p gets m = 2, the larger m = 1,
+			// and the larger adjusted value is at least the smaller one.
+			lo, hi := min(ps[0], ps[1]), max(ps[0], ps[1])
+			a := -math.Expm1(2 * math.Log1p(-lo))
+			if ps[i] == lo {
+				return a
+			}
+			return max(a, hi)
+		}},
+	} {
+		t.Run(c.adjust, func(t *testing.T) {
+			pp := fixture.WriteCascade(t, "0.0000001", "0.0000001", "0.0000001")
+			rewritePlan(t, pp, [2]string{"        adjust: holm\n", "        adjust: " + c.adjust + "\n"})
+			fixture.Register(t, pp, fixture.T0)
+			r := run(t, pp, t.TempDir(), fixture.T0.Add(time.Hour))
+			h := r.Endpoints[0].Hypotheses[0]
+			if h.AdjustUsed != c.adjust || len(h.Comparisons) != 2 {
+				t.Fatalf("hypothesis %+v", h)
+			}
+			ps := []float64{float64(h.Comparisons[0].P), float64(h.Comparisons[1].P)}
+			for i, cm := range h.Comparisons {
+				testkit.CheckRelClose(t, cm.Label+" adjusted p", float64(cm.PAdjusted), c.want(ps, i), 1e-14)
+			}
+		})
+	}
+}

@@ -493,6 +493,10 @@ func adjustText(a string) string {
 		return ", Bonferroni-adjusted"
 	case plan.AdjustHolm:
 		return ", Holm-adjusted"
+	case plan.AdjustSidak:
+		return ", Šidák-adjusted (single-step)"
+	case plan.AdjustHolmSidak:
+		return ", Holm-Šidák-adjusted (step-down)"
 	case plan.AdjustHochberg:
 		return ", Hochberg-adjusted"
 	case plan.AdjustBH:
