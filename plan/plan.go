@@ -331,6 +331,7 @@ const (
 	AdjustBH         = "benjamini-hochberg"
 	AdjustSidak      = "sidak"      // single-step Šidák (1967)
 	AdjustHolmSidak  = "holm-sidak" // step-down Šidák
+	AdjustShaffer    = "shaffer"    // Shaffer's (1986) closed-test refinement of Holm for all pairs
 	AdjustTukey      = "tukey"
 	AdjustDunnett    = "dunnett"
 )

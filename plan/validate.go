@@ -842,15 +842,8 @@ func (v *validator) hypotheses(e *Endpoint, path string) {
 		if h.Better != "" && h.Kind != HypNonInferiority {
 			v.errf("better-not-kind", hp+".better", "better applies to non-inferiority hypotheses only")
 		}
-		switch h.Adjust {
-		case AdjustDunnett:
-			if h.Kind != HypVersusControl {
-				v.errf("adjust-kind", hp+".adjust", "dunnett adjusts comparisons with a control; use it with versus-control hypotheses only")
-			}
-		case AdjustTukey:
-			if h.Kind != HypPairwise {
-				v.errf("adjust-kind", hp+".adjust", "tukey adjusts all pairwise comparisons; use it with pairwise hypotheses only")
-			}
+		if msg := adjustKind(h.Adjust, h); msg != "" {
+			v.errf("adjust-kind", hp+".adjust", "%s", msg)
 		}
 		switch h.Kind {
 		case HypVersusControl:
@@ -1031,7 +1024,27 @@ func countWord(n int) string {
 }
 
 // adjustments lists every multiplicity adjustment, in plan-language order.
-var adjustments = []string{AdjustNone, AdjustBonferroni, AdjustSidak, AdjustHolm, AdjustHolmSidak, AdjustHochberg, AdjustBH, AdjustTukey, AdjustDunnett}
+var adjustments = []string{AdjustNone, AdjustBonferroni, AdjustSidak, AdjustHolm, AdjustHolmSidak, AdjustHochberg, AdjustBH, AdjustShaffer, AdjustTukey, AdjustDunnett}
+
+// adjustKind says why an adjustment does not suit a hypothesis ("" when
+// it does): dunnett is many-to-one, tukey and shaffer are for all pairs.
+func adjustKind(adj string, h *Hypothesis) string {
+	switch adj {
+	case AdjustDunnett:
+		if h.Kind != HypVersusControl {
+			return "dunnett adjusts comparisons with a control; use it with versus-control hypotheses only"
+		}
+	case AdjustTukey:
+		if h.Kind != HypPairwise {
+			return "tukey adjusts all pairwise comparisons; use it with pairwise hypotheses only"
+		}
+	case AdjustShaffer:
+		if h.Kind != HypPairwise || len(h.Pairs) > 0 {
+			return "shaffer refines the closed test of all pairwise comparisons of a factor's levels; use it with a pairwise hypothesis over all pairs (no pairs list)"
+		}
+	}
+	return ""
+}
 
 // answers checks that every step of the endpoint answers every hypothesis
 // as declared, or declares how it does (or that it does not): the run
@@ -1073,15 +1086,8 @@ func (v *validator) answers(e *Endpoint, path string) {
 			case h.Kind == HypTerm && a.Omit == "":
 				v.errf("answer-term", ap, "term hypothesis %q has no adjustment or estimator; a step can only omit it", h.ID)
 			}
-			switch a.Adjust {
-			case AdjustDunnett:
-				if h.Kind != HypVersusControl {
-					v.errf("adjust-kind", ap+".adjust", "dunnett adjusts comparisons with a control; use it with versus-control hypotheses only")
-				}
-			case AdjustTukey:
-				if h.Kind != HypPairwise {
-					v.errf("adjust-kind", ap+".adjust", "tukey adjusts all pairwise comparisons; use it with pairwise hypotheses only")
-				}
+			if msg := adjustKind(a.Adjust, h); msg != "" {
+				v.errf("adjust-kind", ap+".adjust", "%s", msg)
 			}
 		}
 		r, ok := v.m.Model(s.Model)
@@ -1152,7 +1158,8 @@ func validAnswers(s *Step, r ModelRules, h *Hypothesis, onlyOmit bool) string {
 	for _, a := range adjustments {
 		switch {
 		case a == AdjustDunnett && (h.Kind != HypVersusControl || !r.JointAdjust),
-			a == AdjustTukey && (h.Kind != HypPairwise || !r.JointAdjust):
+			a == AdjustTukey && (h.Kind != HypPairwise || !r.JointAdjust),
+			a == AdjustShaffer && adjustKind(a, h) != "":
 			continue
 		}
 		adj = append(adj, a)

@@ -318,6 +318,23 @@ func adjustP(ps []float64, method string) ([]float64, error) {
 		copy(out, ps)
 		return out, nil
 	}
+	if method == plan.AdjustShaffer {
+		// Shaffer (1986) needs the whole family of pairs of k levels, in
+		// stats/multcomp's AllPairs order, which the pairs are in.
+		k := 2
+		for k*(k-1)/2 < len(ps) {
+			k++
+		}
+		if len(vals) != len(ps) || k*(k-1)/2 != len(ps) {
+			return out, fmt.Errorf("shaffer needs every pairwise comparison of the levels, and %d of %d could be made", len(vals), len(ps))
+		}
+		r, err := multcomp.ShafferS2(vals, k)
+		if err != nil {
+			return out, err
+		}
+		copy(out, r.Adjusted)
+		return out, nil
+	}
 	adj, err := multcomp.Adjust(vals, adjustMethod(method))
 	if err != nil {
 		return out, err

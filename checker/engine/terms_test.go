@@ -3,6 +3,7 @@ package engine
 import (
 	"math"
 	"os"
+	"sort"
 	"strings"
 	"testing"
 	"time"
@@ -157,5 +158,43 @@ func TestSidakAdjustmentsAsDeclared(t *testing.T) {
 				testkit.CheckRelClose(t, cm.Label+" adjusted p", float64(cm.PAdjusted), c.want(ps, i), 1e-14)
 			}
 		})
+	}
+}
+
+// A declared Shaffer adjustment of all pairs is applied as declared. With
+// three levels (by hand from Shaffer 1986, JASA 81:826): once one pair
+// differs at most one of the other two hypotheses can be true, so the
+// smallest p is multiplied by 3 and the others by 1, made monotone.
+// (stats/multcomp checks its Shaffer S2 against R multcomp 1.4-22.)
+func TestShafferAdjustmentAsDeclared(t *testing.T) {
+	pp := fixture.WriteCascade(t, "0.0000001", "0.0000001", "0.0000001")
+	rewritePlan(t, pp, [2]string{"        kind: versus-control\n        adjust: holm\n", "        kind: pairwise\n        adjust: shaffer\n"})
+	fixture.Register(t, pp, fixture.T0)
+	r := run(t, pp, t.TempDir(), fixture.T0.Add(time.Hour))
+	h := r.Endpoints[0].Hypotheses[0]
+	if h.AdjustUsed != "shaffer" || len(h.Comparisons) != 3 {
+		t.Fatalf("hypothesis %+v", h)
+	}
+	var ps []float64
+	for _, c := range h.Comparisons {
+		ps = append(ps, float64(c.P))
+	}
+	order := []int{0, 1, 2}
+	sort.Slice(order, func(a, b int) bool { return ps[order[a]] < ps[order[b]] })
+	want := make([]float64, 3)
+	prev := 0.0
+	for r, i := range order {
+		m := 1.0
+		if r == 0 {
+			m = 3
+		}
+		prev = math.Min(1, math.Max(prev, m*ps[i]))
+		want[i] = prev
+	}
+	for i, c := range h.Comparisons {
+		testkit.CheckRelClose(t, c.Label+" adjusted p", float64(c.PAdjusted), want[i], 1e-15)
+		if float64(c.PAdjusted) < float64(c.P) {
+			t.Errorf("%s: adjusted p %v below the raw p %v", c.Label, c.PAdjusted, c.P)
+		}
 	}
 }

@@ -497,6 +497,8 @@ func adjustText(a string) string {
 		return ", Šidák-adjusted (single-step)"
 	case plan.AdjustHolmSidak:
 		return ", Holm-Šidák-adjusted (step-down)"
+	case plan.AdjustShaffer:
+		return ", Shaffer-adjusted (closed test of all pairs)"
 	case plan.AdjustHochberg:
 		return ", Hochberg-adjusted"
 	case plan.AdjustBH:
