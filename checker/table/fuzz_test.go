@@ -13,6 +13,7 @@ import (
 	"testing"
 
 	"furrow/checker/internal/fixture"
+	"furrow/plan"
 
 	"furrow/checker/contract"
 	"furrow/checker/table"
@@ -44,40 +45,8 @@ func FuzzReadCSV(f *testing.F) {
 			}
 			return
 		}
-		for _, d := range diags {
-			if d.Summary == "" || d.Code == "" {
-				t.Fatalf("empty finding %+v", d)
-			}
-		}
-		if tab == nil {
-			if !diags.HasErrors() {
-				t.Fatal("no table and no error finding")
-			}
+		if !checkTable(t, tab, diags) {
 			return
-		}
-		rows := tab.RowNumbers()
-		for i := range rows {
-			if rows[i] <= tab.HeaderRow || (i > 0 && rows[i] <= rows[i-1]) {
-				t.Fatalf("row numbers %v after header %d", rows, tab.HeaderRow)
-			}
-		}
-		for _, c := range tab.Columns() {
-			if len(c.Text) != len(rows) || len(c.Num) != len(rows) || len(c.Missing) != len(rows) {
-				t.Fatalf("column %q not rectangular", c.Name)
-			}
-			for i := range c.Text {
-				if c.Missing[i] && !math.IsNaN(c.Num[i]) {
-					t.Fatalf("missing cell %q has a number", c.Text[i])
-				}
-			}
-		}
-		all := make([]int, len(rows))
-		for i := range all {
-			all[i] = i
-		}
-		sub, err := tab.Subset(all)
-		if err != nil || sub.ContentHash() != tab.ContentHash() {
-			t.Fatalf("subset of all rows: %v", err)
 		}
 		contract.CheckData(p, tab) // must not panic
 	})
@@ -111,28 +80,53 @@ func FuzzReadXLSX(f *testing.F) {
 			}
 			return
 		}
-		for _, d := range diags {
-			if d.Summary == "" || d.Code == "" {
-				t.Fatalf("empty finding %+v", d)
-			}
-		}
-		if tab == nil {
-			if !diags.HasErrors() {
-				t.Fatal("no table and no error finding")
-			}
+		if !checkTable(t, tab, diags) {
 			return
-		}
-		rows := tab.RowNumbers()
-		for i := range rows {
-			if rows[i] <= tab.HeaderRow || (i > 0 && rows[i] <= rows[i-1]) {
-				t.Fatalf("row numbers %v after header %d", rows, tab.HeaderRow)
-			}
-		}
-		for _, c := range tab.Columns() {
-			if len(c.Text) != len(rows) || len(c.Num) != len(rows) || len(c.Missing) != len(rows) {
-				t.Fatalf("column %q not rectangular", c.Name)
-			}
 		}
 		contract.CheckData(p, tab) // must not panic
 	})
+}
+
+// checkTable fails unless every finding has a code and a summary and a
+// table, when there is one, has increasing row numbers after its header,
+// rectangular columns, no number in a missing cell, and the same content as
+// its subset of all rows. It reports whether there is a table to go on with.
+func checkTable(t *testing.T, tab *table.Table, diags plan.Diagnostics) bool {
+	t.Helper()
+	for _, d := range diags {
+		if d.Summary == "" || d.Code == "" {
+			t.Fatalf("empty finding %+v", d)
+		}
+	}
+	if tab == nil {
+		if !diags.HasErrors() {
+			t.Fatal("no table and no error finding")
+		}
+		return false
+	}
+	rows := tab.RowNumbers()
+	for i := range rows {
+		if rows[i] <= tab.HeaderRow || (i > 0 && rows[i] <= rows[i-1]) {
+			t.Fatalf("row numbers %v after header %d", rows, tab.HeaderRow)
+		}
+	}
+	for _, c := range tab.Columns() {
+		if len(c.Text) != len(rows) || len(c.Num) != len(rows) || len(c.Missing) != len(rows) {
+			t.Fatalf("column %q not rectangular", c.Name)
+		}
+		for i := range c.Text {
+			if c.Missing[i] && !math.IsNaN(c.Num[i]) {
+				t.Fatalf("missing cell %q has a number", c.Text[i])
+			}
+		}
+	}
+	all := make([]int, len(rows))
+	for i := range all {
+		all[i] = i
+	}
+	sub, err := tab.Subset(all)
+	if err != nil || sub.ContentHash() != tab.ContentHash() {
+		t.Fatalf("subset of all rows: %v", err)
+	}
+	return true
 }
