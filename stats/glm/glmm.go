@@ -83,6 +83,7 @@ type gprob struct {
 	rows   [][]int // rows per level of d
 	nagq   int
 	z, w   []float64
+	lc     []float64 // the log-likelihood constant per row (log y!, binomial coefficient)
 }
 
 // FitMixed fits a GLMM with random intercepts by the Laplace approximation
@@ -160,6 +161,13 @@ func FitMixed(x mat.Matrix, y []float64, fam Family, groups []RandomIntercept, o
 		}
 	}
 	pr.setup()
+	pr.lc = make([]float64, n)
+	for i := range pr.lc {
+		pr.lc[i] = lgamma1(y[i] + 1)
+		if fam == Binomial {
+			pr.lc[i] += lgamma1(pr.tr[i]-y[i]+1) - lgamma1(pr.tr[i]+1)
+		}
+	}
 	pr.nagq = 1
 	if opt.Points > 1 {
 		pr.nagq = opt.Points
@@ -235,7 +243,21 @@ func (pr *gprob) obs(i int, eta float64) (lp, s, w float64) {
 	}
 	v := pr.m.variance(mu, mu1m)
 	n := pr.tr[i]
-	lp = pr.m.logDensity(pr.y[i], n, mu, mu1m)
+	y := pr.y[i]
+	lp = -pr.lc[i]
+	if pr.m.fam == Poisson {
+		lp -= mu
+		if y > 0 {
+			lp += y * eta
+		}
+	} else {
+		if y > 0 {
+			lp += y * math.Log(mu)
+		}
+		if n > y {
+			lp += (n - y) * math.Log(mu1m)
+		}
+	}
 	s = (pr.y[i] - n*mu) * dmu / v
 	w = n * dmu * dmu / v
 	return
