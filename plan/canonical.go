@@ -45,6 +45,7 @@ type cPlan struct {
 	Design     cDesign      `json:"design"`
 	Exclusions []cExclusion `json:"exclusions"`
 	Endpoints  []cEndpoint  `json:"endpoints"`
+	Derived    []cDerived   `json:"derived,omitempty"`
 }
 
 type cTrial struct {
@@ -230,6 +231,7 @@ func canonicalPlan(p *Plan) cPlan {
 		c.Columns = append(c.Columns, cColumn{Name: col.Name, Role: col.Role, Label: col.Label, Unit: col.Unit,
 			Min: floatPtr(col.Min), Max: floatPtr(col.Max), Levels: strList(col.Levels), Control: col.Control})
 	}
+	c.Derived = canonicalDerived(p)
 	for _, e := range p.Exclusions {
 		c.Exclusions = append(c.Exclusions, cExclusion{ID: e.ID, Drop: e.Drop, When: e.When, Column: e.Column,
 			At: e.At, Units: strList(e.Units), Reason: e.Reason})

@@ -22,6 +22,9 @@ type Plan struct {
 	Design     Design
 	Exclusions []Exclusion
 	Endpoints  []Endpoint
+	// Derived are the variables computed from the columns by declared
+	// formulas (plan key "derived"; see derived.go).
+	Derived []Derived
 
 	// Pos is the position of the document root.
 	Pos Pos

@@ -43,6 +43,10 @@ func decode(file string, doc *yaml.Node) *Plan {
 			for i, e := range d.items(v, path) {
 				p.Exclusions = append(p.Exclusions, d.exclusion(e, index(path, i)))
 			}
+		case "derived":
+			for i, e := range d.items(v, path) {
+				p.Derived = append(p.Derived, d.derived(e, index(path, i)))
+			}
 		case "endpoints":
 			for i, e := range d.items(v, path) {
 				p.Endpoints = append(p.Endpoints, d.endpoint(e, index(path, i)))

@@ -30,6 +30,7 @@ func Validate(p *Plan, m Methods) Diagnostics {
 	v.design()
 	v.amendments()
 	v.exclusions()
+	v.derivedVars()
 	v.endpoints()
 	return v.ds.Sort()
 }

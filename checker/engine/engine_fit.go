@@ -33,6 +33,9 @@ func modelFitters() map[string]fitFunc {
 		method.Linear.Name: fitLinear,
 		method.Mixed.Name:  fitMixed,
 
+		// Count models (engine_glm.go).
+		method.Poisson.Name: fitPoisson,
+
 		// Rank and Welch steps (engine_rank.go).
 		method.Welch.Name:         fitWelch,
 		method.KruskalWallis.Name: fitKruskal,

@@ -132,7 +132,7 @@ func hypothesis(p *plan.Plan, ep *plan.Endpoint, s *plan.Step, f *fitted, h *pla
 	// The same comparisons as on a rank step; a missing control shows up
 	// below as a comparison whose level has no marginal mean.
 	pairs, pairNote := hypothesisPairs(p, h, factor, levels)
-	tr := s.Transform
+	tr := analysisScale(s) // a count step compares on its log link (engine_glm.go)
 	var ps []float64
 	counts := levelCounts(f.ds, factor)
 	ls := make([][]float64, 0, len(pairs)) // contrast vector per comparison (nil when a level is missing)

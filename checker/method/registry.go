@@ -4,5 +4,5 @@ package method
 // the order the plan schema lists them.
 var Default = NewRegistry(
 	[]*Check{ShapiroWilk, AndersonDarling, Levene, BrownForsythe, Bartlett, BreuschPagan},
-	[]*Model{Linear, Mixed, Welch, KruskalWallis, Friedman, SignedRank, RankSum, VanElteren},
+	[]*Model{Linear, Mixed, Poisson, Welch, KruskalWallis, Friedman, SignedRank, RankSum, VanElteren},
 )

@@ -54,6 +54,7 @@ func Explain(p *plan.Plan, hash string) *Document {
 		dataSection(p),
 		exclusionsSection(p),
 	)
+	d.Sections = append(d.Sections, derivedSection(p)...)
 	for i := range p.Endpoints {
 		d.Sections = append(d.Sections, analysisSection(p, &p.Endpoints[i]))
 	}

@@ -62,6 +62,7 @@ endpoints:
 var methodSteps = map[string]string{
 	"linear":         "model: linear\n        outcome: {derive: change, from: before, to: after}\n        fixed: [block, treatment]",
 	"mixed":          "model: mixed\n        fixed: [block, treatment, time, [treatment, time]]\n        random: [plot]",
+	"poisson":        "model: poisson\n        outcome: {derive: baseline, from: before, to: after}\n        fixed: [block, treatment]",
 	"welch":          "model: welch\n        outcome: {derive: change, from: before, to: after}\n        compare: treatment\n        answers: [{hypothesis: vs, adjust: holm}]",
 	"kruskal-wallis": "model: kruskal-wallis\n        outcome: {derive: change, from: before, to: after}\n        compare: treatment\n        answers: [{hypothesis: vs, adjust: holm, estimate: hodges-lehmann}]",
 	"friedman":       "model: friedman\n        outcome: {derive: change, from: before, to: after}\n        compare: treatment\n        within: block\n        answers: [{hypothesis: vs, adjust: holm, estimate: hodges-lehmann}]",
@@ -81,7 +82,7 @@ func methodsData() string {
 			base := 50 + 3*float64(k) + rng.NormFloat64()*4
 			for j, tm := range []string{"before", "after"} {
 				y := base + float64(j)*(5+4*float64(i)) + rng.NormFloat64()*2
-				fmt.Fprintf(&b, "B%d,P%d%d,%s,%s,%.2f\n", k, k, i, trt, tm, y)
+				fmt.Fprintf(&b, "B%d,P%d%d,%s,%s,%.0f\n", k, k, i, trt, tm, y)
 			}
 		}
 	}
