@@ -185,10 +185,10 @@ func TestEverySingleFieldEditIsCaught(t *testing.T) {
 	// plan file hash that disagrees with the plan file is plan-file-differs,
 	// a deviation (issue 11).
 	notRederivable := map[string]editOutcome{
-		"run_at":                  editMissed,
-		"tool.name":               editReported,
-		"tool.version":            editReported,
-		"tool.build":              editReported,
+		"run_at":       editMissed,
+		"tool.name":    editReported,
+		"tool.version": editReported,
+		"tool.build":   editReported,
 	}
 	for _, signed := range []bool{false, true} {
 		name, k := "unsigned", ed25519.PrivateKey(nil)
