@@ -39,6 +39,14 @@ const DefaultMaxDataSize = table.DefaultMaxSize
 // [table.SizeError].
 type SizeError = table.SizeError
 
+// UnpackRatioError is the error for a workbook part that unpacks to more
+// than the unpack ratio limit; see [table.UnpackRatioError].
+type UnpackRatioError = table.UnpackRatioError
+
+// DefaultMaxUnpackRatio is the unpack ratio limit on workbook parts when
+// DataOptions give none; see [table.DefaultMaxUnpackRatio].
+const DefaultMaxUnpackRatio = table.DefaultMaxUnpackRatio
+
 // OutsideError is the error for a plan's data.file outside the plan's
 // folder; see [table.OutsideError].
 type OutsideError = table.OutsideError

@@ -124,7 +124,12 @@ const (
 	DevDataNotDeclared    = verify.DevDataNotDeclared
 	DevPlanReformatted    = verify.DevPlanReformatted
 	DevAmendmentUnchecked = verify.DevAmendmentUnchecked
+	DevPlanFileDiffers    = verify.DevPlanFileDiffers
 )
+
+// UnsignedNotice is what verify says of an unsigned record; see
+// [verify.UnsignedNotice].
+const UnsignedNotice = verify.UnsignedNotice
 
 // Verify re-runs the analysis of a record and compares; see
 // [verify.Verify].

@@ -24,6 +24,10 @@ type Options struct {
 	// links) to a file outside the plan's folder. A data path given to
 	// ReadTableWith is read wherever it is.
 	AllowOutside bool
+	// MaxUnpackRatio is how many times its packed size a part of more
+	// than 10 MiB of an XLSX workbook may unpack to before it is refused
+	// as a zip bomb (0: DefaultMaxUnpackRatio).
+	MaxUnpackRatio int
 }
 
 func (o Options) maxSize() int64 {

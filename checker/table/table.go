@@ -366,6 +366,7 @@ func ReadTableWith(p *plan.Plan, dataPath string, o Options) (*Table, plan.Diagn
 		return nil, nil, fmt.Errorf("reading data %s: %w", name, err)
 	}
 	opts.maxSize = o.maxSize()
+	opts.ratio = o.unpackRatio()
 	sum := sha256.Sum256(data)
 	fileHash := "sha256:" + hex.EncodeToString(sum[:])
 	var (
@@ -404,6 +405,7 @@ type readOptions struct {
 	sheet   string
 	dataPos plan.Pos
 	maxSize int64 // Options.MaxSize (what an XLSX workbook may unpack to)
+	ratio   int64 // Options.MaxUnpackRatio, resolved
 }
 
 func newReadOptions(p *plan.Plan) (*readOptions, error) {

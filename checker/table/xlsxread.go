@@ -47,7 +47,7 @@ func readXLSX(name string, data []byte, o *readOptions) (*Table, plan.Diagnostic
 		}
 		return nil, nil, fmt.Errorf("reading data %s: the file is not an xlsx workbook", name)
 	}
-	w, err := openWorkbook(name, data, o.maxSize)
+	w, err := openWorkbook(name, data, o.maxSize, o.ratio)
 	if err != nil {
 		return nil, nil, err
 	}

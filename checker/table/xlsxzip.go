@@ -22,8 +22,9 @@ import (
 //   - each part read, and all of them together, unpack to at most the
 //     data size limit (Options.MaxSize), taken from the sizes the archive
 //     declares (archive/zip refuses a member that unpacks to more);
-//   - a part that unpacks to more than maxPackRatio times its packed size,
-//     once over packRatioFrom bytes, is refused as a zip bomb;
+//   - a part that unpacks to more than Options.MaxUnpackRatio times its
+//     packed size (DefaultMaxUnpackRatio), once over packRatioFrom bytes,
+//     is refused as a zip bomb (an *UnpackRatioError);
 //   - an XML part may not hold a text of more than maxTextRun bytes
 //     without markup (a cell holds at most 32767 characters), nor nest
 //     elements more than maxDepth deep;
@@ -32,10 +33,8 @@ import (
 //     one sheet, each streamed once.
 
 const (
-	// maxPackRatio and packRatioFrom bound how far a part may unpack: a
-	// sheet written by a spreadsheet program unpacks to 5 to 20 times its
-	// packed size; a zip bomb to a thousand times.
-	maxPackRatio  = 100
+	// packRatioFrom is the unpacked size of a part from which its unpack
+	// ratio is bounded (see DefaultMaxUnpackRatio).
 	packRatioFrom = 10 << 20
 	// maxTextRun is the longest text between two tags, and the longest
 	// cell text, read from an XML part.
@@ -58,6 +57,7 @@ type workbook struct {
 	name     string               // the data file, for messages
 	parts    map[string]*zip.File // by lower-case part name without a leading slash
 	limit    int64                // Options.MaxSize
+	ratio    int64                // Options.MaxUnpackRatio, resolved
 	unpacked int64                // declared unpacked size of the parts opened so far
 	path     string               // the workbook part
 	rels     map[string]rel       // the workbook's relationships by Id
@@ -77,12 +77,12 @@ func (w *workbook) damaged(format string, args ...any) error {
 
 // openWorkbook opens the archive and reads its workbook part: the sheets
 // and the date system.
-func openWorkbook(name string, data []byte, limit int64) (*workbook, error) {
+func openWorkbook(name string, data []byte, limit, ratio int64) (*workbook, error) {
 	zr, err := zip.NewReader(bytes.NewReader(data), int64(len(data)))
 	if err != nil {
 		return nil, fmt.Errorf("reading data %s: not a readable xlsx workbook: the zip archive is damaged (%v)", name, err)
 	}
-	w := &workbook{name: name, parts: make(map[string]*zip.File, len(zr.File)), limit: limit}
+	w := &workbook{name: name, parts: make(map[string]*zip.File, len(zr.File)), limit: limit, ratio: ratio}
 	for _, f := range zr.File {
 		key := strings.ToLower(strings.TrimPrefix(strings.ReplaceAll(f.Name, `\`, "/"), "/"))
 		if _, dup := w.parts[key]; !dup {
@@ -151,9 +151,8 @@ func (w *workbook) open(name string) (*partReader, error) {
 		}
 		return nil, &SizeError{Path: w.name, Part: f.Name, Size: w.unpacked + int64(size), Limit: w.limit, Together: true}
 	}
-	if size > packRatioFrom && size > maxPackRatio*max(f.CompressedSize64, 1) {
-		return nil, fmt.Errorf("reading data %s: the workbook part %s unpacks to %s from %s, more than %d times its packed size; that is a zip bomb, not a workbook a spreadsheet program writes (open it in one and save it again if it is yours)",
-			w.name, f.Name, plan.ByteSize(int64(size)), plan.ByteSize(int64(f.CompressedSize64)), maxPackRatio)
+	if size > packRatioFrom && (size-1)/uint64(w.ratio) >= max(f.CompressedSize64, 1) {
+		return nil, &UnpackRatioError{Path: w.name, Part: f.Name, Size: int64(min(size, 1<<62)), Packed: int64(min(f.CompressedSize64, 1<<62)), Limit: int(w.ratio)}
 	}
 	w.unpacked += int64(size)
 	rc, err := f.Open()

@@ -42,7 +42,9 @@ func TestRecordCopiesAreChecked(t *testing.T) {
 		{"inputs.registration.matches", DevRecordEdited, false},
 		{"inputs.registration.chain[0].reason", DevRecordEdited, "initial registration, later"},
 		{"inputs.registration.chain[0].registered_at", DevRecordEdited, "2026-02-01T09:00:00Z"},
-		{"inputs.plan_file_sha256", DevPlanReformatted, record.SHA256Hex([]byte("x"))},
+		// An unsigned record: the recorded plan file hash may be the edit
+		// itself, so it is a deviation, not a reformatting (issue 11).
+		{"inputs.plan_file_sha256", DevPlanFileDiffers, record.SHA256Hex([]byte("x"))},
 		{"tool.build", DevToolVersion, "b2"},
 		{"tool.name", DevToolVersion, "furrow2"},
 	} {

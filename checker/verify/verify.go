@@ -100,6 +100,9 @@ type VerifyOptions struct {
 	// MaxDataSize is the largest data file read, in bytes (0 =
 	// table.DefaultMaxSize).
 	MaxDataSize int64
+	// MaxUnpackRatio is the unpack ratio limit on workbook parts (0 =
+	// table.DefaultMaxUnpackRatio).
+	MaxUnpackRatio int
 }
 
 // MissingInputError is returned by Verify when the plan or the data file
@@ -313,7 +316,7 @@ func check(opt VerifyOptions) (*VerifyReport, error) {
 	}
 	// 4. Re-run and compare.
 	now, err := engine.Run(engine.RunOptions{PlanPath: planPath, DataPath: dataPath, OutDir: dir, Tool: rec.Tool,
-		Unregistered: true, Now: time.Time{}, Data: table.Options{MaxSize: opt.MaxDataSize}})
+		Unregistered: true, Now: time.Time{}, Data: table.Options{MaxSize: opt.MaxDataSize, MaxUnpackRatio: opt.MaxUnpackRatio}})
 	if err != nil {
 		add(DevResultsDiffer, "", "", "", "the analysis could not be re-run: "+err.Error())
 		return rep, nil
@@ -388,6 +391,13 @@ func check(opt VerifyOptions) (*VerifyReport, error) {
 		switch {
 		case d.Field == "inputs.data_file_sha256" || d.Field == "inputs.table_hash":
 			code = DevDataChanged
+		case d.Field == "inputs.plan_file_sha256" && !planChanged && !signedValid(rep.Signature):
+			// Unsigned (or a signature that does not hold): the recorded
+			// file hash may itself be the edit, so the file present is
+			// not shown to be the one that was run.
+			code = DevPlanFileDiffers
+			d.Summary = "the plan file present is not the file the record says was run (its SHA-256 differs), and the record is not signed, so nothing shows the difference is only comments or layout; give the plan file that was run with --plan"
+			d.Recorded, d.Now = rec.Inputs.PlanFileSHA256, now.Inputs.PlanFileSHA256
 		case d.Field == "inputs.plan_file_sha256" && !planChanged:
 			code = DevPlanReformatted
 			d.Summary = "the plan file's bytes are not the ones that were run, but the plan is the same plan: its canonical hash is unchanged (comments or layout only)"

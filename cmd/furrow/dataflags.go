@@ -15,6 +15,7 @@ import (
 const (
 	flagMaxDataSize      = "max-data-size"      // largest data file read
 	flagAllowOutsideData = "allow-outside-data" // the plan's data.file may lie outside its folder
+	flagMaxUnpackRatio   = "max-unpack-ratio"   // how far a workbook part may unpack
 )
 
 // maxDataSizeHelp and allowOutsideDataHelp document the two flags in
@@ -25,7 +26,11 @@ const (
                    largest data file read, and for a workbook the most
                    unpacked from it: bytes, or a number with kB, MB, GB
                    (powers of 1000) or KiB, MiB, GiB (powers of 1024);
-                   default 2GiB`
+                   default 2GiB
+  --max-unpack-ratio N
+                   how many times its packed size a workbook part of
+                   more than 10 MiB may unpack to before it is refused
+                   as a zip bomb; default 100`
 	allowOutsideDataHelp = `  --allow-outside-data
                    read the plan's data.file even when it lies (after
                    symbolic links) outside the plan's folder; without it
@@ -36,6 +41,7 @@ const (
 // dataFlags are the values of the data-reading flags of one command.
 type dataFlags struct {
 	maxSize      sizeValue
+	unpackRatio  *int
 	allowOutside *bool
 }
 
@@ -44,6 +50,7 @@ type dataFlags struct {
 func addDataFlags(fs *flag.FlagSet, outside bool) *dataFlags {
 	d := &dataFlags{maxSize: sizeValue(checker.DefaultMaxDataSize)}
 	fs.Var(&d.maxSize, flagMaxDataSize, "")
+	d.unpackRatio = fs.Int(flagMaxUnpackRatio, checker.DefaultMaxUnpackRatio, "")
 	if outside {
 		d.allowOutside = fs.Bool(flagAllowOutsideData, false, "")
 	}
@@ -53,6 +60,9 @@ func addDataFlags(fs *flag.FlagSet, outside bool) *dataFlags {
 // options returns the flags as the checker takes them.
 func (d *dataFlags) options() checker.DataOptions {
 	o := checker.DataOptions{MaxSize: int64(d.maxSize)}
+	if d.unpackRatio != nil && *d.unpackRatio > 0 {
+		o.MaxUnpackRatio = *d.unpackRatio
+	}
 	if d.allowOutside != nil {
 		o.AllowOutside = *d.allowOutside
 	}
@@ -107,7 +117,10 @@ func parseSize(text string) (int64, error) {
 func hint(err error) error {
 	var se *checker.SizeError
 	var oe *checker.OutsideError
+	var re *checker.UnpackRatioError
 	switch {
+	case errors.As(err, &re):
+		return fmt.Errorf("%w; if the workbook is yours, give --%s larger than %d (now %d) to read it", err, flagMaxUnpackRatio, re.Size/max(re.Packed, 1), re.Limit)
 	case errors.As(err, &se):
 		return fmt.Errorf("%w; give a larger --%s to read it", err, flagMaxDataSize)
 	case errors.As(err, &oe):

@@ -41,6 +41,7 @@ Deviation codes:
   step-not-declared                 the record holds a step the plan does not declare
   data-file-not-declared            the run analysed a file other than the plan's data.file (informational)
   plan-file-reformatted             the plan file's bytes differ, not the plan: comments or layout only (informational)
+  plan-file-differs                 an unsigned record names another plan file than the one present (same plan hash): the recorded file hash may be the edit
   amendment-time-unchecked          an unsigned record: an amendment's date cannot be checked against its unprotected run time (informational)
   tool-version-differs              another furrow version or build wrote the record (informational)
 
@@ -54,6 +55,9 @@ Flags:
                 unpacked from it: bytes, or a number with kB, MB, GB
                 (powers of 1000) or KiB, MiB, GiB (powers of 1024);
                 default 2GiB
+  --max-unpack-ratio N
+                how many times its packed size a workbook part of more
+                than 10 MiB may unpack to; default 100
 
 ` + verifyExitCodes
 
@@ -97,7 +101,7 @@ func runVerify(e *env, c *command, args []string) int {
 		}
 	}
 	rep, err := checker.Verify(checker.VerifyOptions{Dir: pos[0], PlanPath: *planPath, DataPath: *dataPath, PublicKey: pub,
-		Tool: checker.ToolInfo{Name: "furrow", Version: toolVersion(), Build: buildInfo()}, MaxDataSize: df.options().MaxSize})
+		Tool: checker.ToolInfo{Name: "furrow", Version: toolVersion(), Build: buildInfo()}, MaxDataSize: df.options().MaxSize, MaxUnpackRatio: df.options().MaxUnpackRatio})
 	var missing *checker.MissingInputError
 	if errors.As(err, &missing) {
 		fmt.Fprintf(e.stderr, "furrow verify: %s\n", missingText(e, missing, *planPath, *dataPath))
@@ -148,7 +152,7 @@ func writeSignature(e *env, dir string, s *checker.SignatureInfo) {
 	switch {
 	case s == nil:
 	case !s.Signed:
-		fmt.Fprintf(e.stdout, "%s: not signed: its content hash shows only that the record is consistent with itself (anyone can recompute it), not when the run was made (its run_at is outside the hash) nor by whom\n", e.rel(dir))
+		fmt.Fprintf(e.stdout, "%s: %s\n", e.rel(dir), checker.UnsignedNotice)
 	case s.Valid && s.KeyGiven:
 		fmt.Fprintf(e.stdout, "%s: signed by key %s (%s), the key given with --key\n", e.rel(dir), s.Key, s.Algorithm)
 	case s.Valid:
@@ -172,7 +176,7 @@ const maxShownPerCode = 6
 // invalidates the record first, informational last.
 var codeOrder = []checker.DeviationCode{
 	checker.DevRecordEdited, checker.DevReportEdited, checker.DevPlanChanged, checker.DevAmendmentAfterLock, checker.DevDataChanged,
-	checker.DevUnregisteredRun, checker.DevStepNotDeclared, checker.DevResultsDiffer, checker.DevDataNotDeclared, checker.DevPlanReformatted, checker.DevAmendmentUnchecked, checker.DevToolVersion,
+	checker.DevUnregisteredRun, checker.DevStepNotDeclared, checker.DevResultsDiffer, checker.DevPlanFileDiffers, checker.DevDataNotDeclared, checker.DevPlanReformatted, checker.DevAmendmentUnchecked, checker.DevToolVersion,
 }
 
 // fieldWeight orders differing fields so that decisions and verdicts come
