@@ -12,7 +12,7 @@ import (
 // A poisson step through a furrow plan against testdata/glm/ref.R
 // (R 4.2.2 glm poisson, drop1 LR tests with sum contrasts, emmeans 1.8.4-1
 // type = "response" rates and trt.vs.ctrl rate ratios, unadjusted), at
-// 1e-6 relative.
+// 1e-7 relative.
 func TestPoissonStepAgainstReference(t *testing.T) {
 	var ref struct {
 		Deviance                float64
@@ -81,7 +81,7 @@ endpoints:
 		t.Fatalf("status %s reported %q", ep.Status, ep.Reported)
 	}
 	res := ep.Steps[0].Results
-	const tol = 1e-6 // the task's tolerance; measured worst 2.8e-9 relative (the 3.9e-11 p-value of high vs control), the rest below 1e-9
+	const tol = 1e-7 // about 36 times the worst agreement measured: worst 2.8e-9 relative (the 3.9e-11 p-value of high vs control), the rest below 1e-9
 	an := res.Anova
 	if len(an) != 3 {
 		t.Fatalf("anova rows %+v", an)
